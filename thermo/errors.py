@@ -1,0 +1,28 @@
+"""The one exception type for bad user input."""
+
+from __future__ import annotations
+
+
+class InputError(ValueError):
+    """Bad input from a user: names the field, the value and what is allowed.
+
+    Parameters
+    ----------
+    field : str
+        Key path or option name, e.g. ``"feed.composition.CH4"`` or ``"--pressure"``.
+    value : object
+        What the user gave (shown with ``repr`` for strings).
+    allowed : str
+        What would be accepted, in words.
+
+    Examples
+    --------
+    >>> str(InputError("window.pressure.from", "-5 bar", "an absolute pressure above 0"))
+    "window.pressure.from = '-5 bar' is not allowed: expected an absolute pressure above 0"
+    """
+
+    def __init__(self, field: str, value: object, allowed: str):
+        self.field = field
+        self.value = value
+        self.allowed = allowed
+        super().__init__(f"{field} = {value!r} is not allowed: expected {allowed}")

@@ -1,0 +1,254 @@
+"""Species data: NASA 7-coefficient polynomials and the functions built on them.
+
+The data file ``thermo/data/species.toml`` holds, per species, the elemental formula, the
+temperature ranges and the coefficients exactly as printed in the source named by its
+``source`` key (GRI30 for the gases, TM4513 for graphite; see ``references.toml``). The
+loader converts nothing: the coefficients are dimensionless already.
+
+Every function is vectorized over temperature and refuses temperatures outside a species'
+range with :class:`TemperatureRangeError`. At exactly the middle temperature the low range is
+used.
+"""
+
+from __future__ import annotations
+
+import tomllib
+from dataclasses import dataclass
+from functools import cache
+from importlib import resources
+
+import numpy as np
+
+from thermo.constants import ATOMIC_WEIGHT, ELEMENTS, P_REF, R
+
+#: Gas species of the model, in the order of every species axis (DESIGN.md contract).
+GAS_SPECIES: tuple[str, ...] = ("CH4", "C2H6", "C3H8", "H2O", "H2", "CO", "CO2", "O2", "N2", "Ar")
+
+#: Name of the solid carbon (graphite) record.
+GRAPHITE = "C(gr)"
+
+
+class TemperatureRangeError(ValueError):
+    """A temperature lies outside the valid range of a species' polynomial."""
+
+
+@dataclass(frozen=True)
+class SpeciesRecord:
+    """One species of the data file.
+
+    Attributes
+    ----------
+    name : str
+        Formula as used in the project (``"CH4"``, ``"C(gr)"``).
+    phase : str
+        ``"gas"`` or ``"solid"``.
+    elements : dict[str, int]
+        Atoms per molecule.
+    source : str
+        Bibliography key of the coefficients.
+    t_low, t_mid, t_high : float
+        Range limits [K].
+    low, high : numpy.ndarray, shape (7,)
+        Coefficients a1..a7 of the low and high range [-].
+    density : float or None
+        Density of a solid [kg m-3]; None for gases.
+    """
+
+    name: str
+    phase: str
+    elements: dict[str, int]
+    source: str
+    t_low: float
+    t_mid: float
+    t_high: float
+    low: np.ndarray
+    high: np.ndarray
+    density: float | None = None
+
+    @property
+    def molar_mass(self) -> float:
+        """Molar mass [kg mol-1] from IUPAC2021 conventional atomic weights."""
+        return sum(ATOMIC_WEIGHT[e] * k for e, k in self.elements.items())
+
+    @property
+    def molar_volume(self) -> float:
+        """Molar volume of a solid [m3 mol-1]; raises for a gas."""
+        if self.density is None:
+            raise ValueError(f"{self.name} is a gas; it has no fixed molar volume")
+        return self.molar_mass / self.density
+
+    def _coeffs(self, T: np.ndarray) -> np.ndarray:
+        T = np.asarray(T, dtype=float)
+        bad = ~((T >= self.t_low) & (T <= self.t_high))
+        if np.any(bad):
+            worst = T[bad].flat[0] if T.ndim else float(T)
+            raise TemperatureRangeError(
+                f"temperature {worst:.6g} K is outside the data range of {self.name} "
+                f"({self.t_low:g} to {self.t_high:g} K, source {self.source})"
+            )
+        use_low = T <= self.t_mid
+        return np.where(use_low[..., None], self.low, self.high)
+
+
+def _load() -> tuple[dict[str, SpeciesRecord], float]:
+    text = resources.files("thermo").joinpath("data/species.toml").read_text(encoding="utf-8")
+    raw = tomllib.loads(text)
+    records = {}
+    for r in raw["species"]:
+        records[r["name"]] = SpeciesRecord(
+            name=r["name"],
+            phase=r["phase"],
+            elements=dict(r["elements"]),
+            source=r["source"],
+            t_low=float(r["t_low"]),
+            t_mid=float(r["t_mid"]),
+            t_high=float(r["t_high"]),
+            low=np.array(r["low"], dtype=float),
+            high=np.array(r["high"], dtype=float),
+            density=r.get("density_kg_per_m3"),
+        )
+    return records, float(raw["standard_pressure_Pa"])
+
+
+@cache
+def species_table() -> dict[str, SpeciesRecord]:
+    """All species records of ``thermo/data/species.toml`` keyed by name (GRI30, TM4513)."""
+    records, p_std = _load()
+    if p_std != P_REF:
+        raise ValueError(f"species data standard pressure {p_std} Pa differs from P_REF {P_REF}")
+    missing = set(GAS_SPECIES + (GRAPHITE,)) - set(records)
+    if missing:
+        raise ValueError(f"species data lacks {sorted(missing)}")
+    return records
+
+
+def record(name: str) -> SpeciesRecord:
+    """The record of one species; a clear error for an unknown name."""
+    table = species_table()
+    if name not in table:
+        raise KeyError(f"unknown species {name!r}; known: {', '.join(table)}")
+    return table[name]
+
+
+def cp_R(T, name: str) -> np.ndarray:
+    r"""Dimensionless heat capacity cp/R of one species.
+
+    Parameters
+    ----------
+    T : array_like
+        Temperature [K], inside the species' range.
+    name : str
+        Species name.
+
+    Returns
+    -------
+    numpy.ndarray
+        cp/R [-].
+
+    Notes
+    -----
+    .. math:: c_p/R = a_1 + a_2 T + a_3 T^2 + a_4 T^3 + a_5 T^4
+
+    Examples
+    --------
+    CO2 at 1000 K; NIST-JANAF (Chase 1998), CO2 table, gives cp = 54.308 J/(mol K):
+
+    >>> round(float(cp_R(1000.0, "CO2") * 8.314462618), 1)
+    54.3
+    """
+    T = np.asarray(T, dtype=float)
+    a = record(name)._coeffs(T)
+    return a[..., 0] + T * (a[..., 1] + T * (a[..., 2] + T * (a[..., 3] + T * a[..., 4])))
+
+
+def h_RT(T, name: str) -> np.ndarray:
+    r"""Dimensionless enthalpy h/(RT), formation enthalpy included.
+
+    Notes
+    -----
+    .. math:: h/(RT) = a_1 + a_2 T/2 + a_3 T^2/3 + a_4 T^3/4 + a_5 T^4/5 + a_6/T
+
+    Examples
+    --------
+    Formation enthalpy of CO2 at 298.15 K; NIST-JANAF (Chase 1998) gives -393.522 kJ/mol (GRI30 fit: -393.51):
+
+    >>> round(float(h_RT(298.15, "CO2") * 8.314462618 * 298.15 / 1000), 1)
+    -393.5
+    """
+    T = np.asarray(T, dtype=float)
+    a = record(name)._coeffs(T)
+    return (
+        a[..., 0]
+        + T * (a[..., 1] / 2 + T * (a[..., 2] / 3 + T * (a[..., 3] / 4 + T * a[..., 4] / 5)))
+        + a[..., 5] / T
+    )
+
+
+def s_R(T, name: str) -> np.ndarray:
+    r"""Dimensionless standard entropy s°/R at the data's standard pressure (1 atm).
+
+    Notes
+    -----
+    .. math:: s/R = a_1 \ln T + a_2 T + a_3 T^2/2 + a_4 T^3/3 + a_5 T^4/4 + a_7
+    """
+    T = np.asarray(T, dtype=float)
+    a = record(name)._coeffs(T)
+    return (
+        a[..., 0] * np.log(T)
+        + T * (a[..., 1] + T * (a[..., 2] / 2 + T * (a[..., 3] / 3 + T * a[..., 4] / 4)))
+        + a[..., 6]
+    )
+
+
+def g_RT(T, name: str) -> np.ndarray:
+    """Dimensionless standard Gibbs energy g°/(RT) = h/(RT) - s°/R at 1 atm [-]."""
+    return h_RT(T, name) - s_R(T, name)
+
+
+def molar_mass(name: str) -> float:
+    """Molar mass of a species [kg mol-1] (IUPAC2021 atomic weights)."""
+    return record(name).molar_mass
+
+
+@cache
+def formula_matrix() -> np.ndarray:
+    """Atoms of each element (ELEMENTS order) per molecule of each gas species, shape (S, E)."""
+    A = np.zeros((len(GAS_SPECIES), len(ELEMENTS)))
+    for j, name in enumerate(GAS_SPECIES):
+        for e, k in record(name).elements.items():
+            A[j, ELEMENTS.index(e)] = k
+    A.setflags(write=False)
+    return A
+
+
+@cache
+def molar_masses() -> np.ndarray:
+    """Molar masses of the gas species in GAS_SPECIES order [kg mol-1]."""
+    out = np.array([molar_mass(n) for n in GAS_SPECIES])
+    out.setflags(write=False)
+    return out
+
+
+def gas_table(T, what: str = "g_RT") -> np.ndarray:
+    """One NASA function of every gas species at once, shape (S,) + shape(T).
+
+    Parameters
+    ----------
+    T : array_like
+        Temperature [K].
+    what : {"g_RT", "h_RT", "s_R", "cp_R"}
+        Which function.
+    """
+    fn = {"g_RT": g_RT, "h_RT": h_RT, "s_R": s_R, "cp_R": cp_R}[what]
+    return np.stack([fn(T, n) for n in GAS_SPECIES])
+
+
+def graphite_mu_RT(T, P) -> np.ndarray:
+    """Chemical potential of pure graphite over RT at T, P [-].
+
+    Includes the solid's pressure term (P - P_REF) v / (R T) with v from the TM4513 density;
+    about 0.0026 at 40 bar and 1000 K.
+    """
+    T = np.asarray(T, dtype=float)
+    v = record(GRAPHITE).molar_volume
+    return g_RT(T, GRAPHITE) + (np.asarray(P, dtype=float) - P_REF) * v / (R * T)
