@@ -1,5 +1,27 @@
-"""Equilibrium core of the reformer operating-window explorer (no UI imports)."""
+"""Equilibrium core of the reformer operating-window explorer (no UI imports).
+
+Public API::
+
+    import thermo
+    sc = thermo.load_scenario()                     # the demo scenario, or a path
+    pt = thermo.point(sc, temperature="850 degC", pressure="25 bar", steam_to_carbon=3.0)
+    pt.to_dict()
+"""
 
 from __future__ import annotations
 
 __version__ = "0.1.0"
+
+from thermo.api import PointResult, point
+from thermo.errors import InputError
+from thermo.scenario import Scenario, load_scenario, parse_scenario
+
+__all__ = [
+    "InputError",
+    "PointResult",
+    "Scenario",
+    "__version__",
+    "load_scenario",
+    "parse_scenario",
+    "point",
+]

@@ -8,8 +8,10 @@ from __future__ import annotations
 #: Molar gas constant [J mol-1 K-1] (CODATA2018, exact).
 R = 8.314462618
 
-#: Standard-state pressure of the species data [Pa] (GRI30 and TM4513 as distributed: 1 atm).
-P_REF = 101325.0
+#: The project's standard-state pressure [Pa]: 1 bar, as NIST-JANAF (JANAF1998) and IUPAC.
+#: Every species record is moved to it by the loader (see thermo/data/species.toml); every
+#: K and g/RT the core reports is on this basis.
+P_REF = 1e5
 
 #: Reference temperature for standard heats [K].
 T_REF = 298.15

@@ -12,6 +12,7 @@ used.
 
 from __future__ import annotations
 
+import math
 import tomllib
 from dataclasses import dataclass
 from functools import cache
@@ -52,6 +53,10 @@ class SpeciesRecord:
         Coefficients a1..a7 of the low and high range [-].
     density : float or None
         Density of a solid [kg m-3]; None for gases.
+    standard_pressure : float
+        Standard-state pressure the source's coefficients refer to [Pa].
+    origin : str
+        Origin tag of the record in its source (GRI-Mech date field), "" if none.
     """
 
     name: str
@@ -64,6 +69,18 @@ class SpeciesRecord:
     low: np.ndarray
     high: np.ndarray
     density: float | None = None
+    standard_pressure: float = P_REF
+    origin: str = ""
+
+    @property
+    def s_shift(self) -> float:
+        """Entropy change s/R from the record's standard pressure to P_REF [-].
+
+        Zero for a solid (its pressure dependence is the v dP term, see graphite_mu_RT).
+        """
+        if self.phase != "gas":
+            return 0.0
+        return -math.log(P_REF / self.standard_pressure)
 
     @property
     def molar_mass(self) -> float:
@@ -90,7 +107,7 @@ class SpeciesRecord:
         return np.where(use_low[..., None], self.low, self.high)
 
 
-def _load() -> tuple[dict[str, SpeciesRecord], float]:
+def _load() -> dict[str, SpeciesRecord]:
     text = resources.files("thermo").joinpath("data/species.toml").read_text(encoding="utf-8")
     raw = tomllib.loads(text)
     records = {}
@@ -106,16 +123,20 @@ def _load() -> tuple[dict[str, SpeciesRecord], float]:
             low=np.array(r["low"], dtype=float),
             high=np.array(r["high"], dtype=float),
             density=r.get("density_kg_per_m3"),
+            standard_pressure=float(r["standard_pressure_Pa"]),
+            origin=r.get("origin", ""),
         )
-    return records, float(raw["standard_pressure_Pa"])
+    return records
 
 
 @cache
 def species_table() -> dict[str, SpeciesRecord]:
-    """All species records of ``thermo/data/species.toml`` keyed by name (GRI30, TM4513)."""
-    records, p_std = _load()
-    if p_std != P_REF:
-        raise ValueError(f"species data standard pressure {p_std} Pa differs from P_REF {P_REF}")
+    """All species records of ``thermo/data/species.toml`` keyed by name (GRI30, TM4513).
+
+    Coefficients are kept as printed; :func:`s_R` and :func:`g_RT` add each record's
+    :attr:`SpeciesRecord.s_shift` so that every value is on the 1 bar standard state.
+    """
+    records = _load()
     missing = set(GAS_SPECIES + (GRAPHITE,)) - set(records)
     if missing:
         raise ValueError(f"species data lacks {sorted(missing)}")
@@ -170,7 +191,8 @@ def h_RT(T, name: str) -> np.ndarray:
 
     Examples
     --------
-    Formation enthalpy of CO2 at 298.15 K; NIST-JANAF (Chase 1998) gives -393.522 kJ/mol (GRI30 fit: -393.51):
+    Formation enthalpy of CO2 at 298.15 K; NIST-JANAF (Chase 1998) gives -393.522 kJ/mol
+    (the GRI30 fit: -393.51):
 
     >>> round(float(h_RT(298.15, "CO2") * 8.314462618 * 298.15 / 1000), 1)
     -393.5
@@ -185,23 +207,33 @@ def h_RT(T, name: str) -> np.ndarray:
 
 
 def s_R(T, name: str) -> np.ndarray:
-    r"""Dimensionless standard entropy s°/R at the data's standard pressure (1 atm).
+    r"""Dimensionless standard entropy s°/R at the project's standard pressure P_REF (1 bar).
 
     Notes
     -----
     .. math:: s/R = a_1 \ln T + a_2 T + a_3 T^2/2 + a_4 T^3/3 + a_5 T^4/4 + a_7
+              - \ln(P_{REF}/P^\circ_{record})
+
+    Examples
+    --------
+    CO2 at 298.15 K; NIST-JANAF (Chase 1998), 1 bar, gives 213.795 J/(mol K):
+
+    >>> round(float(s_R(298.15, "CO2") * 8.314462618), 2)
+    213.79
     """
     T = np.asarray(T, dtype=float)
-    a = record(name)._coeffs(T)
+    rec = record(name)
+    a = rec._coeffs(T)
     return (
         a[..., 0] * np.log(T)
         + T * (a[..., 1] + T * (a[..., 2] / 2 + T * (a[..., 3] / 3 + T * a[..., 4] / 4)))
         + a[..., 6]
+        + rec.s_shift
     )
 
 
 def g_RT(T, name: str) -> np.ndarray:
-    """Dimensionless standard Gibbs energy g°/(RT) = h/(RT) - s°/R at 1 atm [-]."""
+    """Dimensionless standard Gibbs energy g°/(RT) = h/(RT) - s°/R at P_REF (1 bar) [-]."""
     return h_RT(T, name) - s_R(T, name)
 
 
@@ -246,9 +278,10 @@ def gas_table(T, what: str = "g_RT") -> np.ndarray:
 def graphite_mu_RT(T, P) -> np.ndarray:
     """Chemical potential of pure graphite over RT at T, P [-].
 
-    Includes the solid's pressure term (P - P_REF) v / (R T) with v from the TM4513 density;
-    about 0.0026 at 40 bar and 1000 K.
+    Includes the solid's pressure term (P - P°) v / (R T) with v from the TM4513 density and
+    P° = 1 bar; about 0.0026 at 40 bar and 1000 K.
     """
     T = np.asarray(T, dtype=float)
     v = record(GRAPHITE).molar_volume
-    return g_RT(T, GRAPHITE) + (np.asarray(P, dtype=float) - P_REF) * v / (R * T)
+    rec = record(GRAPHITE)
+    return g_RT(T, GRAPHITE) + (np.asarray(P, dtype=float) - rec.standard_pressure) * v / (R * T)

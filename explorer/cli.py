@@ -1,0 +1,133 @@
+"""Command line: ``explorer point | grid | serve | export``.
+
+User errors print one line to stderr and exit with status 2; no traceback.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+
+from thermo.errors import InputError
+
+EXIT_USER_ERROR = 2
+
+
+class _Parser(argparse.ArgumentParser):
+    """argparse that reports a usage error as one line and exit status 2."""
+
+    def error(self, message: str):  # noqa: D102 - argparse hook
+        raise InputError("command line", " ".join(sys.argv[1:]), message)
+
+
+def _kernel_notice() -> None:
+    """Tell the user when the equilibrium kernel is about to be compiled (first use only)."""
+    from thermo.equilibrium import kernel_is_cached
+
+    if not kernel_is_cached():
+        print(
+            "explorer: building the equilibrium kernel for this machine (first run only, "
+            "about 20-40 s; it is cached afterwards) ...",
+            file=sys.stderr,
+            flush=True,
+        )
+
+
+def _cmd_point(args: argparse.Namespace) -> int:
+    import thermo
+    from explorer.report import point_report
+
+    sc = thermo.load_scenario(args.scenario)
+    _kernel_notice()
+    pt = thermo.point(
+        sc,
+        temperature=args.temperature,
+        pressure=args.pressure,
+        steam_to_carbon=args.steam_to_carbon,
+        feed=args.feed,
+        oxygen_to_carbon=args.oxygen_to_carbon,
+        co2_to_carbon=args.co2_to_carbon,
+        inlet_temperature=args.inlet_temperature,
+        approach=args.approach,
+        adiabatic=args.adiabatic,
+    )
+    if args.json:
+        print(json.dumps(pt.to_dict(), indent=2, allow_nan=False))
+    else:
+        print(point_report(pt))
+    return 0
+
+
+def _ratio_arg(name: str):
+    def parse(text: str) -> float:
+        try:
+            return float(text)
+        except ValueError:
+            allowed = "a plain number (mol per mol hydrocarbon carbon)"
+            raise InputError(name, text, allowed) from None
+
+    return parse
+
+
+def build_parser() -> argparse.ArgumentParser:
+    """The ``explorer`` argument parser."""
+    p = _Parser(
+        prog="explorer",
+        description="Operating-window explorer for steam reformers: equilibrium outlet, "
+        "carbon limit and balances over temperature, pressure and steam-to-carbon.",
+    )
+    sub = p.add_subparsers(dest="command", required=True, parser_class=_Parser)
+
+    pt = sub.add_parser("point", help="equilibrium outlet and full balance at one point")
+    pt.add_argument("scenario", nargs="?", default=None,
+                    help="scenario TOML file (default: the shipped demo)")
+    pt.add_argument("--temperature", help='outlet temperature, e.g. "850 degC"')
+    pt.add_argument("--pressure", help='outlet pressure, e.g. "25 bar" or "24 barg"')
+    pt.add_argument("--steam-to-carbon", type=_ratio_arg("--steam-to-carbon"),
+                    help="mol H2O per mol hydrocarbon carbon")
+    pt.add_argument("--feed", help='dry feed mole fractions, e.g. "CH4=0.95,C2H6=0.03,N2=0.02"')
+    pt.add_argument("--oxygen-to-carbon", type=_ratio_arg("--oxygen-to-carbon"),
+                    help="mol O2 per mol hydrocarbon carbon")
+    pt.add_argument("--co2-to-carbon", type=_ratio_arg("--co2-to-carbon"),
+                    help="mol CO2 co-fed per mol hydrocarbon carbon")
+    pt.add_argument("--inlet-temperature", help='mixed-feed temperature, e.g. "540 degC"')
+    pt.add_argument("--approach", help='approach to equilibrium, e.g. "10 K"')
+    pt.add_argument("--adiabatic", action="store_true",
+                    help="solve the outlet temperature at zero duty")
+    pt.add_argument("--json", action="store_true", help="print one strict JSON object (SI)")
+    pt.set_defaults(func=_cmd_point)
+    return p
+
+
+_OPTION_NAMES = {
+    "temperature": "--temperature",
+    "pressure": "--pressure",
+    "steam_to_carbon": "--steam-to-carbon",
+    "feed": "--feed",
+    "oxygen_to_carbon": "--oxygen-to-carbon",
+    "co2_to_carbon": "--co2-to-carbon",
+    "inlet_temperature": "--inlet-temperature",
+    "approach": "--approach",
+}
+
+
+def main(argv: list[str] | None = None) -> int:
+    """Entry point of the ``explorer`` console script; returns the exit status."""
+    try:
+        args = build_parser().parse_args(argv)
+        return args.func(args)
+    except InputError as err:
+        field = _OPTION_NAMES.get(err.field.split(".")[0], None)
+        msg = str(err)
+        if field and not err.field.startswith(("feed.", "window.", "limits.")):
+            msg = msg.replace(err.field, field, 1)
+        print(f"explorer: error: {msg}", file=sys.stderr)
+        return EXIT_USER_ERROR
+    except KeyboardInterrupt:
+        print("explorer: interrupted", file=sys.stderr)
+        return 130
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,273 @@
+"""Single-point API: a scenario and a few overrides in, one complete balance out.
+
+``point()`` mirrors the CLI's ``explorer point`` options; quantities are strings with units
+(``"850 degC"``, ``"25 barg"``) or pint quantities, ratios plain numbers. Everything it
+returns is SI.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, replace
+
+import numpy as np
+
+from thermo import units
+from thermo.balances import Balance, adiabatic_temperature, reformer_balance
+from thermo.constants import P_REF
+from thermo.errors import InputError
+from thermo.extent import REFORMING, SHIFT
+from thermo.scenario import (
+    Scenario,
+    check_approach,
+    check_inlet_temperature,
+    check_pressure,
+    check_ratio,
+    check_temperature,
+    load_scenario,
+    parse_composition,
+)
+from thermo.species import GAS_SPECIES
+
+
+@dataclass(frozen=True)
+class PointResult:
+    """Equilibrium outlet and balance of one reformer point (SI units).
+
+    Attributes
+    ----------
+    scenario : Scenario
+        The scenario with every override applied (its feed carries the ratios used).
+    temperature : float
+        Outlet temperature [K] (solved for in adiabatic mode).
+    pressure : float
+        Absolute outlet pressure [Pa].
+    approach : float
+        Approach to equilibrium of reforming [K].
+    adiabatic : bool
+        Whether `temperature` was solved for zero duty.
+    balance : Balance
+        The balance arrays, one point long.
+    """
+
+    scenario: Scenario
+    temperature: float
+    pressure: float
+    approach: float
+    adiabatic: bool
+    balance: Balance
+
+    def __getattr__(self, name: str):
+        # Scalar view of the one-point balance: pt.h2_yield, pt.duty, ...
+        if name.startswith("_"):
+            raise AttributeError(name)
+        value = getattr(self.balance, name)
+        if isinstance(value, np.ndarray):
+            return value[0].item() if value.ndim == 1 else value[0]
+        if isinstance(value, dict):
+            return {k: float(v[0]) for k, v in value.items()}
+        return value
+
+    @property
+    def steam_to_carbon(self) -> float:
+        """Steam per hydrocarbon carbon [mol mol-1]."""
+        return self.scenario.feed.steam_to_carbon
+
+    @property
+    def oxygen_to_carbon(self) -> float:
+        """O2 per hydrocarbon carbon [mol mol-1]."""
+        return self.scenario.feed.oxygen_to_carbon
+
+    @property
+    def co2_to_carbon(self) -> float:
+        """CO2 co-feed per hydrocarbon carbon [mol mol-1]."""
+        return self.scenario.feed.co2_to_carbon
+
+    def species(self, array) -> dict[str, float]:
+        """A (1, S) balance array as a dict keyed by species."""
+        return {s: float(v) for s, v in zip(GAS_SPECIES, np.asarray(array)[0], strict=True)}
+
+    def to_dict(self) -> dict:
+        """The strict-JSON object of ``explorer point --json`` (DESIGN.md contract).
+
+        Non-finite numbers (H2/CO with no CO in the outlet) become None.
+        """
+        b = self.balance
+        h2_out = float(b.outlet_flow[0, GAS_SPECIES.index("H2")])
+        out = {
+            "temperature_K": self.temperature,
+            "pressure_Pa": self.pressure,
+            "steam_to_carbon": self.steam_to_carbon,
+            "oxygen_to_carbon": self.oxygen_to_carbon,
+            "co2_to_carbon": self.co2_to_carbon,
+            "approach_K": self.approach,
+            "equilibrium_temperature_K": float(b.equilibrium_temperature[0]),
+            "adiabatic": self.adiabatic,
+            "converged": bool(b.converged[0]),
+            "iterations": int(b.iterations[0]),
+            "inlet": {
+                "temperature_K": float(b.inlet_temperature[0]),
+                "flow_mol_per_s": self.species(b.inlet_flow),
+                "mass_flow_kg_per_s": self.species(b.inlet_mass_flow),
+                "enthalpy_W": float(b.inlet_enthalpy[0]),
+            },
+            "outlet": {
+                "temperature_K": self.temperature,
+                "flow_mol_per_s": self.species(b.outlet_flow),
+                "mass_flow_kg_per_s": self.species(b.outlet_mass_flow),
+                "mole_fraction": self.species(b.mole_fraction),
+                "mole_fraction_dry": self.species(b.mole_fraction_dry),
+                "enthalpy_W": float(b.outlet_enthalpy[0]),
+            },
+            "carbon_deposit_mol_per_s": float(b.carbon_deposit[0]),
+            "carbon_activity": float(b.carbon_activity[0]),
+            "hydrocarbon_carbon_mol_per_s": float(b.hydrocarbon_carbon[0]),
+            "h2_yield": float(b.h2_yield[0]),
+            "h2_potential": float(b.h2_potential[0]),
+            "methane_slip_dry": float(b.methane_slip_dry[0]),
+            "methane_conversion": float(b.methane_conversion[0]),
+            "h2_co_ratio": float(b.h2_co_ratio[0]),
+            "duty_W": float(b.duty[0]),
+            "duty_per_h2_J_per_mol": float(b.duty[0]) / h2_out if h2_out > 0 else math.inf,
+            "extents_mol_per_s": {
+                "reforming": float(b.extent_reforming[0]),
+                "shift": float(b.extent_shift[0]),
+            },
+            "reactions": {
+                "standard_pressure_Pa": P_REF,
+                "reforming": {
+                    "equation": REFORMING.equation(),
+                    "K": float(b.K_reforming[0]),
+                    "Q": float(b.Q_reforming[0]),
+                    "approach_K": float(b.approach_reforming[0]),
+                    "heat_298_J_per_mol": float(b.heat_reforming_298[0]),
+                    "heat_J_per_mol": float(b.heat_reforming[0]),
+                },
+                "shift": {
+                    "equation": SHIFT.equation(),
+                    "K": float(b.K_shift[0]),
+                    "Q": float(b.Q_shift[0]),
+                    "approach_K": float(b.approach_shift[0]),
+                    "heat_298_J_per_mol": float(b.heat_shift_298[0]),
+                    "heat_J_per_mol": float(b.heat_shift[0]),
+                },
+            },
+            "element_closure": {k: float(v[0]) for k, v in b.element_closure.items()},
+        }
+        return _strict(out)
+
+
+def _strict(obj):
+    """Replace non-finite floats by None, recursively (strict JSON)."""
+    if isinstance(obj, dict):
+        return {k: _strict(v) for k, v in obj.items()}
+    if isinstance(obj, float) and not math.isfinite(obj):
+        return None
+    return obj
+
+
+def _ratio(value, name: str, field: str) -> float:
+    if isinstance(value, bool) or not isinstance(value, int | float | np.floating | np.integer):
+        try:
+            value = float(value)
+        except (TypeError, ValueError):
+            allowed = "a plain number (mol per mol hydrocarbon carbon)"
+            raise InputError(field, value, allowed) from None
+    return check_ratio(name, float(value), field)
+
+
+def point(
+    scenario: Scenario | str | None = None,
+    *,
+    temperature=None,
+    pressure=None,
+    steam_to_carbon=None,
+    feed=None,
+    oxygen_to_carbon=None,
+    co2_to_carbon=None,
+    inlet_temperature=None,
+    approach=None,
+    adiabatic: bool = False,
+) -> PointResult:
+    """Equilibrium outlet and complete balance at one operating point.
+
+    Parameters
+    ----------
+    scenario : Scenario or path, optional
+        The study; the demo scenario if None. Its design point and feed supply every value
+        not overridden.
+    temperature : str or pint.Quantity, optional
+        Outlet temperature, e.g. ``"850 degC"``. Ignored (solved for) when `adiabatic`.
+    pressure : str or pint.Quantity, optional
+        Outlet pressure, absolute or gauge (``"25 bar"``, ``"24 barg"``).
+    steam_to_carbon, oxygen_to_carbon, co2_to_carbon : float, optional
+        Ratios [mol per mol hydrocarbon carbon].
+    feed : str or mapping, optional
+        Dry feed composition, ``"CH4=0.95,C2H6=0.03,N2=0.02"``; the flow basis is kept.
+    inlet_temperature : str or pint.Quantity, optional
+        Mixed-feed temperature.
+    approach : str or pint.Quantity, optional
+        Approach to equilibrium, e.g. ``"10 K"``.
+    adiabatic : bool
+        Solve the outlet temperature at which the duty is zero.
+
+    Returns
+    -------
+    PointResult
+
+    Raises
+    ------
+    InputError
+        Any bad value, naming the argument, the value and what is allowed.
+
+    Examples
+    --------
+    >>> pt = point(temperature="850 degC", pressure="25 bar", steam_to_carbon=3.0)
+    >>> pt.converged, round(pt.temperature - 273.15, 6)
+    (True, 850.0)
+    """
+    if scenario is None or isinstance(scenario, str):
+        scenario = load_scenario(scenario)
+    sc = scenario
+    f = sc.feed
+    changes = {}
+    if feed is not None:
+        changes["composition"] = parse_composition(feed, "feed")
+    if steam_to_carbon is not None:
+        changes["steam_to_carbon"] = _ratio(steam_to_carbon, "steam_to_carbon",
+                                            "steam_to_carbon")
+    if oxygen_to_carbon is not None:
+        changes["oxygen_to_carbon"] = _ratio(oxygen_to_carbon, "oxygen_to_carbon",
+                                             "oxygen_to_carbon")
+    if co2_to_carbon is not None:
+        changes["co2_to_carbon"] = _ratio(co2_to_carbon, "co2_to_carbon", "co2_to_carbon")
+    if inlet_temperature is not None:
+        changes["inlet_temperature"] = check_inlet_temperature(
+            units.temperature_K(inlet_temperature, "inlet_temperature"), "inlet_temperature")
+    if changes:
+        f = replace(f, **changes)
+    T = sc.temperature
+    if temperature is not None:
+        T = check_temperature(units.temperature_K(temperature, "temperature"), "temperature")
+    P = sc.pressure
+    if pressure is not None:
+        P = check_pressure(units.pressure_Pa(pressure, "pressure"), "pressure")
+    dT = sc.approach
+    if approach is not None:
+        dT = check_approach(units.temperature_difference_K(approach, "approach"), "approach")
+    sc = replace(sc, feed=f, temperature=T, pressure=P, approach=dT)
+    n_in = f.inlet_flows()
+    if adiabatic:
+        try:
+            T = adiabatic_temperature(n_in, P, f.inlet_temperature, dT)
+        except ValueError as err:
+            raise InputError(
+                "adiabatic", True, f"a feed that can run adiabatically ({err})"
+            ) from None
+        sc = replace(sc, temperature=T)
+    if T - dT < 300.0:
+        raise InputError("approach", f"{dT:g} K",
+                         f"an approach that keeps T - approach at or above 300 K (T = {T:.2f} K)")
+    bal = reformer_balance(n_in[None, :], T, P, f.inlet_temperature, dT,
+                           reaction_approach=True)
+    return PointResult(sc, float(T), float(P), float(dT), adiabatic, bal)

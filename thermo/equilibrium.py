@@ -1,0 +1,562 @@
+r"""Chemical equilibrium of an ideal-gas mixture plus pure graphite at fixed T and P.
+
+The Gibbs energy of the gas, :math:`G/RT = \sum_j n_j (c_j + \ln x_j)` with
+:math:`c_j = g^\circ_j/RT + \ln(P/P^\circ)`, is minimized subject to the element balances
+:math:`A^T n = b`. This module solves the problem through its dual in the element potentials
+:math:`\lambda` (Smith & Missen 1982 [SMITH-MISSEN1982], ch. 2 and 6): at the minimum every
+species obeys :math:`\ln x_j = a_j\cdot\lambda - c_j`, so the mole fractions are a function of
+:math:`\lambda` alone and the problem becomes
+
+.. math:: \max_u\; b\cdot u \quad\text{subject to}\quad \sum_j \exp(a_j\cdot u - c_j) = 1 .
+
+The constraint is removed by a shift along :math:`d` (one for every free element):
+:math:`u = \lambda + t(\lambda)\,d`, where the scalar :math:`t` is found by a one-dimensional
+Newton solve of the log-sum-exp equation (every species holds at least one atom of a free
+element, so the sum grows strictly with :math:`t`). The resulting function
+:math:`D(\lambda) = b\cdot\lambda + t(\lambda)\,b\cdot d` is concave; its gradient is the
+element-balance residual :math:`b - N A^T x` with the total moles
+:math:`N = b\cdot d / \sum_j m_j x_j` and its Hessian is
+:math:`-N\sum_j x_j \tilde a_j \tilde a_j^T`, a sum of outer products that stays positive
+semi-definite in floating point. Newton steps with an Armijo line search maximize it.
+
+Graphite: the gas-only problem is solved first; the carbon activity relative to graphite is
+:math:`\ln a_C = \lambda_C - \mu_{gr}/RT` with the solid's pressure term included. Where it is
+positive, the carbon potential is fixed at graphite's and the remaining potentials are solved
+again from the gas-only answer; the deposit is the carbon the gas does not hold (the
+"equilibrated gas" principle, [ROSTRUP-NIELSEN1984]). Where the feed lacks an element, the
+species containing it are removed and its potential is not solved for.
+
+All arithmetic is in log space: trace species down to the smallest double underflow to zero,
+never to NaN, and huge or tiny equilibrium constants do not overflow. The kernel is compiled by
+numba (cached on disk after the first build) and runs points in parallel.
+"""
+
+from __future__ import annotations
+
+import itertools
+import math
+from dataclasses import dataclass
+
+import numba
+import numpy as np
+
+from thermo.constants import ELEMENTS, P_REF
+from thermo.species import GAS_SPECIES, formula_matrix, gas_table, graphite_mu_RT
+
+#: Convergence tolerance: largest relative element-balance residual [-].
+TOLERANCE = 1e-10
+#: Newton iteration limit per phase assemblage.
+MAX_ITERATIONS = 200
+#: Mole fraction given to each basis species of an initial guess [-].
+BASIS_FLOOR = 0.2
+#: Species tried as members of an initial basis (the ones that can be major at equilibrium).
+_MAJOR = ("CH4", "H2O", "H2", "CO", "CO2", "N2", "Ar")
+
+
+def _candidate_bases() -> tuple[np.ndarray, np.ndarray]:
+    """All subsets of the major species, as padded index rows and sizes."""
+    idx = [GAS_SPECIES.index(s) for s in _MAJOR]
+    rows, sizes = [], []
+    for k in range(1, len(ELEMENTS) + 1):
+        for combo in itertools.combinations(idx, k):
+            rows.append(list(combo) + [-1] * (len(ELEMENTS) - k))
+            sizes.append(k)
+    return np.array(rows, dtype=np.int64), np.array(sizes, dtype=np.int64)
+
+
+_CANDIDATES, _CANDIDATE_SIZES = _candidate_bases()
+
+
+@numba.njit(cache=True)
+def _shift(z, m, active, t):
+    """Solve ln(sum_j exp(z_j + t m_j)) = 0 for t by Newton's method (convex, increasing)."""
+    S = z.shape[0]
+    for _ in range(200):
+        zmax = -np.inf
+        for j in range(S):
+            if active[j]:
+                v = z[j] + t * m[j]
+                if v > zmax:
+                    zmax = v
+        s0 = 0.0
+        s1 = 0.0
+        for j in range(S):
+            if active[j]:
+                e = math.exp(z[j] + t * m[j] - zmax)
+                s0 += e
+                s1 += m[j] * e
+        phi = zmax + math.log(s0)
+        dt = -phi / (s1 / s0)
+        t += dt
+        if abs(dt) <= 1e-15 * (1.0 + abs(t)):
+            break
+    return t
+
+
+@numba.njit(cache=True)
+def _evaluate(A, c, b, free, active, lam, t0, x, z, m):
+    """Mole fractions, total moles and dual value at element potentials `lam`.
+
+    Fills `x` (mole fractions) and returns (t, N, D).
+    """
+    S, E = A.shape
+    Bf = 0.0
+    for e in range(E):
+        if free[e]:
+            Bf += b[e]
+    for j in range(S):
+        if active[j]:
+            acc = -c[j]
+            for e in range(E):
+                acc += A[j, e] * lam[e]
+            z[j] = acc
+        else:
+            z[j] = -np.inf
+    t = _shift(z, m, active, t0)
+    q = 0.0
+    for j in range(S):
+        if active[j]:
+            x[j] = math.exp(z[j] + t * m[j])
+            q += m[j] * x[j]
+        else:
+            x[j] = 0.0
+    N = Bf / q
+    D = t * Bf
+    for e in range(E):
+        if free[e]:
+            D += b[e] * lam[e]
+    return t, N, D
+
+
+@numba.njit(cache=True)
+def _residual(A, b, free, x, N, g):
+    """Element-balance residual g = b - N A^T x (free elements) and its largest relative size."""
+    S, E = A.shape
+    worst = 0.0
+    for e in range(E):
+        if free[e]:
+            acc = 0.0
+            for j in range(S):
+                acc += A[j, e] * x[j]
+            g[e] = b[e] - N * acc
+            r = abs(g[e]) / b[e]
+            if r > worst:
+                worst = r
+        else:
+            g[e] = 0.0
+    return worst
+
+
+@numba.njit(cache=True)
+def _newton_direction(A, free, x, N, m, g, H, delta, abar):
+    """Solve (N sum_j x_j at_j at_j^T + eps d d^T) delta = g on the free elements (Cholesky)."""
+    S, E = A.shape
+    q = 0.0
+    for j in range(S):
+        q += m[j] * x[j]
+    for e in range(E):
+        acc = 0.0
+        for j in range(S):
+            acc += A[j, e] * x[j]
+        abar[e] = acc / q
+    for e in range(E):
+        for f in range(E):
+            H[e, f] = 0.0
+    for j in range(S):
+        if x[j] == 0.0:
+            continue
+        for e in range(E):
+            if not free[e]:
+                continue
+            ae = A[j, e] - m[j] * abar[e]
+            w = N * x[j] * ae
+            for f in range(e, E):
+                if free[f]:
+                    H[e, f] += w * (A[j, f] - m[j] * abar[f])
+    tr = 0.0
+    k = 0
+    for e in range(E):
+        if free[e]:
+            tr += H[e, e]
+            k += 1
+    eps = tr / k if tr > 0.0 else 1.0
+    for e in range(E):
+        if not free[e]:
+            for f in range(E):
+                H[e, f] = 0.0
+                H[f, e] = 0.0
+            H[e, e] = 1.0
+            continue
+        for f in range(e, E):
+            if free[f]:
+                H[e, f] += eps
+                H[f, e] = H[e, f]
+        H[e, e] += 1e-13 * eps
+    # Cholesky factorization in place (lower triangle).
+    for i in range(E):
+        for jj in range(i + 1):
+            s = H[i, jj]
+            for kk in range(jj):
+                s -= H[i, kk] * H[jj, kk]
+            if i == jj:
+                if s <= 0.0:
+                    s = 1e-300
+                H[i, i] = math.sqrt(s)
+            else:
+                H[i, jj] = s / H[jj, jj]
+    for i in range(E):
+        s = g[i]
+        for kk in range(i):
+            s -= H[i, kk] * delta[kk]
+        delta[i] = s / H[i, i]
+    for i in range(E - 1, -1, -1):
+        s = delta[i]
+        for kk in range(i + 1, E):
+            s -= H[kk, i] * delta[kk]
+        delta[i] = s / H[i, i]
+    for e in range(E):
+        if not free[e]:
+            delta[e] = 0.0
+
+
+@numba.njit(cache=True)
+def _maximize(A, c, b, free, active, lam, m, x, z, g, H, delta, abar, trial, tol, max_iter):
+    """Newton-Armijo maximization of the dual from `lam` (updated in place).
+
+    Returns (converged, iterations, N).
+    """
+    S, E = A.shape
+    for j in range(S):
+        acc = 0.0
+        for e in range(E):
+            if free[e]:
+                acc += A[j, e]
+        m[j] = acc
+    t, N, D = _evaluate(A, c, b, free, active, lam, 0.0, x, z, m)
+    for it in range(max_iter + 1):
+        err = _residual(A, b, free, x, N, g)
+        if err < tol:
+            return True, it, N
+        if it == max_iter:
+            break
+        _newton_direction(A, free, x, N, m, g, H, delta, abar)
+        slope = 0.0
+        for e in range(E):
+            slope += g[e] * delta[e]
+        alpha = 1.0
+        for _ in range(60):
+            for e in range(E):
+                trial[e] = lam[e] + alpha * delta[e]
+            t_new, N_new, D_new = _evaluate(A, c, b, free, active, trial, t, x, z, m)
+            if D_new == D_new and (err < 1e-4 or D_new >= D + 1e-4 * alpha * slope):
+                break
+            alpha *= 0.5
+        for e in range(E):
+            lam[e] = trial[e]
+        t, N, D = t_new, N_new, D_new
+    return False, max_iter, N
+
+
+@numba.njit(cache=True)
+def _initial_guess(A, c, b, free, active, cand, cand_size, lam0, use_lam0, lam, m, x, z, trial):
+    """Best starting potentials among basis guesses (and a warm start), by dual value."""
+    S, E = A.shape
+    k = 0
+    for e in range(E):
+        if free[e]:
+            k += 1
+    for j in range(S):
+        acc = 0.0
+        for e in range(E):
+            if free[e]:
+                acc += A[j, e]
+        m[j] = acc
+    best = -np.inf
+    found = False
+    M = np.zeros((E, E))
+    r = np.zeros(E)
+    lnfloor = math.log(0.2)
+    for ci in range(cand.shape[0]):
+        if cand_size[ci] != k:
+            continue
+        ok = True
+        for i in range(k):
+            if not active[cand[ci, i]]:
+                ok = False
+        if not ok:
+            continue
+        # Build the k x k system over the free elements: a_j . lam = c_j + ln(floor).
+        col = 0
+        for e in range(E):
+            if free[e]:
+                for i in range(k):
+                    M[i, col] = A[cand[ci, i], e]
+                col += 1
+        for i in range(k):
+            r[i] = c[cand[ci, i]] + lnfloor
+        # Gaussian elimination with partial pivoting.
+        singular = False
+        for p in range(k):
+            piv = p
+            for i in range(p + 1, k):
+                if abs(M[i, p]) > abs(M[piv, p]):
+                    piv = i
+            if abs(M[piv, p]) < 1e-12:
+                singular = True
+                break
+            if piv != p:
+                for jj in range(k):
+                    tmp = M[p, jj]
+                    M[p, jj] = M[piv, jj]
+                    M[piv, jj] = tmp
+                tmp = r[p]
+                r[p] = r[piv]
+                r[piv] = tmp
+            for i in range(p + 1, k):
+                f = M[i, p] / M[p, p]
+                for jj in range(p, k):
+                    M[i, jj] -= f * M[p, jj]
+                r[i] -= f * r[p]
+        if singular:
+            continue
+        for p in range(k - 1, -1, -1):
+            s = r[p]
+            for jj in range(p + 1, k):
+                s -= M[p, jj] * r[jj]
+            r[p] = s / M[p, p]
+        col = 0
+        for e in range(E):
+            if free[e]:
+                trial[e] = r[col]
+                col += 1
+            else:
+                trial[e] = lam[e]
+        _, _, D = _evaluate(A, c, b, free, active, trial, 0.0, x, z, m)
+        if D == D and D > best:
+            best = D
+            found = True
+            for e in range(E):
+                if free[e]:
+                    lam[e] = trial[e]
+    if use_lam0:
+        for e in range(E):
+            trial[e] = lam0[e] if free[e] else lam[e]
+        _, _, D = _evaluate(A, c, b, free, active, trial, 0.0, x, z, m)
+        if D == D and D > best:
+            found = True
+            for e in range(E):
+                if free[e]:
+                    lam[e] = trial[e]
+    if not found:
+        for e in range(E):
+            if free[e]:
+                lam[e] = 0.0
+
+
+@numba.njit(cache=True)
+def _solve_point(A, c, b_in, mu_gr, allow_carbon, lam0, use_lam0, cand, cand_size, tol,
+                 max_iter, n_out, lam_out, work):
+    """Equilibrium at one point. Returns (converged, iterations, carbon, ln_carbon_activity)."""
+    S, E = A.shape
+    iC = 0
+    x = work[0, :S]
+    z = work[1, :S]
+    m = work[2, :S]
+    g = work[3, :E]
+    delta = work[4, :E]
+    abar = work[5, :E]
+    trial = work[6, :E]
+    lam = work[7, :E]
+    b = work[8, :E]
+    H = np.empty((E, E))
+    scale = 0.0
+    for e in range(E):
+        scale += b_in[e]
+    free = np.empty(E, dtype=np.bool_)
+    for e in range(E):
+        b[e] = b_in[e] / scale
+        free[e] = b_in[e] > 0.0
+        lam[e] = 0.0
+    active = np.empty(S, dtype=np.bool_)
+    for j in range(S):
+        ok = True
+        for e in range(E):
+            if A[j, e] > 0.0 and not free[e]:
+                ok = False
+        active[j] = ok
+    _initial_guess(A, c, b, free, active, cand, cand_size, lam0, use_lam0, lam, m, x, z, trial)
+    conv, iters, N = _maximize(A, c, b, free, active, lam, m, x, z, g, H, delta, abar, trial,
+                               tol, max_iter)
+    carbon = 0.0
+    ln_ac = -np.inf
+    if free[iC]:
+        ln_ac = lam[iC] - mu_gr
+        if allow_carbon and ln_ac > 0.0 and conv:
+            saved = lam.copy()
+            free[iC] = False
+            lam[iC] = mu_gr
+            conv2, it2, N2 = _maximize(A, c, b, free, active, lam, m, x, z, g, H, delta, abar,
+                                       trial, tol, max_iter)
+            held = 0.0
+            for j in range(S):
+                held += A[j, iC] * x[j]
+            deposit = b[iC] - N2 * held
+            iters += it2
+            if conv2 and deposit > 0.0:
+                conv = True
+                N = N2
+                carbon = deposit
+                ln_ac = 0.0
+            else:
+                # Graphite not stable after all (activity within round-off of 1): gas only.
+                for e in range(E):
+                    lam[e] = saved[e]
+                free[iC] = True
+                conv, it3, N = _maximize(A, c, b, free, active, lam, m, x, z, g, H, delta,
+                                         abar, trial, tol, max_iter)
+                iters += it3
+                ln_ac = min(lam[iC] - mu_gr, 0.0)
+    for j in range(S):
+        n_out[j] = N * x[j] * scale
+    for e in range(E):
+        lam_out[e] = lam[e] if b_in[e] > 0.0 else np.nan
+    return conv, iters, carbon * scale, ln_ac
+
+
+@numba.njit(cache=True, parallel=True)
+def _solve_batch(A, C, B, MU, allow_carbon, LAM0, use_lam0, cand, cand_size, tol, max_iter,
+                 nthreads, n_out, lam_out, carbon_out, lnac_out, conv_out, iter_out):
+    P = C.shape[0]
+    S, E = A.shape
+    nchunk = min(P, 4 * nthreads)
+    for ch in numba.prange(nchunk):
+        work = np.empty((9, max(S, E)))
+        start = ch * P // nchunk
+        stop = (ch + 1) * P // nchunk
+        for p in range(start, stop):
+            conv, it, carbon, lnac = _solve_point(
+                A, C[p], B[p], MU[p], allow_carbon, LAM0[p], use_lam0, cand, cand_size, tol,
+                max_iter, n_out[p], lam_out[p], work)
+            conv_out[p] = conv
+            iter_out[p] = it
+            carbon_out[p] = carbon
+            lnac_out[p] = lnac
+
+
+@dataclass(frozen=True)
+class EquilibriumResult:
+    """Equilibrium state of N points.
+
+    Attributes
+    ----------
+    moles : numpy.ndarray, shape (N, S)
+        Gas moles (or molar flows) of each species in GAS_SPECIES order [mol or mol s-1,
+        as the element abundances were given].
+    carbon : numpy.ndarray, shape (N,)
+        Graphite deposited [same unit as `moles`].
+    ln_carbon_activity : numpy.ndarray, shape (N,)
+        ln of the gas's carbon activity relative to graphite at T, P [-]; 0 where carbon
+        deposits, -inf where the feed holds no carbon.
+    element_potentials : numpy.ndarray, shape (N, E)
+        lambda_e = mu_e/(RT) of each element (ELEMENTS order) on the 1 bar standard state
+        [-]; NaN for elements absent from the feed.
+    converged : numpy.ndarray of bool, shape (N,)
+        Element balances closed to TOLERANCE.
+    iterations : numpy.ndarray of int, shape (N,)
+        Newton iterations taken (gas-only and with-graphite solves added).
+    """
+
+    moles: np.ndarray
+    carbon: np.ndarray
+    ln_carbon_activity: np.ndarray
+    element_potentials: np.ndarray
+    converged: np.ndarray
+    iterations: np.ndarray
+
+    @property
+    def mole_fractions(self) -> np.ndarray:
+        """Gas mole fractions, shape (N, S) [-]."""
+        return self.moles / self.moles.sum(axis=1, keepdims=True)
+
+
+def equilibrate(
+    T,
+    P,
+    elements,
+    *,
+    allow_carbon: bool = True,
+    warm_start: np.ndarray | None = None,
+) -> EquilibriumResult:
+    """Equilibrium of ideal gas plus graphite at N points in one call.
+
+    Parameters
+    ----------
+    T : array_like, shape (N,)
+        Temperature [K], inside every species' data range.
+    P : array_like, shape (N,)
+        Absolute pressure [Pa], > 0.
+    elements : array_like, shape (N, E)
+        Element abundances in ELEMENTS order (C, H, O, N, Ar) [mol, or mol s-1]; at least one
+        positive entry per row, none negative.
+    allow_carbon : bool
+        Let graphite form where it is stable. False gives the (metastable) gas-only state.
+    warm_start : array_like, shape (N, E), optional
+        Element potentials of nearby solved points, tried besides the basis guesses.
+
+    Returns
+    -------
+    EquilibriumResult
+
+    Notes
+    -----
+    Element-potential dual method described in this module's docstring
+    ([SMITH-MISSEN1982]). Validated from 673 to 1673 K, 1 to 100 bar, steam-to-carbon 0 to
+    10 and O2-to-carbon 0 to 0.7 (tests/thermo/test_equilibrium*.py).
+    """
+    T = np.atleast_1d(np.asarray(T, dtype=float))
+    P = np.atleast_1d(np.asarray(P, dtype=float))
+    b = np.atleast_2d(np.asarray(elements, dtype=float))
+    n = max(T.shape[0], P.shape[0], b.shape[0])
+    T = np.broadcast_to(T, (n,))
+    P = np.broadcast_to(P, (n,))
+    b = np.ascontiguousarray(np.broadcast_to(b, (n, len(ELEMENTS))))
+    if np.any(~np.isfinite(P)) or np.any(P <= 0):
+        raise ValueError("pressure must be finite and above 0 Pa")
+    if np.any(~np.isfinite(b)) or np.any(b < 0) or np.any(b.sum(axis=1) <= 0):
+        raise ValueError("element abundances must be finite, not negative, and not all zero")
+    C = np.ascontiguousarray((gas_table(T, "g_RT") + np.log(P / P_REF)).T)
+    MU = np.ascontiguousarray(graphite_mu_RT(T, P))
+    if warm_start is None:
+        lam0 = np.zeros((n, len(ELEMENTS)))
+        use = False
+    else:
+        lam0 = np.ascontiguousarray(np.broadcast_to(warm_start, (n, len(ELEMENTS))), float)
+        lam0 = np.where(np.isfinite(lam0), lam0, 0.0)
+        use = True
+    A = np.ascontiguousarray(formula_matrix())
+    n_out = np.empty((n, len(GAS_SPECIES)))
+    lam_out = np.empty((n, len(ELEMENTS)))
+    carbon = np.empty(n)
+    lnac = np.empty(n)
+    conv = np.empty(n, dtype=np.bool_)
+    iters = np.empty(n, dtype=np.int64)
+    _solve_batch(A, C, b, MU, allow_carbon, lam0, use, _CANDIDATES, _CANDIDATE_SIZES,
+                 TOLERANCE, MAX_ITERATIONS, numba.get_num_threads(), n_out, lam_out, carbon,
+                 lnac, conv, iters)
+    return EquilibriumResult(n_out, carbon, lnac, lam_out, conv, iters)
+
+
+def kernel_is_cached() -> bool:
+    """Whether the compiled solver kernel is already in numba's on-disk cache.
+
+    When False, the first call of :func:`equilibrate` in this process compiles it (about
+    20-40 s on a 2-core machine); interfaces use this to tell the user before it starts.
+    """
+    if _solve_batch.signatures:
+        return True
+    try:
+        import os
+
+        return os.path.exists(_solve_batch._cache._cache_file._index_path)
+    except AttributeError:  # numba internals moved: assume the worst, say so
+        return False

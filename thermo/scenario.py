@@ -1,0 +1,1086 @@
+"""Scenario files: TOML text into frozen dataclasses, every unit converted here.
+
+A scenario names the dry hydrocarbon feed, the design point, the operating window to map and
+the review limits. Quantities are strings with units (parsed by :mod:`thermo.units`), ratios
+are plain numbers; inside the dataclasses everything is SI floats (K, Pa, mol s-1, W).
+
+File layout (all keys; ``#`` marks optional ones)::
+
+    title = "..."
+    description = "..."                        # optional
+    notes = "..."                              # optional, review notes
+    [feed]
+    composition = { CH4 = 0.93, C2H6 = 0.04 }  # mole fractions of the dry hydrocarbon feed
+    flow = "1450 kmol/h"                       # dry hydrocarbon feed; kmol/h, kg/h or Nm3/h
+    inlet_temperature = "540 degC"             # mixed feed (gas + steam + co-feeds)
+    steam_to_carbon = 3.0                      # mol H2O per mol hydrocarbon carbon
+    oxygen_to_carbon = 0.0                     # optional, mol O2 per mol hydrocarbon carbon
+    co2_to_carbon = 0.0                        # optional, mol CO2 per mol hydrocarbon carbon
+    [design_point]
+    temperature = "865 degC"
+    pressure = "24 barg"
+    approach = "10 K"                          # optional, default 0 K
+    [window]
+    temperature = { from = "700 degC", to = "950 degC", points = 26 }
+    pressure = { from = "10 bar", to = "40 bar", points = 7 }
+    steam_to_carbon = { from = 1.5, to = 5.0, points = 15 }
+    oxygen_to_carbon = { from = 0, to = 0.6, points = 7 }   # optional; or co2_to_carbon
+    [limits]                                   # optional section, every key optional
+    max_methane_slip_dry = "4 mol%"
+    carbon_free = true                         # default true
+    min_h2_yield = 2.4                         # mol H2 per mol hydrocarbon carbon
+    max_duty = "75 MW"
+
+Every error is a :class:`thermo.errors.InputError` naming the key path (``"window.pressure.from"``,
+``"feed.composition.CH4"``), the value and what is allowed.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import difflib
+import math
+import os
+import tomllib
+from collections.abc import Iterator, Mapping
+from dataclasses import dataclass, field
+from numbers import Real
+from pathlib import Path
+
+import numpy as np
+
+from thermo import units
+from thermo.errors import InputError
+from thermo.species import GAS_SPECIES, molar_mass
+
+__all__ = [
+    "FEED_COMPONENTS",
+    "HYDROCARBONS",
+    "COFEEDS",
+    "DEMO_PATH",
+    "TEMPERATURE_RANGE_K",
+    "PRESSURE_RANGE_PA",
+    "STEAM_TO_CARBON_RANGE",
+    "OXYGEN_TO_CARBON_RANGE",
+    "CO2_TO_CARBON_RANGE",
+    "INLET_TEMPERATURE_RANGE_K",
+    "APPROACH_RANGE_K",
+    "MAX_AXIS_POINTS",
+    "MAX_WINDOW_POINTS",
+    "COMPOSITION_SUM_TOLERANCE",
+    "Composition",
+    "Axis",
+    "Feed",
+    "Window",
+    "Limits",
+    "Scenario",
+    "parse_scenario",
+    "load_scenario",
+    "parse_composition",
+    "check_temperature",
+    "check_pressure",
+    "check_inlet_temperature",
+    "check_approach",
+    "check_ratio",
+    "validate_point_overrides",
+]
+
+#: Species allowed in ``feed.composition`` (the dry hydrocarbon feed and its inerts).
+FEED_COMPONENTS: tuple[str, ...] = ("CH4", "C2H6", "C3H8", "CO2", "N2", "Ar", "H2")
+
+#: Hydrocarbons and their carbon atoms; only these count in the steam-to-carbon ratio.
+HYDROCARBONS: dict[str, int] = {"CH4": 1, "C2H6": 2, "C3H8": 3}
+
+#: Co-feed ratios that may form the fourth window axis.
+COFEEDS: tuple[str, ...] = ("oxygen_to_carbon", "co2_to_carbon")
+
+#: The demo scenario, loaded when no file is named.
+DEMO_PATH: Path = Path(__file__).resolve().parent.parent / "scenarios" / "demo.toml"
+
+#: Temperatures the model accepts [K] (inside the species data ranges, GRI30: 300-3500 K).
+TEMPERATURE_RANGE_K = (300.0, 2500.0)
+#: Absolute pressures the model accepts [Pa] (ideal gas; 0.01 to 200 bar).
+PRESSURE_RANGE_PA = (1e3, 2e7)
+#: Steam-to-carbon ratios accepted [mol H2O per mol hydrocarbon C].
+STEAM_TO_CARBON_RANGE = (0.0, 10.0)
+#: Oxygen-to-carbon ratios accepted [mol O2 per mol hydrocarbon C] (0.5 is partial oxidation).
+OXYGEN_TO_CARBON_RANGE = (0.0, 0.7)
+#: CO2 co-feed ratios accepted [mol CO2 per mol hydrocarbon C].
+CO2_TO_CARBON_RANGE = (0.0, 3.0)
+#: Mixed-feed inlet temperatures accepted [K].
+INLET_TEMPERATURE_RANGE_K = (300.0, 1200.0)
+#: Approaches to equilibrium accepted [K].
+APPROACH_RANGE_K = (0.0, 100.0)
+#: Most points on one window axis.
+MAX_AXIS_POINTS = 401
+#: Most points in the whole window (product of the axes).
+MAX_WINDOW_POINTS = 2_000_000
+#: How far the composition may sum from 1 before it is refused (it is then normalised).
+COMPOSITION_SUM_TOLERANCE = 1e-3
+
+_RATIO_RANGES = {
+    "steam_to_carbon": STEAM_TO_CARBON_RANGE,
+    "oxygen_to_carbon": OXYGEN_TO_CARBON_RANGE,
+    "co2_to_carbon": CO2_TO_CARBON_RANGE,
+}
+_RATIO_WORDS = {
+    "steam_to_carbon": "mol H2O per mol hydrocarbon carbon",
+    "oxygen_to_carbon": "mol O2 per mol hydrocarbon carbon",
+    "co2_to_carbon": "mol CO2 per mol hydrocarbon carbon",
+}
+
+
+class _Missing:
+    def __repr__(self) -> str:
+        return "<missing>"
+
+
+_MISSING = _Missing()
+
+
+# ------------------------------------------------------------------------------ range checks
+
+
+def _fmt(x: float) -> str:
+    return f"{x:.6g}"
+
+
+def check_temperature(value_K: float, field: str, raw: object = None) -> float:
+    """Refuse a temperature outside :data:`TEMPERATURE_RANGE_K`.
+
+    Parameters
+    ----------
+    value_K : float
+        Temperature [K].
+    field : str
+        Key path or option name for the message.
+    raw : object, optional
+        What the user typed, shown in the message instead of `value_K`.
+
+    Returns
+    -------
+    float
+        The same temperature [K].
+    """
+    return _check_range(value_K, field, TEMPERATURE_RANGE_K, _temperature_words, raw)
+
+
+def check_inlet_temperature(value_K: float, field: str, raw: object = None) -> float:
+    """Refuse a mixed-feed inlet temperature outside :data:`INLET_TEMPERATURE_RANGE_K` [K]."""
+    return _check_range(value_K, field, INLET_TEMPERATURE_RANGE_K, _temperature_words, raw)
+
+
+def check_pressure(value_Pa: float, field: str, raw: object = None) -> float:
+    """Refuse an absolute pressure outside :data:`PRESSURE_RANGE_PA`.
+
+    Parameters
+    ----------
+    value_Pa : float
+        Absolute pressure [Pa].
+    field : str
+        Key path or option name for the message.
+    raw : object, optional
+        What the user typed, shown in the message instead of `value_Pa`.
+
+    Returns
+    -------
+    float
+        The same pressure [Pa].
+    """
+    return _check_range(value_Pa, field, PRESSURE_RANGE_PA, _pressure_words, raw)
+
+
+def check_approach(value_K: float, field: str, raw: object = None) -> float:
+    """Refuse an approach to equilibrium outside :data:`APPROACH_RANGE_K` [K]."""
+
+    def words(lo: float, hi: float) -> str:
+        return f"a temperature difference between {_fmt(lo)} and {_fmt(hi)} K"
+
+    return _check_range(value_K, field, APPROACH_RANGE_K, words, raw)
+
+
+def check_ratio(name: str, value: float, field: str) -> float:
+    """Refuse a feed ratio outside its range.
+
+    Parameters
+    ----------
+    name : {"steam_to_carbon", "oxygen_to_carbon", "co2_to_carbon"}
+        Which ratio.
+    value : float
+        The ratio [mol per mol hydrocarbon carbon].
+    field : str
+        Key path or option name for the message.
+
+    Returns
+    -------
+    float
+        The same ratio [-].
+    """
+    if name not in _RATIO_RANGES:
+        raise ValueError(f"unknown ratio {name!r}; known: {', '.join(_RATIO_RANGES)}")
+
+    def words(lo: float, hi: float) -> str:
+        return f"a number between {_fmt(lo)} and {_fmt(hi)} ({_RATIO_WORDS[name]})"
+
+    return _check_range(value, field, _RATIO_RANGES[name], words)
+
+
+def _temperature_words(lo: float, hi: float) -> str:
+    return (
+        f"a temperature between {_fmt(lo - 273.15)} and {_fmt(hi - 273.15)} degC "
+        f"({_fmt(lo)} to {_fmt(hi)} K)"
+    )
+
+
+def _pressure_words(lo: float, hi: float) -> str:
+    return (
+        f"an absolute pressure between {_fmt(lo / 1e5)} and {_fmt(hi / 1e5)} bar "
+        f"({_fmt(lo)} to {_fmt(hi)} Pa)"
+    )
+
+
+def _check_range(
+    value: float, field: str, bounds: tuple[float, float], words, raw: object = None
+) -> float:
+    lo, hi = bounds
+    if not (math.isfinite(value) and lo <= value <= hi):
+        raise InputError(field, value if raw is None else raw, words(lo, hi))
+    return value
+
+
+# --------------------------------------------------------------------------------- dataclasses
+
+
+class Composition(Mapping[str, float]):
+    """An immutable, hashable mapping of species to mole fractions [-].
+
+    Parameters
+    ----------
+    items : iterable of (str, float)
+        Species and mole fraction; kept in the given order.
+    """
+
+    __slots__ = ("_items", "_dict")
+
+    def __init__(self, items) -> None:
+        pairs = tuple((str(k), float(v)) for k, v in dict(items).items())
+        object.__setattr__(self, "_items", pairs)
+        object.__setattr__(self, "_dict", dict(pairs))
+
+    def __getitem__(self, key: str) -> float:
+        return self._dict[key]
+
+    def __iter__(self) -> Iterator[str]:
+        return iter(self._dict)
+
+    def __len__(self) -> int:
+        return len(self._items)
+
+    def __hash__(self) -> int:
+        return hash(frozenset(self._items))
+
+    def __eq__(self, other: object) -> bool:
+        if isinstance(other, Mapping):
+            return self._dict == dict(other)
+        return NotImplemented
+
+    def __setattr__(self, name: str, value: object) -> None:
+        raise AttributeError("Composition is immutable")
+
+    def __reduce__(self):
+        return (Composition, (self._items,))
+
+    def __repr__(self) -> str:
+        inner = ", ".join(f"{k!r}: {v!r}" for k, v in self._items)
+        return f"Composition({{{inner}}})"
+
+
+@dataclass(frozen=True)
+class Axis:
+    """One window axis: evenly spaced values from `start` to `stop`.
+
+    Attributes
+    ----------
+    start, stop : float
+        First and last value [SI unit of the axis: K, Pa, or mol per mol].
+    points : int
+        Number of values, at least 1.
+    """
+
+    start: float
+    stop: float
+    points: int
+
+    def values(self) -> np.ndarray:
+        """The axis values, ``numpy.linspace(start, stop, points)`` [SI unit of the axis]."""
+        return np.linspace(self.start, self.stop, self.points)
+
+
+@dataclass(frozen=True)
+class Feed:
+    """The reformer feed: dry hydrocarbon gas, steam and co-feeds.
+
+    Attributes
+    ----------
+    composition : Composition
+        Mole fractions of the dry hydrocarbon feed [-], summing to 1.
+    flow : float
+        Dry hydrocarbon feed before steam and co-feeds [mol s-1].
+    inlet_temperature : float
+        Temperature of the mixed feed (gas + steam + co-feeds) [K].
+    steam_to_carbon : float
+        Steam per hydrocarbon carbon [mol mol-1].
+    oxygen_to_carbon : float
+        O2 co-feed per hydrocarbon carbon [mol mol-1].
+    co2_to_carbon : float
+        CO2 co-feed per hydrocarbon carbon [mol mol-1] (added to any CO2 in the gas).
+    """
+
+    composition: Mapping[str, float]
+    flow: float
+    inlet_temperature: float
+    steam_to_carbon: float
+    oxygen_to_carbon: float = 0.0
+    co2_to_carbon: float = 0.0
+
+    def carbon_flow(self) -> float:
+        """Carbon in the hydrocarbons of the feed [mol s-1].
+
+        Returns
+        -------
+        float
+            ``flow * sum(x_i * nC_i)`` over CH4, C2H6, C3H8 [mol s-1]; carbon in CO2 excluded.
+        """
+        return self.flow * sum(
+            self.composition.get(name, 0.0) * n for name, n in HYDROCARBONS.items()
+        )
+
+    def inlet_flows(
+        self, steam_to_carbon=None, oxygen_to_carbon=None, co2_to_carbon=None
+    ) -> np.ndarray:
+        """Inlet flow of every gas species, in :data:`thermo.species.GAS_SPECIES` order.
+
+        Parameters
+        ----------
+        steam_to_carbon, oxygen_to_carbon, co2_to_carbon : float or array_like, optional
+            Ratios [mol per mol hydrocarbon carbon] replacing the feed's own; arrays broadcast
+            against each other.
+
+        Returns
+        -------
+        numpy.ndarray, shape (S,) + broadcast shape of the ratios
+            Inlet flows [mol s-1]: dry feed by species, H2O = S/C * carbon flow,
+            O2 = O2/C * carbon flow, CO2 = gas CO2 + CO2/C * carbon flow.
+        """
+        sc = np.asarray(
+            self.steam_to_carbon if steam_to_carbon is None else steam_to_carbon, dtype=float
+        )
+        oc = np.asarray(
+            self.oxygen_to_carbon if oxygen_to_carbon is None else oxygen_to_carbon, dtype=float
+        )
+        cc = np.asarray(self.co2_to_carbon if co2_to_carbon is None else co2_to_carbon, dtype=float)
+        shape = np.broadcast_shapes(sc.shape, oc.shape, cc.shape)
+        out = np.zeros((len(GAS_SPECIES),) + shape)
+        for name, x in self.composition.items():
+            out[GAS_SPECIES.index(name)] += self.flow * x
+        carbon = self.carbon_flow()
+        out[GAS_SPECIES.index("H2O")] += sc * carbon
+        out[GAS_SPECIES.index("O2")] += oc * carbon
+        out[GAS_SPECIES.index("CO2")] += cc * carbon
+        return out
+
+    def mean_molar_mass(self) -> float:
+        """Mean molar mass of the dry hydrocarbon feed [kg mol-1]."""
+        return _mean_molar_mass(self.composition)
+
+
+@dataclass(frozen=True)
+class Window:
+    """The operating window to map.
+
+    Attributes
+    ----------
+    temperature : Axis
+        Reformer outlet temperature [K].
+    pressure : Axis
+        Absolute outlet pressure [Pa].
+    steam_to_carbon : Axis
+        Steam per hydrocarbon carbon [mol mol-1].
+    cofeed : {"oxygen_to_carbon", "co2_to_carbon"} or None
+        Name of the optional fourth axis.
+    cofeed_axis : Axis or None
+        Its values [mol per mol hydrocarbon carbon].
+    """
+
+    temperature: Axis
+    pressure: Axis
+    steam_to_carbon: Axis
+    cofeed: str | None = None
+    cofeed_axis: Axis | None = None
+
+    def axes(self) -> dict[str, Axis]:
+        """The axes present, by name, in the order of the dataset dimensions."""
+        out = {
+            "temperature": self.temperature,
+            "pressure": self.pressure,
+            "steam_to_carbon": self.steam_to_carbon,
+        }
+        if self.cofeed is not None and self.cofeed_axis is not None:
+            out[self.cofeed] = self.cofeed_axis
+        return out
+
+    def size(self) -> int:
+        """Number of points of the whole window [-]."""
+        return math.prod(a.points for a in self.axes().values())
+
+
+@dataclass(frozen=True)
+class Limits:
+    """Review limits that define the feasible window.
+
+    Attributes
+    ----------
+    max_methane_slip_dry : float or None
+        Highest CH4 mole fraction in the dry outlet gas [-].
+    carbon_free : bool
+        Whether points where graphite is stable are infeasible.
+    min_h2_yield : float or None
+        Lowest H2 yield [mol H2 per mol hydrocarbon carbon].
+    max_duty : float or None
+        Highest duty [W].
+    """
+
+    max_methane_slip_dry: float | None = None
+    carbon_free: bool = True
+    min_h2_yield: float | None = None
+    max_duty: float | None = None
+
+
+@dataclass(frozen=True)
+class Scenario:
+    """A whole study: feed, design point, window, limits and notes.
+
+    Attributes
+    ----------
+    title, description, notes : str
+        Free text; notes are the review notes.
+    feed : Feed
+        The feed, with the design steam-to-carbon and co-feed ratios.
+    temperature : float
+        Design outlet temperature [K].
+    pressure : float
+        Design outlet pressure, absolute [Pa].
+    approach : float
+        Approach to equilibrium [K].
+    window : Window
+        The operating window.
+    limits : Limits
+        Review limits.
+    text : str
+        TOML source it was read from, or generated by :meth:`to_toml` after a change; not
+        compared.
+    path : str or None
+        File it was first read from; not compared.
+    """
+
+    title: str
+    description: str
+    feed: Feed
+    temperature: float
+    pressure: float
+    approach: float
+    window: Window
+    limits: Limits
+    notes: str = ""
+    text: str = field(default="", compare=False, repr=False)
+    path: str | None = field(default=None, compare=False)
+
+    def with_window(
+        self,
+        temperature=None,
+        pressure=None,
+        steam_to_carbon=None,
+        oxygen_to_carbon=None,
+        co2_to_carbon=None,
+    ) -> Scenario:
+        """A copy with some window axes replaced.
+
+        Parameters
+        ----------
+        temperature, pressure : tuple, optional
+            ``(from, to, points)``; from and to are strings with units or pint quantities.
+        steam_to_carbon, oxygen_to_carbon, co2_to_carbon : tuple, optional
+            ``(from, to, points)`` with plain numbers [mol per mol hydrocarbon carbon]. At most
+            one co-feed axis; one given here replaces a co-feed axis of the scenario.
+
+        Returns
+        -------
+        Scenario
+            Validated like a file; errors name ``window.<axis>.<key>``.
+        """
+        given = {
+            "temperature": temperature,
+            "pressure": pressure,
+            "steam_to_carbon": steam_to_carbon,
+            "oxygen_to_carbon": oxygen_to_carbon,
+            "co2_to_carbon": co2_to_carbon,
+        }
+        if oxygen_to_carbon is not None and co2_to_carbon is not None:
+            raise InputError(
+                "window", "oxygen_to_carbon and co2_to_carbon", "at most one co-feed axis"
+            )
+        raw: dict[str, object] = {}
+        unit = {"temperature": " K", "pressure": " Pa"}
+        for name, axis in self.window.axes().items():
+            a, b = axis.start, axis.stop
+            if name in unit:
+                a, b = f"{a!r}{unit[name]}", f"{b!r}{unit[name]}"
+            raw[name] = {"from": a, "to": b, "points": axis.points}
+        if oxygen_to_carbon is not None or co2_to_carbon is not None:
+            for name in COFEEDS:
+                raw.pop(name, None)
+        for name, spec in given.items():
+            if spec is None:
+                continue
+            if not (isinstance(spec, (tuple, list)) and len(spec) == 3):
+                raise InputError(f"window.{name}", spec, "a tuple (from, to, points)")
+            raw[name] = {"from": spec[0], "to": spec[1], "points": spec[2]}
+        window = _window(raw)
+        _check_approach_fits(self.approach, self.temperature, window)
+        return self._changed(window=window)
+
+    def with_notes(self, notes: str) -> Scenario:
+        """A copy with new review notes (kept in :attr:`text` as well).
+
+        Parameters
+        ----------
+        notes : str
+            Free text.
+
+        Returns
+        -------
+        Scenario
+        """
+        return self._changed(notes=_string(notes, "notes"))
+
+    def _changed(self, **changes) -> Scenario:
+        new = dataclasses.replace(self, **changes)
+        return dataclasses.replace(new, text=new.to_toml())
+
+    def to_toml(self) -> str:
+        """TOML text that :func:`parse_scenario` reads back to an equal Scenario.
+
+        Quantities are written in K, Pa, mol/s and W with full float precision (the round
+        trip is exact); a comment beside each gives engineer units.
+
+        Returns
+        -------
+        str
+            The scenario file.
+        """
+        f = self.feed
+        lines = [
+            f"title = {_toml_string(self.title)}",
+            f"description = {_toml_string(self.description)}",
+            f"notes = {_toml_string(self.notes)}",
+            "",
+            "[feed]",
+            "composition = { " + ", ".join(f"{k} = {v!r}" for k, v in f.composition.items()) + " }",
+            f'flow = "{f.flow!r} mol/s"  # {units.kmol_per_h_from_mol_per_s(f.flow):.6g} kmol/h',
+            f'inlet_temperature = "{f.inlet_temperature!r} K"'
+            f"  # {units.degC_from_K(f.inlet_temperature):.6g} degC",
+            f"steam_to_carbon = {f.steam_to_carbon!r}",
+            f"oxygen_to_carbon = {f.oxygen_to_carbon!r}",
+            f"co2_to_carbon = {f.co2_to_carbon!r}",
+            "",
+            "[design_point]",
+            f'temperature = "{self.temperature!r} K"'
+            f"  # {units.degC_from_K(self.temperature):.6g} degC",
+            f'pressure = "{self.pressure!r} Pa"  # {units.bar_from_Pa(self.pressure):.6g} bar'
+            f" absolute, {units.barg_from_Pa(self.pressure):.6g} barg",
+            f'approach = "{self.approach!r} K"',
+            "",
+            "[window]",
+        ]
+        for name, axis in self.window.axes().items():
+            if name == "temperature":
+                a, b = f'"{axis.start!r} K"', f'"{axis.stop!r} K"'
+                note = (
+                    f"  # {units.degC_from_K(axis.start):.6g} to "
+                    f"{units.degC_from_K(axis.stop):.6g} degC"
+                )
+            elif name == "pressure":
+                a, b = f'"{axis.start!r} Pa"', f'"{axis.stop!r} Pa"'
+                note = (
+                    f"  # {units.bar_from_Pa(axis.start):.6g} to "
+                    f"{units.bar_from_Pa(axis.stop):.6g} bar absolute"
+                )
+            else:
+                a, b, note = repr(axis.start), repr(axis.stop), ""
+            lines.append(f"{name} = {{ from = {a}, to = {b}, points = {axis.points} }}{note}")
+        lim = self.limits
+        lines += ["", "[limits]"]
+        if lim.max_methane_slip_dry is not None:
+            lines.append(f"max_methane_slip_dry = {lim.max_methane_slip_dry!r}  # mol fraction")
+        lines.append(f"carbon_free = {'true' if lim.carbon_free else 'false'}")
+        if lim.min_h2_yield is not None:
+            lines.append(f"min_h2_yield = {lim.min_h2_yield!r}")
+        if lim.max_duty is not None:
+            lines.append(
+                f'max_duty = "{lim.max_duty!r} W"  # {units.MW_from_W(lim.max_duty):.6g} MW'
+            )
+        return "\n".join(lines) + "\n"
+
+
+# ------------------------------------------------------------------------------------ parsing
+
+
+_TOP_KEYS = ("title", "description", "notes", "feed", "design_point", "window", "limits")
+_FEED_KEYS = (
+    "composition",
+    "flow",
+    "inlet_temperature",
+    "steam_to_carbon",
+    "oxygen_to_carbon",
+    "co2_to_carbon",
+)
+_POINT_KEYS = ("temperature", "pressure", "approach")
+_WINDOW_KEYS = ("temperature", "pressure", "steam_to_carbon") + COFEEDS
+_AXIS_KEYS = ("from", "to", "points")
+_LIMIT_KEYS = ("max_methane_slip_dry", "carbon_free", "min_h2_yield", "max_duty")
+
+
+def _join(path: str, key: str) -> str:
+    return f"{path}.{key}" if path else key
+
+
+def _suggest(key: str, known, fuzzy: bool = True) -> str:
+    lower = {k.lower(): k for k in known}
+    if key.lower() in lower:
+        return f"; did you mean {lower[key.lower()]!r}?"
+    if not fuzzy:  # species: "H2S" is not a misspelt "H2"
+        return ""
+    close = difflib.get_close_matches(key, list(known), n=1, cutoff=0.6)
+    return f"; did you mean {close[0]!r}?" if close else ""
+
+
+def _check_keys(table: Mapping, path: str, known, required=()) -> None:
+    """Refuse unknown keys (with the nearest known key) and name missing required ones."""
+    section = f"[{path}]" if path else "the top level"
+    for key, value in table.items():
+        if key not in known:
+            raise InputError(
+                _join(path, key),
+                value,
+                f"a known key of {section} ({', '.join(known)}){_suggest(key, known)}",
+            )
+    for key in required:
+        if key not in table:
+            raise InputError(_join(path, key), _MISSING, f"a value: {key!r} is required")
+
+
+def _table(data: Mapping, key: str, path: str, required: bool = True) -> Mapping:
+    value = data.get(key, _MISSING)
+    where = _join(path, key)
+    if value is _MISSING:
+        if required:
+            raise InputError(where, value, f"a table [{where}]: the section is required")
+        return {}
+    if not isinstance(value, Mapping):
+        raise InputError(where, value, f"a table [{where}]")
+    return value
+
+
+def _string(value: object, field_: str) -> str:
+    if not isinstance(value, str):
+        raise InputError(field_, value, "a text string in quotes")
+    if any(0xD800 <= ord(c) <= 0xDFFF for c in value):
+        raise InputError(field_, value, "text without unpaired surrogate characters")
+    return value
+
+
+def _number(value: object, field_: str, what: str) -> float:
+    if isinstance(value, bool) or not isinstance(value, (Real, np.number)):
+        raise InputError(field_, value, f"a plain number ({what}), e.g. 3.0")
+    x = float(value)
+    if not math.isfinite(x):
+        raise InputError(field_, value, f"a finite number ({what})")
+    return x
+
+
+def _ratio(value: object, name: str, field_: str) -> float:
+    return check_ratio(name, _number(value, field_, _RATIO_WORDS[name]), field_)
+
+
+def _mean_molar_mass(composition: Mapping[str, float]) -> float:
+    return sum(x * molar_mass(name) for name, x in composition.items())
+
+
+def _normalise(values: dict[str, float]) -> Composition:
+    """Divide by the sum; then nudge the largest entry so that the sum is exactly 1.0."""
+    total = math.fsum(values.values())
+    if total != 1.0:
+        values = {k: v / total for k, v in values.items()}
+        big = max(values, key=values.__getitem__)
+        for _ in range(4):
+            if math.fsum(values.values()) == 1.0:
+                break
+            rest = math.fsum(v for k, v in values.items() if k != big)
+            values[big] = 1.0 - rest
+    return Composition(values)
+
+
+def parse_composition(value, field: str = "feed.composition") -> Composition:
+    """Validate and normalise a dry-feed composition.
+
+    Parameters
+    ----------
+    value : Mapping[str, float or str] or str
+        Species to mole fraction (plain numbers, or per cent such as ``"93.1 %"``), or text
+        ``"CH4=0.95,C2H6=0.03,N2=0.02"`` as typed on a command line.
+    field : str
+        Key path or option name for messages; species errors add ``.<species>``.
+
+    Returns
+    -------
+    Composition
+        Mole fractions [-] in :data:`FEED_COMPONENTS` order, summing to 1.
+
+    Raises
+    ------
+    InputError
+        Unknown species, negative fraction, no hydrocarbon, or a sum off 1 by more than
+        :data:`COMPOSITION_SUM_TOLERANCE`.
+    """
+    if isinstance(value, str):
+        pairs: dict[str, object] = {}
+        for part in value.split(","):
+            if not part.strip():
+                continue
+            name, sep, number = part.partition("=")
+            if not sep:
+                raise InputError(field, value, "species=fraction pairs, e.g. 'CH4=0.95,N2=0.05'")
+            try:
+                pairs[name.strip()] = float(number)
+            except ValueError:
+                pairs[name.strip()] = number.strip()
+        value = pairs
+    if not isinstance(value, Mapping) or not value:
+        raise InputError(field, value, "a table of mole fractions, e.g. { CH4 = 0.95, N2 = 0.05 }")
+    fractions: dict[str, float] = {}
+    for name, x in value.items():
+        where = f"{field}.{name}"
+        if name not in FEED_COMPONENTS:
+            raise InputError(
+                where,
+                x,
+                f"a species among {', '.join(FEED_COMPONENTS)}"
+                + _suggest(str(name), FEED_COMPONENTS, fuzzy=False),
+            )
+        if isinstance(x, str):
+            fractions[name] = units.fraction(x, where)
+            continue
+        number = _number(x, where, "mole fraction")
+        if number < 0.0:
+            raise InputError(where, x, "a mole fraction of 0 or more")
+        fractions[name] = number
+    total = math.fsum(fractions.values())
+    if abs(total - 1.0) > COMPOSITION_SUM_TOLERANCE:
+        off = (1.0 - total) * 100.0
+        how = f"{abs(off):.2f} % {'short' if off > 0 else 'over'}"
+        raise InputError(
+            field,
+            dict(value),
+            f"mole fractions that sum to 1 within {COMPOSITION_SUM_TOLERANCE:g}; these sum to "
+            f"{total:.4f} ({how}); per cent is written as strings such as '93.1 %'",
+        )
+    if not any(fractions.get(h, 0.0) > 0.0 for h in HYDROCARBONS):
+        raise InputError(
+            field, dict(value), f"at least one hydrocarbon ({', '.join(HYDROCARBONS)}) above 0"
+        )
+    ordered = {k: fractions[k] for k in FEED_COMPONENTS if k in fractions}
+    return _normalise(ordered)
+
+
+def _feed(data: Mapping) -> Feed:
+    _check_keys(
+        data, "feed", _FEED_KEYS, ("composition", "flow", "inlet_temperature", "steam_to_carbon")
+    )
+    if not isinstance(data["composition"], Mapping):
+        raise InputError(
+            "feed.composition",
+            data["composition"],
+            "a table of mole fractions, e.g. { CH4 = 0.95, N2 = 0.05 }",
+        )
+    composition = parse_composition(data["composition"], "feed.composition")
+    flow = units.molar_flow_mol_s(data["flow"], "feed.flow", _mean_molar_mass(composition))
+    if not flow > 0.0:
+        raise InputError("feed.flow", data["flow"], "a flow above 0")
+    inlet = check_inlet_temperature(
+        units.temperature_K(data["inlet_temperature"], "feed.inlet_temperature"),
+        "feed.inlet_temperature",
+        data["inlet_temperature"],
+    )
+    ratios = {
+        name: _ratio(data[name], name, f"feed.{name}")
+        for name in ("steam_to_carbon",) + COFEEDS
+        if name in data
+    }
+    return Feed(composition=composition, flow=flow, inlet_temperature=inlet, **ratios)
+
+
+def _axis(spec: object, name: str) -> Axis:
+    path = f"window.{name}"
+    if not isinstance(spec, Mapping):
+        raise InputError(path, spec, "a table { from = ..., to = ..., points = ... }")
+    _check_keys(spec, path, _AXIS_KEYS, _AXIS_KEYS)
+    values = []
+    for key in ("from", "to"):
+        raw, where = spec[key], f"{path}.{key}"
+        if name == "temperature":
+            values.append(check_temperature(units.temperature_K(raw, where), where, raw))
+        elif name == "pressure":
+            values.append(check_pressure(units.pressure_Pa(raw, where), where, raw))
+        else:
+            values.append(_ratio(raw, name, where))
+    points = spec["points"]
+    where = f"{path}.points"
+    if isinstance(points, bool) or not isinstance(points, (int, np.integer)):
+        raise InputError(where, points, f"a whole number from 1 to {MAX_AXIS_POINTS}")
+    points = int(points)
+    if not 1 <= points <= MAX_AXIS_POINTS:
+        raise InputError(where, points, f"a whole number from 1 to {MAX_AXIS_POINTS}")
+    start, stop = values
+    if points == 1:
+        if start != stop:
+            raise InputError(f"{path}.to", spec["to"], "the same value as 'from' when points = 1")
+    elif not stop > start:
+        raise InputError(
+            f"{path}.to", spec["to"], f"a value above 'from' ({spec['from']!r}) when points > 1"
+        )
+    return Axis(start=start, stop=stop, points=points)
+
+
+def _window(data: Mapping) -> Window:
+    _check_keys(data, "window", _WINDOW_KEYS, ("temperature", "pressure", "steam_to_carbon"))
+    cofeeds = [name for name in COFEEDS if name in data]
+    if len(cofeeds) > 1:
+        raise InputError(
+            f"window.{cofeeds[1]}",
+            data[cofeeds[1]],
+            f"no second co-feed axis: 'window.{cofeeds[0]}' is given, and at most one co-feed "
+            "axis is allowed",
+        )
+    axes = {name: _axis(data[name], name) for name in _WINDOW_KEYS if name in data}
+    cofeed = cofeeds[0] if cofeeds else None
+    window = Window(
+        temperature=axes["temperature"],
+        pressure=axes["pressure"],
+        steam_to_carbon=axes["steam_to_carbon"],
+        cofeed=cofeed,
+        cofeed_axis=axes.get(cofeed) if cofeed else None,
+    )
+    size = window.size()
+    if size > MAX_WINDOW_POINTS:
+        shape = " x ".join(str(a.points) for a in window.axes().values())
+        raise InputError(
+            "window", f"{shape} = {size} points", f"at most {MAX_WINDOW_POINTS} points in all"
+        )
+    return window
+
+
+def _check_approach_fits(approach: float, temperature: float, window: Window) -> None:
+    """The equilibrium is taken at T - approach, which must stay inside the model's range."""
+    lowest = min(temperature, window.temperature.start)
+    if lowest - approach < TEMPERATURE_RANGE_K[0]:
+        raise InputError(
+            "design_point.approach",
+            f"{approach:g} K",
+            f"an approach that keeps T - approach at or above {TEMPERATURE_RANGE_K[0]:g} K "
+            f"(the lowest temperature of the scenario is {lowest:g} K)",
+        )
+
+
+def _limits(data: Mapping) -> Limits:
+    _check_keys(data, "limits", _LIMIT_KEYS)
+    slip = None
+    if "max_methane_slip_dry" in data:
+        slip = units.fraction(data["max_methane_slip_dry"], "limits.max_methane_slip_dry")
+    carbon_free = data.get("carbon_free", True)
+    if not isinstance(carbon_free, bool):
+        raise InputError("limits.carbon_free", carbon_free, "true or false (without quotes)")
+    h2 = None
+    if "min_h2_yield" in data:
+        h2 = _number(data["min_h2_yield"], "limits.min_h2_yield", "mol H2 per mol hydrocarbon C")
+        if h2 < 0.0:
+            raise InputError("limits.min_h2_yield", data["min_h2_yield"], "a number of 0 or more")
+    duty = None
+    if "max_duty" in data:
+        duty = units.power_W(data["max_duty"], "limits.max_duty")
+    return Limits(
+        max_methane_slip_dry=slip, carbon_free=carbon_free, min_h2_yield=h2, max_duty=duty
+    )
+
+
+def _from_dict(data: Mapping, text: str, path: str | None) -> Scenario:
+    _check_keys(data, "", _TOP_KEYS, ("title", "feed", "design_point", "window"))
+    title = _string(data["title"], "title")
+    description = _string(data.get("description", ""), "description")
+    notes = _string(data.get("notes", ""), "notes")
+    feed = _feed(_table(data, "feed", ""))
+    point = _table(data, "design_point", "")
+    _check_keys(point, "design_point", _POINT_KEYS, ("temperature", "pressure"))
+    temperature = check_temperature(
+        units.temperature_K(point["temperature"], "design_point.temperature"),
+        "design_point.temperature",
+        point["temperature"],
+    )
+    pressure = check_pressure(
+        units.pressure_Pa(point["pressure"], "design_point.pressure"),
+        "design_point.pressure",
+        point["pressure"],
+    )
+    approach = 0.0
+    if "approach" in point:
+        approach = check_approach(
+            units.temperature_difference_K(point["approach"], "design_point.approach"),
+            "design_point.approach",
+            point["approach"],
+        )
+    window = _window(_table(data, "window", ""))
+    _check_approach_fits(approach, temperature, window)
+    limits = _limits(_table(data, "limits", "", required=False))
+    return Scenario(
+        title=title,
+        description=description,
+        feed=feed,
+        temperature=temperature,
+        pressure=pressure,
+        approach=approach,
+        window=window,
+        limits=limits,
+        notes=notes,
+        text=text,
+        path=path,
+    )
+
+
+def parse_scenario(text: str, path: str | None = None) -> Scenario:
+    """Read a scenario from TOML text.
+
+    Parameters
+    ----------
+    text : str
+        The TOML source.
+    path : str, optional
+        Where it came from, for messages and :attr:`Scenario.path`.
+
+    Returns
+    -------
+    Scenario
+        SI floats inside; ``text`` holds the source.
+
+    Raises
+    ------
+    InputError
+        Bad TOML, unknown or missing keys, wrong types, units or ranges.
+    """
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(path or "scenario", str(exc), "valid TOML") from None
+    return _from_dict(data, text, path)
+
+
+def load_scenario(path: str | os.PathLike | None = None) -> Scenario:
+    """Read a scenario file.
+
+    Parameters
+    ----------
+    path : str or os.PathLike, optional
+        The TOML file; the demo (:data:`DEMO_PATH`) when omitted.
+
+    Returns
+    -------
+    Scenario
+
+    Raises
+    ------
+    InputError
+        A missing or unreadable file, bad TOML or an invalid scenario.
+    """
+    file = DEMO_PATH if path is None else Path(path)
+    try:
+        text = file.read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise InputError("scenario file", str(file), "an existing file") from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError(
+            "scenario file", str(file), f"a readable UTF-8 text file ({exc})"
+        ) from None
+    return parse_scenario(text, str(file))
+
+
+# ----------------------------------------------------------------------------- point overrides
+
+
+def validate_point_overrides(field_names: Mapping[str, str] | None = None, **values) -> dict:
+    """Parse and range-check the overrides of one point (CLI options, ``point()`` keywords).
+
+    Parameters
+    ----------
+    field_names : Mapping[str, str], optional
+        Name to show in messages for each keyword, e.g. ``{"temperature": "--temperature"}``.
+    **values
+        Any of ``temperature``, ``pressure``, ``inlet_temperature`` (strings with units or pint
+        quantities), ``approach`` (a temperature difference), ``steam_to_carbon``,
+        ``oxygen_to_carbon``, ``co2_to_carbon`` (plain numbers) and ``feed`` (a composition,
+        see :func:`parse_composition`). None values are skipped.
+
+    Returns
+    -------
+    dict
+        The same keys with SI floats [K, Pa, K, mol per mol] or a :class:`Composition`.
+    """
+    names = dict(field_names or {})
+    out: dict[str, object] = {}
+    for key, value in values.items():
+        if value is None:
+            continue
+        where = names.get(key, key)
+        if key == "temperature":
+            out[key] = check_temperature(units.temperature_K(value, where), where, value)
+        elif key == "inlet_temperature":
+            out[key] = check_inlet_temperature(units.temperature_K(value, where), where, value)
+        elif key == "pressure":
+            out[key] = check_pressure(units.pressure_Pa(value, where), where, value)
+        elif key == "approach":
+            out[key] = check_approach(units.temperature_difference_K(value, where), where, value)
+        elif key in _RATIO_RANGES:
+            out[key] = _ratio(value, key, where)
+        elif key == "feed":
+            out[key] = parse_composition(value, where)
+        else:
+            raise TypeError(f"validate_point_overrides() got an unknown keyword {key!r}")
+    return out
+
+
+# ------------------------------------------------------------------------------------ writing
+
+
+def _toml_string(s: str) -> str:
+    """A TOML basic string (multi-line when `s` holds line breaks) that reads back as `s`."""
+    escapes = {'"': '\\"', "\\": "\\\\", "\b": "\\b", "\t": "\\t", "\f": "\\f", "\r": "\\r"}
+    multiline = "\n" in s
+    out = []
+    for c in s:
+        if c in escapes:
+            out.append(escapes[c])
+        elif c == "\n":
+            out.append("\n" if multiline else "\\n")
+        elif ord(c) < 0x20 or ord(c) == 0x7F:
+            out.append(f"\\u{ord(c):04x}")
+        else:
+            out.append(c)
+    body = "".join(out)
+    return f'"""\n{body}"""' if multiline else f'"{body}"'
