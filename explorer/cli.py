@@ -59,6 +59,55 @@ def _cmd_point(args: argparse.Namespace) -> int:
     return 0
 
 
+def _cmd_grid(args: argparse.Namespace) -> int:
+    import thermo
+    from thermo import io
+    from thermo.sweep import sweep
+
+    if args.workers is not None and args.scheduler is not None:
+        raise InputError("--workers", args.workers, "either --workers or --scheduler, not both")
+    if args.workers is not None and not 1 <= args.workers <= 256:
+        raise InputError("--workers", args.workers, "a number of worker processes from 1 to 256")
+    sc = thermo.load_scenario(args.scenario)
+    out = _output_path(args.output, ".nc")
+    n = sc.window.size()
+    if args.workers is None and args.scheduler is None:
+        _kernel_notice()
+    bar = _progress_bar(n, "solving window")
+    try:
+        ds = sweep(sc, workers=args.workers, scheduler=args.scheduler,
+                   progress=lambda done, total: bar.update(done - bar.n))
+    except OSError as err:  # cluster unreachable
+        where = args.scheduler or f"{args.workers} local workers"
+        raise InputError("--scheduler" if args.scheduler else "--workers", where,
+                         f"a reachable dask cluster ({err})") from None
+    finally:
+        bar.close()
+    io.save(ds, out)
+    bad = int((~ds["converged"]).sum())
+    print(f"wrote {out}: {n} points, {dict(ds.sizes)}; "
+          f"{bad} not converged" + (" (flagged in 'converged')" if bad else ""))
+    return 0
+
+
+def _output_path(text: str, suffix: str):
+    from pathlib import Path
+
+    path = Path(text)
+    if path.is_dir():
+        raise InputError("-o", text, f"a file name ending in {suffix}, not a folder")
+    if not path.parent.is_dir():
+        raise InputError("-o", text, "a file in an existing folder")
+    return path
+
+
+def _progress_bar(total: int, what: str):
+    from tqdm import tqdm
+
+    return tqdm(total=total, desc=what, unit="pt", unit_scale=True, file=sys.stderr,
+                mininterval=0.5, delay=1.0, leave=False)
+
+
 def _ratio_arg(name: str):
     def parse(text: str) -> float:
         try:
@@ -97,6 +146,16 @@ def build_parser() -> argparse.ArgumentParser:
                     help="solve the outlet temperature at zero duty")
     pt.add_argument("--json", action="store_true", help="print one strict JSON object (SI)")
     pt.set_defaults(func=_cmd_point)
+
+    gr = sub.add_parser("grid", help="solve the whole window and write a NetCDF grid file")
+    gr.add_argument("scenario", nargs="?", default=None,
+                    help="scenario TOML file (default: the shipped demo)")
+    gr.add_argument("-o", "--output", required=True, help="NetCDF file to write, e.g. grid.nc")
+    gr.add_argument("--workers", type=int, default=None,
+                    help="solve on N local dask worker processes")
+    gr.add_argument("--scheduler", default=None,
+                    help="address of a running dask.distributed scheduler, e.g. tcp://host:8786")
+    gr.set_defaults(func=_cmd_grid)
     return p
 
 

@@ -1,0 +1,76 @@
+"""Grid files: NetCDF write (atomic) and read (schema-checked)."""
+
+from __future__ import annotations
+
+import os
+import tempfile
+from pathlib import Path
+
+import xarray as xr
+
+from thermo.errors import InputError
+from thermo.sweep import SCHEMA_VERSION
+
+
+def save(ds: xr.Dataset, path: str | os.PathLike) -> Path:
+    """Write `ds` to NetCDF at `path` atomically.
+
+    The file is written under a temporary name in the same folder and renamed over `path`
+    only when complete, so an interrupted write leaves any earlier file intact and never a
+    half file.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        A sweep result.
+    path : path-like
+        Target file (``.nc``).
+
+    Returns
+    -------
+    pathlib.Path
+        The path written.
+    """
+    path = Path(path)
+    folder = path.parent if str(path.parent) else Path(".")
+    if not folder.is_dir():
+        raise InputError("output", str(path), "a file in an existing folder")
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=folder)
+    os.close(fd)
+    try:
+        ds.to_netcdf(tmp, engine="netcdf4")
+        os.replace(tmp, path)
+    except BaseException:
+        if os.path.exists(tmp):
+            os.unlink(tmp)
+        raise
+    return path
+
+
+def load(path: str | os.PathLike) -> xr.Dataset:
+    """Read a grid file written by :func:`save`, refusing another schema version.
+
+    Raises
+    ------
+    InputError
+        The file is missing, unreadable, or of another schema version (re-run the sweep).
+    """
+    path = Path(path)
+    if not path.is_file():
+        raise InputError("grid file", str(path), "an existing NetCDF file")
+    try:
+        ds = xr.load_dataset(path, engine="netcdf4")
+    except (OSError, ValueError) as err:
+        raise InputError("grid file", str(path), f"a readable NetCDF file ({err})") from None
+    version = ds.attrs.get("schema_version")
+    if version != SCHEMA_VERSION:
+        raise InputError(
+            "grid file", str(path),
+            f"schema version {SCHEMA_VERSION} (this file has {version!r}); re-run the sweep "
+            "with 'explorer grid'",
+        )
+    if "converged" in ds:
+        ds["converged"] = ds["converged"].astype(bool)
+    if "feasible" in ds:
+        ds["feasible"] = ds["feasible"].astype(bool)
+    return ds

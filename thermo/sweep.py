@@ -1,0 +1,297 @@
+"""The equilibrium over a whole operating window, as one self-describing xarray.Dataset.
+
+``sweep(scenario)`` flattens the window (temperature x pressure x steam-to-carbon, and an
+optional co-feed axis) into points, solves them in chunks with the same balance function as
+:func:`thermo.point` (so grid values equal point results), and reshapes the results onto the
+window. Chunks run in this process, or on dask.distributed workers: local processes
+(``workers=N``) or an existing cluster (``scheduler="tcp://host:port"``).
+
+Dataset contract (DESIGN.md): coordinates ``temperature`` [K], ``pressure`` [Pa],
+``steam_to_carbon`` [-], optionally ``oxygen_to_carbon`` or ``co2_to_carbon`` [-], and
+``species``; every variable has ``units`` and ``long_name``; attributes hold the scenario text,
+the data sources and the software version.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+import tomllib
+from collections import OrderedDict
+from collections.abc import Callable
+from datetime import UTC, datetime
+from importlib import resources
+
+import numpy as np
+import xarray as xr
+
+from thermo.balances import reformer_balance
+from thermo.constants import P_REF
+from thermo.scenario import Limits, Scenario
+from thermo.species import GAS_SPECIES
+
+#: Version of the Dataset layout; io.load refuses files of another version.
+SCHEMA_VERSION = "1"
+#: Points solved per chunk (memory stays near 200 MB per chunk in flight).
+CHUNK_POINTS = 65_536
+
+RATIO_AXES = ("steam_to_carbon", "oxygen_to_carbon", "co2_to_carbon")
+
+# name: (units, long_name)
+_VARIABLES: dict[str, tuple[str, str]] = {
+    "mole_fraction": ("1", "outlet mole fraction, wet basis"),
+    "mole_fraction_dry": ("1", "outlet mole fraction, dry basis (water removed)"),
+    "outlet_flow": ("mol s-1", "outlet molar flow"),
+    "inlet_flow": ("mol s-1", "inlet molar flow of the mixed feed"),
+    "carbon_deposit": ("mol s-1", "graphite formed at equilibrium"),
+    "carbon_activity": ("1", "carbon activity of the gas, graphite reference"),
+    "h2_yield": ("1", "H2 out per hydrocarbon carbon fed (mol per mol)"),
+    "h2_potential": ("1", "H2 + CO out per hydrocarbon carbon fed (mol per mol)"),
+    "methane_slip_dry": ("1", "methane slip, dry-basis CH4 mole fraction"),
+    "methane_conversion": ("1", "methane conversion, hydrocarbon-carbon basis"),
+    "h2_co_ratio": ("1", "H2/CO in the outlet (mol per mol; inf where no CO)"),
+    "duty": ("W", "heat supplied from feed at inlet temperature to outlet at T"),
+    "duty_per_h2": ("J mol-1", "duty per mol H2 in the outlet"),
+    "extent_reforming": ("mol s-1", "carbon oxides formed (reforming extent)"),
+    "extent_shift": ("mol s-1", "CO2 formed (shift extent)"),
+    "Q_reforming": ("1", "reaction quotient of CH4 + H2O = CO + 3 H2, 1 bar basis"),
+    "K_reforming": ("1", "equilibrium constant of CH4 + H2O = CO + 3 H2 at T, 1 bar basis"),
+    "converged": ("1", "equilibrium solver converged"),
+    "iterations": ("1", "equilibrium solver iterations"),
+}
+
+#: Scalar (per point) variables taken from a Balance.
+_SCALARS = ("carbon_deposit", "carbon_activity", "h2_yield", "h2_potential",
+            "methane_slip_dry", "methane_conversion", "h2_co_ratio", "duty",
+            "extent_reforming", "extent_shift", "Q_reforming", "K_reforming", "converged",
+            "iterations")
+_PER_SPECIES = ("mole_fraction", "mole_fraction_dry", "outlet_flow")
+
+
+def window_axes(scenario: Scenario) -> dict[str, np.ndarray]:
+    """The window's coordinate values by dimension name, in dataset order (SI)."""
+    return {name: axis.values() for name, axis in scenario.window.axes().items()}
+
+
+def _inlet_by_ratio(scenario: Scenario, axes: dict[str, np.ndarray]) -> np.ndarray:
+    """Inlet flows over the ratio axes, shape (ratio dims..., S) [mol s-1]."""
+    ratio_dims = [d for d in axes if d in RATIO_AXES]
+    grids = np.meshgrid(*[axes[d] for d in ratio_dims], indexing="ij")
+    kwargs = dict(zip(ratio_dims, grids, strict=True))
+    flows = scenario.feed.inlet_flows(**kwargs)  # (S, ratio dims...)
+    return np.moveaxis(flows, 0, -1)
+
+
+def solve_chunk(scenario: Scenario, start: int, stop: int) -> dict[str, np.ndarray]:
+    """Solve flat window points ``start:stop`` (C order over the window dims).
+
+    Returns a dict of arrays over those points: the per-point and per-species variables.
+    Public so dask workers can run it; it depends only on its arguments.
+    """
+    axes = window_axes(scenario)
+    shape = tuple(len(v) for v in axes.values())
+    idx = np.unravel_index(np.arange(start, stop), shape)
+    names = list(axes)
+    T = axes["temperature"][idx[names.index("temperature")]]
+    P = axes["pressure"][idx[names.index("pressure")]]
+    inlet = _inlet_by_ratio(scenario, axes)
+    ratio_idx = tuple(idx[names.index(d)] for d in names if d in RATIO_AXES)
+    n_in = inlet[ratio_idx]
+    bal = reformer_balance(n_in, T, P, scenario.feed.inlet_temperature, scenario.approach)
+    out = {k: getattr(bal, k) for k in _SCALARS + _PER_SPECIES}
+    h2 = bal.outlet_flow[:, GAS_SPECIES.index("H2")]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        out["duty_per_h2"] = np.where(h2 > 0, bal.duty / h2, np.nan)
+    return out
+
+
+def _chunks(n: int, size: int) -> list[tuple[int, int]]:
+    return [(a, min(a + size, n)) for a in range(0, n, size)]
+
+
+def _sources() -> str:
+    text = resources.files("thermo").joinpath("data/references.toml").read_text("utf-8")
+    refs = tomllib.loads(text)
+    return "; ".join(f"[{k}] {v['citation']}" for k, v in refs.items()
+                     if k in ("GRI30", "TM4513", "IUPAC2021", "CODATA2018"))
+
+
+def feasible_mask(ds: xr.Dataset, limits) -> xr.DataArray:
+    """Points meeting every review limit of `limits` (a thermo.scenario.Limits)."""
+    ok = ds["converged"].astype(bool)
+    if limits.max_methane_slip_dry is not None:
+        ok = ok & (ds["methane_slip_dry"] <= limits.max_methane_slip_dry)
+    if limits.carbon_free:
+        ok = ok & (ds["carbon_deposit"] <= 0.0)
+    if limits.min_h2_yield is not None:
+        ok = ok & (ds["h2_yield"] >= limits.min_h2_yield)
+    if limits.max_duty is not None:
+        ok = ok & (ds["duty"] <= limits.max_duty)
+    ok.attrs = {"units": "1", "long_name": "all review limits met"}
+    return ok
+
+
+def sweep(
+    scenario: Scenario,
+    *,
+    workers: int | None = None,
+    scheduler: str | None = None,
+    chunk_points: int = CHUNK_POINTS,
+    progress: Callable[[int, int], None] | None = None,
+) -> xr.Dataset:
+    """Equilibrium and balance over the scenario's whole window.
+
+    Parameters
+    ----------
+    scenario : Scenario
+        Feed, approach and window (thermo.load_scenario, Scenario.with_window).
+    workers : int, optional
+        Solve on a local dask.distributed cluster of this many worker processes.
+    scheduler : str, optional
+        Address of an existing dask.distributed scheduler (``"tcp://127.0.0.1:8786"``).
+    chunk_points : int
+        Points per chunk.
+    progress : callable, optional
+        Called as ``progress(points_done, points_total)`` after each chunk.
+
+    Returns
+    -------
+    xarray.Dataset
+        The DESIGN.md contract plus ``feasible`` (all review limits met).
+    """
+    axes = window_axes(scenario)
+    shape = tuple(len(v) for v in axes.values())
+    n = math.prod(shape)
+    chunks = _chunks(n, max(1, int(chunk_points)))
+    if workers is not None or scheduler is not None:
+        results = _solve_distributed(scenario, chunks, workers, scheduler, progress, n)
+    else:
+        results = []
+        done = 0
+        for a, b in chunks:
+            results.append(solve_chunk(scenario, a, b))
+            done += b - a
+            if progress is not None:
+                progress(done, n)
+    return assemble(scenario, results)
+
+
+def _solve_distributed(scenario, chunks, workers, scheduler, progress, n):
+    from dask.distributed import Client, LocalCluster, as_completed
+
+    cluster = None
+    if scheduler is not None:
+        client = Client(scheduler, timeout="20s")
+    else:
+        cluster = LocalCluster(n_workers=int(workers), threads_per_worker=1, processes=True,
+                               host="127.0.0.1", dashboard_address=None)
+        client = Client(cluster)
+    try:
+        futures = [client.submit(solve_chunk, scenario, a, b, pure=False) for a, b in chunks]
+        index = {f.key: i for i, f in enumerate(futures)}
+        results: list = [None] * len(futures)
+        done = 0
+        for fut in as_completed(futures):
+            i = index[fut.key]
+            results[i] = fut.result()
+            done += chunks[i][1] - chunks[i][0]
+            if progress is not None:
+                progress(done, n)
+        return results
+    finally:
+        client.close()
+        if cluster is not None:
+            cluster.close()
+
+
+def assemble(scenario: Scenario, results: list[dict[str, np.ndarray]]) -> xr.Dataset:
+    """Dataset from chunk results in window order (see :func:`solve_chunk`)."""
+    axes = window_axes(scenario)
+    dims = list(axes)
+    shape = tuple(len(v) for v in axes.values())
+    flat = {k: np.concatenate([r[k] for r in results]) for k in results[0]}
+    data_vars = {}
+    for k, v in flat.items():
+        if k in _PER_SPECIES:
+            data_vars[k] = (dims + ["species"], v.reshape(shape + (len(GAS_SPECIES),)))
+        else:
+            data_vars[k] = (dims, v.reshape(shape))
+    ratio_dims = [d for d in dims if d in RATIO_AXES]
+    data_vars["inlet_flow"] = (ratio_dims + ["species"], _inlet_by_ratio(scenario, axes))
+    coords = {d: axes[d] for d in dims}
+    coords["species"] = np.array(GAS_SPECIES, dtype=object)
+    ds = xr.Dataset(data_vars, coords=coords)
+    for k, (u, ln) in _VARIABLES.items():
+        ds[k].attrs = {"units": u, "long_name": ln}
+    ds["converged"] = ds["converged"].astype(bool)
+    ds["converged"].attrs = {"units": "1", "long_name": _VARIABLES["converged"][1]}
+    coord_attrs = {
+        "temperature": ("K", "reformer outlet temperature"),
+        "pressure": ("Pa", "reformer outlet pressure, absolute"),
+        "steam_to_carbon": ("1", "steam-to-carbon ratio, mol H2O per mol hydrocarbon carbon"),
+        "oxygen_to_carbon": ("1", "O2 co-feed, mol O2 per mol hydrocarbon carbon"),
+        "co2_to_carbon": ("1", "CO2 co-feed, mol CO2 per mol hydrocarbon carbon"),
+        "species": ("1", "gas species"),
+    }
+    for d in list(dims) + ["species"]:
+        u, ln = coord_attrs[d]
+        ds[d].attrs = {"units": u, "long_name": ln}
+    ds["feasible"] = feasible_mask(ds, scenario.limits)
+    from thermo import __version__
+
+    ds.attrs = {
+        "title": scenario.title,
+        "schema_version": SCHEMA_VERSION,
+        "thermo_version": __version__,
+        "scenario": scenario.text or scenario.to_toml(),
+        "data_sources": _sources(),
+        "standard_pressure_Pa": P_REF,
+        "approach_K": scenario.approach,
+        "inlet_temperature_K": scenario.feed.inlet_temperature,
+        "hydrocarbon_carbon_mol_per_s": scenario.feed.carbon_flow(),
+        "model": "ideal gas + pure graphite, Gibbs energy minimization (element potentials); "
+                 "composition at T - approach, enthalpy at T",
+        "created": datetime.now(UTC).isoformat(timespec="seconds"),
+        "converged_fraction": float(ds["converged"].mean()),
+    }
+    return ds
+
+
+class SweepCache:
+    """Sweeps kept by scenario content, so one app session never computes one twice.
+
+    The key is the scenario with its free text (title, description, notes) and its review
+    limits blanked: those change no solved number. A hit returns the stored Dataset with the
+    current scenario text and the feasible window of the current limits.
+    """
+
+    def __init__(self, maxsize: int = 8):
+        self.maxsize = maxsize
+        self._store: OrderedDict = OrderedDict()
+        self.hits = 0
+        self.misses = 0
+
+    @staticmethod
+    def key(scenario: Scenario):
+        """Content key of a scenario (hashable)."""
+        return dataclasses.replace(scenario, title="", description="", notes="",
+                                   limits=Limits())
+
+    def get(self, scenario: Scenario, **kwargs) -> xr.Dataset:
+        """The sweep of `scenario`, computed only on the first request (kwargs to sweep)."""
+        k = self.key(scenario)
+        if k in self._store:
+            self._store.move_to_end(k)
+            self.hits += 1
+            ds = self._store[k].copy()
+        else:
+            self.misses += 1
+            ds = sweep(scenario, **kwargs)
+            self._store[k] = ds
+            while len(self._store) > self.maxsize:
+                self._store.popitem(last=False)
+            ds = ds.copy()
+        ds.attrs = dict(ds.attrs, title=scenario.title,
+                        scenario=scenario.text or scenario.to_toml())
+        ds["feasible"] = feasible_mask(ds, scenario.limits)
+        return ds
