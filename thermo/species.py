@@ -80,7 +80,7 @@ class SpeciesRecord:
         """
         if self.phase != "gas":
             return 0.0
-        return -math.log(P_REF / self.standard_pressure)
+        return math.log(self.standard_pressure / P_REF)
 
     @property
     def molar_mass(self) -> float:
