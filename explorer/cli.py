@@ -108,6 +108,38 @@ def _progress_bar(total: int, what: str):
                 mininterval=0.5, delay=1.0, leave=False)
 
 
+def _cmd_serve(args: argparse.Namespace) -> int:
+    import ipaddress
+
+    import thermo
+
+    sc = thermo.load_scenario(args.scenario)  # errors in the file show here, before serving
+    if not 1 <= args.port <= 65535:
+        raise InputError("--port", args.port, "a port number from 1 to 65535")
+    try:
+        loopback = ipaddress.ip_address(args.address).is_loopback
+    except ValueError:
+        raise InputError("--address", args.address, "an IP address such as 127.0.0.1") from None
+    if not loopback:
+        print(f"explorer: warning: serving on {args.address}: anyone who can reach this "
+              "address can use the app. Bind 127.0.0.1 unless you mean to share it.",
+              file=sys.stderr)
+    _kernel_notice()
+    import panel as pn
+
+    from explorer.app import build_app
+
+    origin = [f"{args.address}:{args.port}"]
+    if loopback:
+        origin.append(f"localhost:{args.port}")
+    print(f"explorer: serving {sc.title!r} at http://{args.address}:{args.port}/ "
+          "(Ctrl+C to stop)", file=sys.stderr, flush=True)
+    pn.serve({"/": lambda: build_app(sc)}, port=args.port, address=args.address,
+             websocket_origin=origin, show=False, title="Reformer window explorer",
+             verbose=False)
+    return 0
+
+
 def _ratio_arg(name: str):
     def parse(text: str) -> float:
         try:
@@ -156,6 +188,14 @@ def build_parser() -> argparse.ArgumentParser:
     gr.add_argument("--scheduler", default=None,
                     help="address of a running dask.distributed scheduler, e.g. tcp://host:8786")
     gr.set_defaults(func=_cmd_grid)
+
+    sv = sub.add_parser("serve", help="open the explorer in a browser (local server)")
+    sv.add_argument("scenario", nargs="?", default=None,
+                    help="scenario TOML file (default: the shipped demo)")
+    sv.add_argument("--port", type=int, default=5006, help="port (default 5006)")
+    sv.add_argument("--address", default="127.0.0.1",
+                    help="address to bind (default 127.0.0.1: this machine only)")
+    sv.set_defaults(func=_cmd_serve)
     return p
 
 

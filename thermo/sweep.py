@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
+import threading
 import tomllib
 from collections import OrderedDict
 from collections.abc import Callable
@@ -268,6 +269,7 @@ class SweepCache:
     def __init__(self, maxsize: int = 8):
         self.maxsize = maxsize
         self._store: OrderedDict = OrderedDict()
+        self._lock = threading.Lock()
         self.hits = 0
         self.misses = 0
 
@@ -277,20 +279,30 @@ class SweepCache:
         return dataclasses.replace(scenario, title="", description="", notes="",
                                    limits=Limits())
 
+    def __contains__(self, scenario: Scenario) -> bool:
+        with self._lock:
+            return self.key(scenario) in self._store
+
     def get(self, scenario: Scenario, **kwargs) -> xr.Dataset:
-        """The sweep of `scenario`, computed only on the first request (kwargs to sweep)."""
+        """The sweep of `scenario`, computed only on the first request (kwargs to sweep).
+
+        Thread-safe; the solve itself runs outside the lock, so other sessions' hits are
+        never held up by a long solve.
+        """
         k = self.key(scenario)
-        if k in self._store:
-            self._store.move_to_end(k)
-            self.hits += 1
-            ds = self._store[k].copy()
-        else:
-            self.misses += 1
+        with self._lock:
+            ds = self._store.get(k)
+            if ds is not None:
+                self._store.move_to_end(k)
+                self.hits += 1
+        if ds is None:
             ds = sweep(scenario, **kwargs)
-            self._store[k] = ds
-            while len(self._store) > self.maxsize:
-                self._store.popitem(last=False)
-            ds = ds.copy()
+            with self._lock:
+                self.misses += 1
+                self._store[k] = ds
+                while len(self._store) > self.maxsize:
+                    self._store.popitem(last=False)
+        ds = ds.copy()
         ds.attrs = dict(ds.attrs, title=scenario.title,
                         scenario=scenario.text or scenario.to_toml())
         ds["feasible"] = feasible_mask(ds, scenario.limits)

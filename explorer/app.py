@@ -1,0 +1,594 @@
+"""The browser app: one page that reads top to bottom like a worked study.
+
+Sections: the scenario and its feed (editable), the operating-window maps, the balance of the
+selected point, pinned points, and review notes. :func:`build_app` returns the page for a
+session; ``explorer serve`` serves it, and in a notebook ``build_app(...)`` displays inline.
+"""
+
+from __future__ import annotations
+
+import io as _io
+import json
+import math
+import os
+import tempfile
+from pathlib import Path
+
+import numpy as np
+import panel as pn
+from bokeh.events import Tap
+
+import thermo
+from explorer import CAUTION
+from explorer.maps import MODES, VARIABLES, map_figure, slice_layers, variable_levels
+from explorer.state import ExplorerState
+from explorer.tables import balance_csv, balance_html, comparison_html
+from thermo import io as grid_io
+from thermo.errors import InputError
+from thermo.scenario import DEMO_PATH, Scenario, parse_scenario
+
+#: Largest scenario file accepted by upload [bytes].
+MAX_UPLOAD_BYTES = 256 * 1024
+
+PAGE_CSS = """
+:host { --rw-ink: #1d2a33; --rw-accent: #00a37a; --rw-warn: #b3261e; }
+.rw-table { border-collapse: collapse; font-size: 12.5px; margin: 4px 0 10px 0; }
+.rw-table th { background: #e9eef1; color: var(--rw-ink); text-align: right; padding: 3px 8px;
+  border-bottom: 2px solid #b9c6cd; }
+.rw-table th:first-child, .rw-table td:first-child { text-align: left; }
+.rw-table td { text-align: right; padding: 2px 8px; border-bottom: 1px solid #e3e8eb;
+  font-variant-numeric: tabular-nums; }
+.rw-small { font-size: 11.5px; color: #4a5a64; }
+.rw-warn { color: var(--rw-warn); font-weight: 600; }
+h4 { margin: 10px 0 2px 0; color: var(--rw-ink); }
+"""
+
+CAUTION_CSS = """
+:host { background: #fff4e5; border-left: 5px solid #e08a00; padding: 2px 12px;
+  font-size: 13px; }
+"""
+
+SECTION_CSS = """
+:host h2 { border-bottom: 2px solid #00a37a; padding-bottom: 2px; color: #1d2a33; }
+"""
+
+
+def scenario_files() -> dict[str, Path]:
+    """The shipped scenario files by display name (the only files the app opens itself)."""
+    folder = DEMO_PATH.parent
+    return {p.stem: p for p in sorted(folder.glob("*.toml"))}
+
+
+def _q(value: str) -> str:
+    """A TOML value from a field's text: a number stays a number, anything else a string."""
+    text = value.strip()
+    try:
+        float(text)
+        if text.lower() in ("nan", "inf", "-inf", "+inf", "infinity"):
+            raise ValueError
+        return text
+    except ValueError:
+        return json.dumps(text)
+
+
+def _composition_toml(text: str) -> str:
+    pairs = []
+    for part in text.replace(";", ",").split(","):
+        if not part.strip():
+            continue
+        name, sep, val = part.partition("=")
+        if not sep:
+            return json.dumps(text)  # refused by the parser with the key path
+        key = name.strip()
+        key = key if key.replace("_", "").isalnum() else json.dumps(key)
+        pairs.append(f"{key} = {_q(val)}")
+    return "{ " + ", ".join(pairs) + " }"
+
+
+def _display(v: float, digits: int = 6) -> str:
+    return f"{v:.{digits}g}"
+
+
+class ScenarioForm:
+    """Editable scenario: feed, design point, window and limits, with messages per field."""
+
+    FIELDS = [
+        # (name, label, key path)
+        ("composition", "Dry feed, mole fractions", "feed.composition"),
+        ("flow", "Dry feed flow", "feed.flow"),
+        ("inlet_temperature", "Feed inlet temperature", "feed.inlet_temperature"),
+        ("steam_to_carbon", "Design steam-to-carbon", "feed.steam_to_carbon"),
+        ("oxygen_to_carbon", "O2 co-feed per C", "feed.oxygen_to_carbon"),
+        ("co2_to_carbon", "CO2 co-feed per C", "feed.co2_to_carbon"),
+        ("temperature", "Design outlet temperature", "design_point.temperature"),
+        ("pressure", "Design outlet pressure", "design_point.pressure"),
+        ("approach", "Approach to equilibrium", "design_point.approach"),
+        ("t_from", "Window T from", "window.temperature.from"),
+        ("t_to", "Window T to", "window.temperature.to"),
+        ("t_points", "T points", "window.temperature.points"),
+        ("p_from", "Window P from", "window.pressure.from"),
+        ("p_to", "Window P to", "window.pressure.to"),
+        ("p_points", "P points", "window.pressure.points"),
+        ("s_from", "Window S/C from", "window.steam_to_carbon.from"),
+        ("s_to", "Window S/C to", "window.steam_to_carbon.to"),
+        ("s_points", "S/C points", "window.steam_to_carbon.points"),
+        ("max_slip", "Max methane slip, dry", "limits.max_methane_slip_dry"),
+        ("min_yield", "Min H2 yield (mol/mol C)", "limits.min_h2_yield"),
+        ("max_duty", "Max duty", "limits.max_duty"),
+    ]
+
+    def __init__(self, state: ExplorerState):
+        self.state = state
+        self.inputs = {name: pn.widgets.TextInput(name=label, width=190)
+                       for name, label, _ in self.FIELDS}
+        self.messages = {name: pn.pane.Markdown("", styles={"color": "#b3261e"}, width=190,
+                                                margin=(0, 5, 0, 10))
+                         for name, _, _ in self.FIELDS}
+        self.carbon_free = pn.widgets.Checkbox(name="Carbon-free required", value=True)
+        self.apply = pn.widgets.Button(name="Apply and solve", button_type="primary")
+        self.reset = pn.widgets.Button(name="Reset fields")
+        self.general = pn.pane.Markdown("", styles={"color": "#b3261e"})
+        files = scenario_files()
+        self.chooser = pn.widgets.Select(name="Shipped scenario", options=list(files),
+                                         value=_current_name(state.scenario, files), width=220)
+        self.upload = pn.widgets.FileInput(accept=".toml", multiple=False, width=260)
+        self.apply.on_click(lambda e: self.submit())
+        self.reset.on_click(lambda e: self.fill(self.state.scenario))
+        self.chooser.param.watch(self._choose, "value")
+        self.upload.param.watch(self._upload, "value")
+        self.fill(state.scenario)
+
+    def fill(self, sc: Scenario) -> None:
+        """Put a scenario's values in the fields (engineer units)."""
+        f, w, lim = sc.feed, sc.window, sc.limits
+        v = self.inputs
+        v["composition"].value = ", ".join(f"{k}={_display(x)}" for k, x in
+                                           f.composition.items())
+        v["flow"].value = f"{_display(f.flow * 3.6)} kmol/h"
+        v["inlet_temperature"].value = f"{_display(f.inlet_temperature - 273.15)} degC"
+        v["steam_to_carbon"].value = _display(f.steam_to_carbon)
+        v["oxygen_to_carbon"].value = _display(f.oxygen_to_carbon)
+        v["co2_to_carbon"].value = _display(f.co2_to_carbon)
+        v["temperature"].value = f"{_display(sc.temperature - 273.15)} degC"
+        v["pressure"].value = f"{_display(sc.pressure / 1e5)} bar"
+        v["approach"].value = f"{_display(sc.approach)} K"
+        v["t_from"].value = f"{_display(w.temperature.start - 273.15)} degC"
+        v["t_to"].value = f"{_display(w.temperature.stop - 273.15)} degC"
+        v["t_points"].value = str(w.temperature.points)
+        v["p_from"].value = f"{_display(w.pressure.start / 1e5)} bar"
+        v["p_to"].value = f"{_display(w.pressure.stop / 1e5)} bar"
+        v["p_points"].value = str(w.pressure.points)
+        v["s_from"].value = _display(w.steam_to_carbon.start)
+        v["s_to"].value = _display(w.steam_to_carbon.stop)
+        v["s_points"].value = str(w.steam_to_carbon.points)
+        v["max_slip"].value = ("" if lim.max_methane_slip_dry is None
+                               else f"{_display(lim.max_methane_slip_dry * 100)} mol%")
+        v["min_yield"].value = "" if lim.min_h2_yield is None else _display(lim.min_h2_yield)
+        v["max_duty"].value = "" if lim.max_duty is None else f"{_display(lim.max_duty / 1e6)} MW"
+        self.carbon_free.value = lim.carbon_free
+        self._clear()
+
+    def _clear(self) -> None:
+        for m in self.messages.values():
+            m.object = ""
+        self.general.object = ""
+
+    def toml_text(self) -> str:
+        """The scenario file the fields describe (validated by the core's parser)."""
+        v = {k: w.value for k, w in self.inputs.items()}
+        sc = self.state.scenario
+        lines = [
+            f"title = {json.dumps(sc.title)}",
+            f"description = {json.dumps(sc.description)}",
+            f"notes = {json.dumps(self.state.notes)}",
+            "[feed]",
+            f"composition = {_composition_toml(v['composition'])}",
+            f"flow = {_q(v['flow'])}",
+            f"inlet_temperature = {_q(v['inlet_temperature'])}",
+            f"steam_to_carbon = {_q(v['steam_to_carbon'])}",
+            f"oxygen_to_carbon = {_q(v['oxygen_to_carbon'])}",
+            f"co2_to_carbon = {_q(v['co2_to_carbon'])}",
+            "[design_point]",
+            f"temperature = {_q(v['temperature'])}",
+            f"pressure = {_q(v['pressure'])}",
+            f"approach = {_q(v['approach'])}",
+            "[window]",
+            f"temperature = {{ from = {_q(v['t_from'])}, to = {_q(v['t_to'])}, "
+            f"points = {_q(v['t_points'])} }}",
+            f"pressure = {{ from = {_q(v['p_from'])}, to = {_q(v['p_to'])}, "
+            f"points = {_q(v['p_points'])} }}",
+            f"steam_to_carbon = {{ from = {_q(v['s_from'])}, to = {_q(v['s_to'])}, "
+            f"points = {_q(v['s_points'])} }}",
+        ]
+        if sc.window.cofeed is not None:
+            a = sc.window.cofeed_axis
+            lines.append(f"{sc.window.cofeed} = {{ from = {a.start!r}, to = {a.stop!r}, "
+                         f"points = {a.points} }}")
+        lines.append("[limits]")
+        if v["max_slip"].strip():
+            lines.append(f"max_methane_slip_dry = {_q(v['max_slip'])}")
+        lines.append(f"carbon_free = {'true' if self.carbon_free.value else 'false'}")
+        if v["min_yield"].strip():
+            lines.append(f"min_h2_yield = {_q(v['min_yield'])}")
+        if v["max_duty"].strip():
+            lines.append(f"max_duty = {_q(v['max_duty'])}")
+        return "\n".join(lines) + "\n"
+
+    def submit(self) -> bool:
+        """Validate the fields; on success adopt the scenario, else show the message."""
+        self._clear()
+        try:
+            sc = parse_scenario(self.toml_text(), path=self.state.scenario.path)
+        except InputError as err:
+            self.show_error(err)
+            return False
+        self.state.set_scenario(sc)
+        return True
+
+    def show_error(self, err: InputError) -> None:
+        """Put the message beside the field it names (and above the button)."""
+        for name, _, key in self.FIELDS:
+            if err.field == key or err.field.startswith(key + "."):
+                self.messages[name].object = f"{err.allowed} (got {err.value!r})"
+                break
+        self.general.object = (f"Not applied: {err}. The maps still show the last valid "
+                               "scenario.")
+
+    def _choose(self, event) -> None:
+        path = scenario_files().get(event.new)
+        if path is None:
+            return
+        try:
+            sc = thermo.load_scenario(path)
+        except InputError as err:
+            self.general.object = f"Could not open {event.new}: {err}"
+            return
+        self.state.notes = sc.notes
+        self.state.set_scenario(sc)
+        self.fill(sc)
+
+    def _upload(self, event) -> None:
+        data = event.new
+        if data is None:
+            return
+        if len(data) > MAX_UPLOAD_BYTES:
+            self.general.object = (f"Not loaded: the file has {len(data):,} bytes; scenario "
+                                   f"files are limited to {MAX_UPLOAD_BYTES:,} bytes.")
+            return
+        try:
+            text = data.decode("utf-8")
+            sc = parse_scenario(text, path=self.upload.filename)
+        except UnicodeDecodeError:
+            self.general.object = "Not loaded: the file is not UTF-8 text."
+            return
+        except InputError as err:
+            self.general.object = f"Not loaded: {err}"
+            return
+        self.state.notes = sc.notes
+        self.state.set_scenario(sc)
+        self.fill(sc)
+
+    def __panel__(self):
+        def cell(name):
+            return pn.Column(self.inputs[name], self.messages[name], margin=0)
+
+        feed = pn.Column("#### Feed", cell("composition"),
+                         pn.Row(cell("flow"), cell("inlet_temperature")),
+                         pn.Row(cell("steam_to_carbon"), cell("oxygen_to_carbon"),
+                                cell("co2_to_carbon")))
+        design = pn.Column("#### Design point", pn.Row(cell("temperature"), cell("pressure"),
+                                                        cell("approach")))
+        window = pn.Column("#### Window",
+                           pn.Row(cell("t_from"), cell("t_to"), cell("t_points")),
+                           pn.Row(cell("p_from"), cell("p_to"), cell("p_points")),
+                           pn.Row(cell("s_from"), cell("s_to"), cell("s_points")))
+        limits = pn.Column("#### Review limits", pn.Row(cell("max_slip"), cell("min_yield"),
+                                                         cell("max_duty")), self.carbon_free)
+        self.inputs["composition"].width = 600
+        source = pn.Row(self.chooser, pn.Column("Or open a scenario file (.toml)", self.upload))
+        return pn.Column(source, pn.Row(feed, design), pn.Row(window, limits),
+                         pn.Row(self.apply, self.reset), self.general)
+
+
+def _current_name(sc: Scenario, files: dict[str, Path]) -> str:
+    if sc.path:
+        for name, p in files.items():
+            if Path(sc.path).resolve() == p.resolve():
+                return name
+    return next(iter(files)) if files else ""
+
+
+class MapsView:
+    """Two maps side by side with the slice chooser; clicks select a grid point."""
+
+    def __init__(self, state: ExplorerState):
+        self.state = state
+        self.mode = pn.widgets.RadioButtonGroup(options={v: k for k, v in MODES.items()},
+                                                value=state.mode, button_type="light")
+        self.left = pn.widgets.Select(name="Left map", options=_var_options(),
+                                      value=state.left, width=260)
+        self.right = pn.widgets.Select(name="Right map", options=_var_options(),
+                                       value=state.right, width=260)
+        self.sliders = pn.Row()
+        self.panes = [pn.pane.Bokeh(None), pn.pane.Bokeh(None)]
+        self.sources: list[dict] = [{}, {}]
+        self.levels: dict[str, np.ndarray] = {}
+        self.status = pn.pane.Markdown("", margin=(0, 10))
+        self.bar = pn.indicators.Progress(value=0, max=1000, width=300, visible=False)
+        self.mode.param.watch(lambda e: setattr(state, "mode", e.new), "value")
+        self.left.param.watch(lambda e: setattr(state, "left", e.new), "value")
+        self.right.param.watch(lambda e: setattr(state, "right", e.new), "value")
+        state.param.watch(self._rebuild, ["dataset", "mode", "left", "right"])
+        state.param.watch(self._redraw_slices, ["fixed"])
+        state.param.watch(self._mark_selected, ["selected"])
+        state.param.watch(self._progress, ["busy", "progress", "status"])
+        self._progress()
+        if state.dataset is not None:
+            self._rebuild()
+
+    def _progress(self, *_):
+        s = self.state
+        self.bar.visible = s.busy
+        self.bar.value = int(1000 * s.progress)
+        self.status.object = s.status
+
+    def _rebuild(self, *_):
+        s = self.state
+        ds = s.dataset
+        if ds is None:
+            return
+        self.levels = {k: variable_levels(ds, VARIABLES[k]) for k in (s.left, s.right)}
+        x = ds.temperature.values - 273.15
+        y = ds[s.mode].values / (1e5 if s.mode == "pressure" else 1.0)
+        for i, key in enumerate((s.left, s.right)):
+            var = VARIABLES[key]
+            layers = slice_layers(ds, var, s.mode, s.fixed, s.scenario.limits, self.levels[key])
+            fig, src, _ = map_figure(var, s.mode, self.levels[key], layers, f"map-{i}",
+                                     (float(x.min()), float(x.max())),
+                                     (float(y.min()), float(y.max())))
+            fig.on_event(Tap, self._tap)
+            self.sources[i] = src
+            self.panes[i].object = fig
+        self._build_sliders()
+        self._mark_selected()
+
+    def _build_sliders(self):
+        s, ds = self.state, self.state.dataset
+        widgets = []
+        for d in [d for d in ds["h2_yield"].dims if d not in ("temperature", s.mode)]:
+            vals = ds[d].values
+            if d == "pressure":
+                labels = [f"{v / 1e5:.2f} bar" for v in vals]
+                name = "Pressure (abs)"
+            else:
+                labels = [f"{v:.3g}" for v in vals]
+                name = {"steam_to_carbon": "Steam-to-carbon",
+                        "oxygen_to_carbon": "O2-to-carbon",
+                        "co2_to_carbon": "CO2-to-carbon"}[d]
+            options = dict(zip(labels, range(len(vals)), strict=True))
+            w = pn.widgets.DiscreteSlider(name=name, options=options,
+                                          value=s.fixed.get(d, 0), width=360)
+            w.param.watch(lambda e, d=d: self._set_fixed(d, e.new), "value")
+            widgets.append(w)
+        self.sliders[:] = widgets
+
+    def _set_fixed(self, dim: str, index: int) -> None:
+        self.state.fixed = dict(self.state.fixed, **{dim: index})
+
+    def _redraw_slices(self, *_):
+        s = self.state
+        if s.dataset is None or not self.sources[0]:
+            return
+        for i, key in enumerate((s.left, s.right)):
+            layers = slice_layers(s.dataset, VARIABLES[key], s.mode, s.fixed,
+                                  s.scenario.limits, self.levels[key])
+            for name, data in layers.items():
+                self.sources[i][name].data = data
+        self._mark_selected()
+
+    def _mark_selected(self, *_):
+        s = self.state
+        if s.selected is None or not self.sources[0]:
+            for src in self.sources:
+                if src:
+                    src["selected"].data = {"x": [], "y": [], "alpha": []}
+            return
+        sel = s.selected
+        x = sel["temperature"] - 273.15
+        y = sel[s.mode] / (1e5 if s.mode == "pressure" else 1.0)
+        ds = s.dataset
+        on_slice = all(
+            math.isclose(float(ds[d].values[i]), sel[d], rel_tol=1e-12)
+            for d, i in s.fixed.items() if d != s.mode and d in sel
+        )
+        for src in self.sources:
+            src["selected"].data = {"x": [x], "y": [y], "alpha": [1.0 if on_slice else 0.35]}
+
+    def _tap(self, event) -> None:
+        if event.x is None or event.y is None or self.state.dataset is None:
+            return
+        self.state.select_display(float(event.x), float(event.y))
+
+    def __panel__(self):
+        return pn.Column(
+            pn.Row(self.mode),
+            pn.Row(self.left, self.right, self.sliders),
+            pn.Row(self.bar, self.status),
+            pn.Row(*self.panes),
+            pn.pane.Markdown(
+                "Click a map to select the nearest grid point. Dots are the solved grid "
+                "points (hover for their values); colours and lines interpolate between "
+                "them. Colour levels are fixed over the whole window.",
+                styles={"font-size": "12px", "color": "#4a5a64"}),
+        )
+
+
+def _var_options() -> dict[str, str]:
+    return {v.title: k for k, v in VARIABLES.items()}
+
+
+class BalanceView:
+    """Full balance of the selected grid point, computed by the core at that point."""
+
+    def __init__(self, state: ExplorerState):
+        self.state = state
+        self.heading = pn.pane.Markdown("")
+        self.tables = pn.pane.HTML("", stylesheets=[PAGE_CSS], sizing_mode="stretch_width")
+        self.pin = pn.widgets.Button(name="Pin this point", button_type="success")
+        self.pin.on_click(lambda e: state.pin())
+        self.csv = pn.widgets.FileDownload(callback=self._csv, filename="point-balance.csv",
+                                           label="Balance (CSV)", button_type="light")
+        self.json = pn.widgets.FileDownload(callback=self._json, filename="point-balance.json",
+                                            label="Balance (JSON)", button_type="light")
+        self.grid = pn.widgets.FileDownload(callback=self._grid, filename="window-grid.nc",
+                                            label="Whole grid (NetCDF)", button_type="light")
+        self._current: dict | None = None
+        state.param.watch(self._update, ["selected", "scenario"])
+        self._update()
+
+    def _update(self, *_):
+        pt = self.state.selected_point()
+        if pt is None:
+            self._current = None
+            self.heading.object = "Select a point on a map to see its balance."
+            self.tables.object = ""
+            return
+        d = pt.to_dict()
+        self._current = d
+        self.heading.object = (
+            f"**{d['temperature_K'] - 273.15:.1f} degC, {d['pressure_Pa'] / 1e5:.3f} bar abs, "
+            f"S/C {d['steam_to_carbon']:.3g}**"
+            + (f", O2/C {d['oxygen_to_carbon']:.3g}" if d["oxygen_to_carbon"] else "")
+            + (f", CO2/C {d['co2_to_carbon']:.3g}" if d["co2_to_carbon"] else "")
+            + f" (approach {d['approach_K']:g} K)"
+        )
+        self.tables.object = balance_html(d)
+
+    def _csv(self):
+        return _io.StringIO(balance_csv(self._current) if self._current else "")
+
+    def _json(self):
+        return _io.StringIO(json.dumps(self._current, indent=2, allow_nan=False)
+                            if self._current else "{}")
+
+    def _grid(self):
+        ds = self.state.dataset
+        if ds is None:
+            return _io.BytesIO(b"")
+        fd, tmp = tempfile.mkstemp(suffix=".nc")
+        os.close(fd)
+        try:
+            grid_io.save(ds, tmp)
+            return _io.BytesIO(Path(tmp).read_bytes())
+        finally:
+            os.unlink(tmp)
+
+    def __panel__(self):
+        return pn.Column(self.heading, pn.Row(self.pin, self.csv, self.json, self.grid),
+                         self.tables)
+
+
+class PinnedView:
+    """Pinned points side by side."""
+
+    def __init__(self, state: ExplorerState):
+        self.state = state
+        self.table = pn.pane.HTML("", stylesheets=[PAGE_CSS], sizing_mode="stretch_width")
+        self.clear = pn.widgets.Button(name="Clear pinned points")
+        self.clear.on_click(lambda e: state.clear_pins())
+        state.param.watch(self._update, ["pinned"])
+        self._update()
+
+    def _update(self, *_):
+        self.table.object = comparison_html(self.state.pinned)
+
+    def __panel__(self):
+        return pn.Column(self.table, self.clear)
+
+
+class NotesView:
+    """Review notes, kept with the scenario and saved in its file."""
+
+    def __init__(self, state: ExplorerState):
+        self.state = state
+        self.text = pn.widgets.TextAreaInput(
+            value=state.notes, placeholder="Findings, decisions, open questions ...",
+            height=140, sizing_mode="stretch_width")
+        self.text.link(state, value="notes")
+        state.param.watch(lambda e: setattr(self.text, "value", e.new), ["notes"])
+        self.save = pn.widgets.FileDownload(callback=self._scenario, filename="scenario.toml",
+                                            label="Scenario with notes (TOML)",
+                                            button_type="light")
+
+    def _scenario(self):
+        return _io.StringIO(self.state.scenario_with_notes().to_toml())
+
+    def __panel__(self):
+        return pn.Column(self.text, self.save)
+
+
+def _section(title: str, *objects):
+    return pn.Column(pn.pane.Markdown(f"## {title}", stylesheets=[SECTION_CSS]), *objects,
+                     sizing_mode="stretch_width")
+
+
+def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
+              solve: str = "background") -> pn.Column:
+    """The explorer page for one session.
+
+    Parameters
+    ----------
+    scenario : Scenario or path, optional
+        The study to open; the demo if None.
+    solve : {"background", "now"}
+        Solve the window in a worker thread with progress (served app), or before returning
+        (notebooks, tests).
+    """
+    if not isinstance(scenario, Scenario):
+        scenario = thermo.load_scenario(scenario)
+    state = ExplorerState(scenario)
+    form = ScenarioForm(state)
+    maps = MapsView(state)
+    balance = BalanceView(state)
+    pinned = PinnedView(state)
+    notes = NotesView(state)
+    title = pn.pane.Markdown(f"# {scenario.title}")
+    desc = pn.pane.Markdown(scenario.description.strip())
+
+    def retitle(*_):
+        title.object = f"# {state.scenario.title}"
+        desc.object = state.scenario.description.strip()
+
+    state.param.watch(retitle, ["scenario"])
+    caution = pn.pane.Markdown("**Caution.** " + CAUTION, stylesheets=[CAUTION_CSS],
+                               sizing_mode="stretch_width")
+    footer = pn.pane.Markdown(
+        "Method: Gibbs energy minimization for an ideal gas plus pure graphite (element "
+        "potentials); composition at T minus the approach, enthalpy at T. Standard state "
+        "1 bar. Data: GRI-Mech 3.0 gas polynomials, NASA TM-4513 graphite, IUPAC 2021 atomic "
+        f"weights. Reformer window explorer {thermo.__version__}.",
+        styles={"font-size": "11.5px", "color": "#4a5a64"})
+    page = pn.Column(
+        title, desc, caution,
+        _section("1 Scenario and feed", form),
+        _section("2 Operating-window maps", maps),
+        _section("3 Balance at the selected point", balance),
+        _section("4 Pinned points", pinned),
+        _section("5 Review notes", notes),
+        footer,
+        sizing_mode="stretch_width",
+        styles={"max-width": "1240px", "margin": "0 auto"},
+    )
+    page.explorer_state = state  # for tests and notebooks
+    if solve == "now":
+        state.solve_now()
+    else:
+        def start():
+            state.solve_in_background()
+            pn.state.add_periodic_callback(state.poll, period=200)
+
+        if pn.state.curdoc is not None and pn.state.curdoc.session_context is not None:
+            pn.state.onload(start)
+        else:
+            state.solve_now()
+    return page

@@ -1,0 +1,380 @@
+"""Operating-window maps: the one plotting module of the live app and the review export.
+
+Two layers of work, kept apart so the static export can reuse the first without Python:
+
+* :func:`slice_layers` turns one 2-D slice of a sweep Dataset into plain data (filled bands,
+  labelled contour lines, the carbon boundary, the infeasible region and its edge, the grid
+  nodes with their values), all in display units (degC, bar) and ready for Bokeh
+  ColumnDataSources.
+* :func:`map_figure` draws a Bokeh figure with one ColumnDataSource per layer. The app
+  replaces the sources' data when a slice or variable changes (no recomputation of
+  thermodynamics); the export does the same in the browser with CustomJS from data embedded
+  in the page.
+
+Colour levels are fixed over the whole Dataset for each variable, not per slice, so that one
+colour means one value on every slice.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import contourpy
+import numpy as np
+import xarray as xr
+from bokeh.models import (
+    ColorBar,
+    ColumnDataSource,
+    HoverTool,
+    Legend,
+    LegendItem,
+    LinearColorMapper,
+)
+from bokeh.palettes import Cividis256, Inferno256, Viridis256
+from bokeh.plotting import figure
+
+from thermo.species import GAS_SPECIES
+
+#: Map orientations: x is always outlet temperature.
+MODES = {
+    "pressure": "temperature vs pressure (at a chosen steam-to-carbon)",
+    "steam_to_carbon": "temperature vs steam-to-carbon (at a chosen pressure)",
+}
+
+# Colours of the overlays (our own choice).
+CARBON_COLOUR = "#5b1a18"
+EDGE_COLOUR = "#00a37a"
+SELECTED_COLOUR = "#ff3b30"
+HATCH_COLOUR = "#3b3b3b"
+
+
+@dataclass(frozen=True)
+class Variable:
+    """A mappable quantity and how it is displayed."""
+
+    key: str
+    label: str
+    unit: str
+    scale: float
+    palette: tuple[str, ...]
+    digits: int
+
+    def values(self, ds: xr.Dataset) -> xr.DataArray:
+        """The variable over the Dataset, in display units."""
+        if self.key.startswith("dry:"):
+            da = ds["mole_fraction_dry"].sel(species=self.key[4:])
+        else:
+            da = ds[self.key]
+        return da * self.scale
+
+    @property
+    def title(self) -> str:
+        return f"{self.label} [{self.unit}]"
+
+
+def _variables() -> dict[str, Variable]:
+    v = [
+        Variable("h2_yield", "H2 yield", "mol H2 / mol hydrocarbon C", 1.0, Viridis256, 3),
+        Variable("methane_slip_dry", "Methane slip, dry", "mol %", 100.0,
+                 tuple(reversed(Inferno256)), 2),
+        Variable("h2_potential", "H2 + CO potential", "mol / mol hydrocarbon C", 1.0,
+                 Viridis256, 3),
+        Variable("methane_conversion", "Methane conversion (hydrocarbon C)", "%", 100.0,
+                 Cividis256, 2),
+        Variable("h2_co_ratio", "H2/CO", "mol/mol", 1.0, Cividis256, 2),
+        Variable("duty", "Duty", "MW", 1e-6, tuple(reversed(Inferno256)), 2),
+        Variable("duty_per_h2", "Duty per H2", "MJ/kmol H2", 1e-3,
+                 tuple(reversed(Inferno256)), 1),
+        Variable("carbon_activity", "Carbon activity (graphite = 1)", "-", 1.0,
+                 tuple(reversed(Inferno256)), 3),
+    ]
+    for s in GAS_SPECIES:
+        if s != "H2O":
+            v.append(Variable(f"dry:{s}", f"{s}, dry", "mol %", 100.0, Cividis256, 3))
+    return {x.key: x for x in v}
+
+
+VARIABLES: dict[str, Variable] = _variables()
+
+
+def nice_levels(lo: float, hi: float, n: int = 10) -> np.ndarray:
+    """Round contour levels spanning [lo, hi], about `n` intervals.
+
+    Examples
+    --------
+    >>> nice_levels(0.013, 0.487, 10).tolist()
+    [0.0, 0.05, 0.1, 0.15, 0.2, 0.25, 0.3, 0.35, 0.4, 0.45, 0.5]
+    """
+    if not (math.isfinite(lo) and math.isfinite(hi)):
+        return np.array([0.0, 1.0])
+    if hi <= lo:
+        pad = abs(lo) * 0.01 or 1.0
+        lo, hi = lo - pad, hi + pad
+    raw = (hi - lo) / n
+    mag = 10 ** math.floor(math.log10(raw))
+    step = next(m * mag for m in (1, 2, 2.5, 5, 10) if m * mag >= raw)
+    start = math.floor(lo / step) * step
+    stop = math.ceil(hi / step) * step
+    count = int(round((stop - start) / step)) + 1
+    return np.round(start + step * np.arange(count), 12)
+
+
+def variable_levels(ds: xr.Dataset, var: Variable) -> np.ndarray:
+    """Contour levels of `var` over the whole Dataset (display units)."""
+    v = np.asarray(var.values(ds), dtype=float)
+    v = v[np.isfinite(v)]
+    if v.size == 0:
+        return np.array([0.0, 1.0])
+    lo, hi = float(v.min()), float(v.max())
+    if var.key == "h2_co_ratio":  # long tail near zero CO: clip to the bulk
+        hi = float(np.percentile(v, 98))
+    return nice_levels(lo, hi)
+
+
+def slice_fields(ds: xr.Dataset, mode: str, fixed: dict[str, int]) -> xr.Dataset:
+    """The 2-D slice (temperature, y axis) of `ds` with the other axes fixed by index."""
+    sel = {d: i for d, i in fixed.items() if d in ds.dims and d != mode and d != "temperature"}
+    out = ds.isel(sel)
+    return out.transpose(mode, "temperature", ...)
+
+
+def _y_display(mode: str, values: np.ndarray) -> np.ndarray:
+    return values / 1e5 if mode == "pressure" else values
+
+
+def _polys(points, offsets):
+    """contourpy OuterOffset polygons to Bokeh multi_polygons nesting (x and y)."""
+    xs, ys = [], []
+    for pts, off in zip(points, offsets, strict=True):
+        rings_x = [pts[off[k]:off[k + 1], 0].tolist() for k in range(len(off) - 1)]
+        rings_y = [pts[off[k]:off[k + 1], 1].tolist() for k in range(len(off) - 1)]
+        xs.append(rings_x)
+        ys.append(rings_y)
+    return xs, ys
+
+
+def _fmt(value: float, digits: int) -> str:
+    return f"{value:.{digits}f}".rstrip("0").rstrip(".") if digits > 0 else f"{value:.0f}"
+
+
+def infeasibility(s: xr.Dataset, limits) -> np.ndarray:
+    """Smooth field that is <= 0 exactly where every review limit is met [-].
+
+    The maximum over the active limits of the normalized excess (slip over its maximum,
+    yield under its minimum, duty over its maximum, the carbon margin where carbon must be
+    absent); unconverged points count as infeasible.
+    """
+    terms = []
+    if limits.max_methane_slip_dry is not None:
+        terms.append((s["methane_slip_dry"] - limits.max_methane_slip_dry)
+                     / max(limits.max_methane_slip_dry, 1e-12))
+    if limits.min_h2_yield is not None:
+        terms.append((limits.min_h2_yield - s["h2_yield"]) / max(limits.min_h2_yield, 1e-12))
+    if limits.max_duty is not None:
+        terms.append((s["duty"] - limits.max_duty) / max(abs(limits.max_duty), 1.0))
+    if limits.carbon_free:
+        terms.append(carbon_margin(s))
+    if not terms:
+        field = xr.full_like(s["h2_yield"], -1.0)
+    else:
+        field = terms[0]
+        for t in terms[1:]:
+            field = np.maximum(field, t)
+    field = xr.where(s["converged"], field, 1.0)
+    return np.asarray(field, dtype=float)
+
+
+def carbon_margin(s: xr.Dataset) -> xr.DataArray:
+    """Signed carbon field: ln(carbon activity) (< 0) where no graphite forms, deposit per
+    hydrocarbon carbon (> 0) where it does; its zero line is the carbon boundary [-]."""
+    hc = float(s.attrs.get("hydrocarbon_carbon_mol_per_s", 1.0)) or 1.0
+    with np.errstate(divide="ignore"):
+        ln_a = np.log(s["carbon_activity"].clip(min=1e-300))
+    return xr.where(s["carbon_deposit"] > 0, s["carbon_deposit"] / hc + 1e-9, ln_a.clip(max=0))
+
+
+def slice_layers(ds: xr.Dataset, var: Variable, mode: str, fixed: dict[str, int], limits,
+                 levels: np.ndarray | None = None) -> dict[str, dict]:
+    """All drawable data of one map slice, in display units.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        A sweep (thermo.sweep).
+    var : Variable
+        What to colour.
+    mode : {"pressure", "steam_to_carbon"}
+        The y axis.
+    fixed : dict[str, int]
+        Index of every other window axis (steam_to_carbon or pressure, and a co-feed axis).
+    limits : thermo.scenario.Limits
+        Review limits for the feasible window.
+    levels : ndarray, optional
+        Contour levels; :func:`variable_levels` over the whole Dataset if None.
+
+    Returns
+    -------
+    dict
+        One dict per layer (``bands``, ``lines``, ``labels``, ``carbon``, ``infeasible``,
+        ``edge``, ``nodes``), each a ColumnDataSource ``data`` mapping.
+    """
+    if levels is None:
+        levels = variable_levels(ds, var)
+    s = slice_fields(ds, mode, fixed)
+    x = s["temperature"].values - 273.15
+    y = _y_display(mode, s[mode].values)
+    z = np.asarray(var.values(s), dtype=float)
+    zm = np.ma.masked_invalid(z)
+    palette = _band_colours(var, len(levels) - 1)
+    layers: dict[str, dict] = {}
+    if len(x) >= 2 and len(y) >= 2:
+        gen = contourpy.contour_generator(x, y, zm, fill_type="OuterOffset",
+                                          line_type="Separate")
+        bxs, bys, bcol, blev = [], [], [], []
+        for i in range(len(levels) - 1):
+            lo = levels[i] if i > 0 else -np.inf
+            hi = levels[i + 1] if i < len(levels) - 2 else np.inf
+            pts, offs = gen.filled(max(lo, -1e300), min(hi, 1e300))
+            if not pts:
+                continue
+            xs, ys = _polys(pts, offs)
+            bxs.append(xs)
+            bys.append(ys)
+            bcol.append(palette[i])
+            blev.append(f"{_fmt(levels[i], var.digits)} to {_fmt(levels[i + 1], var.digits)}")
+        layers["bands"] = {"xs": bxs, "ys": bys, "color": bcol, "band": blev}
+        lxs, lys, tx, ty, tt = [], [], [], [], []
+        span_x = float(x.max() - x.min()) or 1.0
+        span_y = float(y.max() - y.min()) or 1.0
+        for level in levels[1:-1]:
+            for path in gen.lines(level):
+                lxs.append(path[:, 0].tolist())
+                lys.append(path[:, 1].tolist())
+                length = np.sum(np.hypot(np.diff(path[:, 0]) / span_x,
+                                         np.diff(path[:, 1]) / span_y))
+                if length > 0.15:
+                    k = len(path) // 2
+                    tx.append(float(path[k, 0]))
+                    ty.append(float(path[k, 1]))
+                    tt.append(_fmt(level, var.digits))
+        layers["lines"] = {"xs": lxs, "ys": lys}
+        layers["labels"] = {"x": tx, "y": ty, "text": tt}
+        cgen = contourpy.contour_generator(x, y, np.asarray(carbon_margin(s), dtype=float),
+                                           line_type="Separate")
+        cpaths = cgen.lines(0.0)
+        layers["carbon"] = {"xs": [p[:, 0].tolist() for p in cpaths],
+                            "ys": [p[:, 1].tolist() for p in cpaths]}
+        f = infeasibility(s, limits)
+        fgen = contourpy.contour_generator(x, y, f, fill_type="OuterOffset",
+                                           line_type="Separate")
+        pts, offs = fgen.filled(0.0, 1e300)
+        ixs, iys = _polys(pts, offs) if pts else ([], [])
+        layers["infeasible"] = {"xs": [ixs], "ys": [iys]}
+        epaths = fgen.lines(0.0)
+        layers["edge"] = {"xs": [p[:, 0].tolist() for p in epaths],
+                          "ys": [p[:, 1].tolist() for p in epaths]}
+    else:
+        layers["bands"] = {"xs": [], "ys": [], "color": [], "band": []}
+        layers["lines"] = {"xs": [], "ys": []}
+        layers["labels"] = {"x": [], "y": [], "text": []}
+        layers["carbon"] = {"xs": [], "ys": []}
+        layers["infeasible"] = {"xs": [[]], "ys": [[]]}
+        layers["edge"] = {"xs": [], "ys": []}
+    X, Y = np.meshgrid(x, y)
+    feas = np.asarray(s["feasible"]) if "feasible" in s else np.ones_like(z, bool)
+    carbon = np.asarray(s["carbon_deposit"]) > 0
+    layers["nodes"] = {
+        "x": X.ravel().tolist(),
+        "y": Y.ravel().tolist(),
+        "value": [v if math.isfinite(v) else None for v in z.ravel().tolist()],
+        "feasible": ["yes" if f else "no" for f in feas.ravel()],
+        "carbon": ["graphite" if c else "none" for c in carbon.ravel()],
+    }
+    return layers
+
+
+def _band_colours(var: Variable, n: int) -> list[str]:
+    pal = var.palette
+    if n <= 1:
+        return [pal[len(pal) // 2]]
+    return [pal[int(round(i * (len(pal) - 1) / (n - 1)))] for i in range(n)]
+
+
+def axis_label(mode: str) -> str:
+    """y-axis label of a map orientation."""
+    return "Outlet pressure [bar abs]" if mode == "pressure" else \
+        "Steam-to-carbon [mol H2O / mol hydrocarbon C]"
+
+
+def map_figure(var: Variable, mode: str, levels: np.ndarray, layers: dict[str, dict],
+               name: str, x_range: tuple[float, float], y_range: tuple[float, float],
+               width: int = 560, height: int = 430):
+    """A Bokeh map with one ColumnDataSource per layer.
+
+    Returns
+    -------
+    (figure, dict[str, ColumnDataSource], LinearColorMapper)
+        Sources are keyed like the layers plus ``"selected"`` (the clicked point).
+    """
+    fig = figure(
+        name=name,
+        width=width,
+        height=height,
+        x_range=x_range,
+        y_range=y_range,
+        tools="pan,wheel_zoom,box_zoom,reset,save",
+        toolbar_location="above",
+        x_axis_label="Outlet temperature [degC]",
+        y_axis_label=axis_label(mode),
+        title=var.title,
+    )
+    fig.title.text_font_size = "12pt"
+    src = {k: ColumnDataSource(v) for k, v in layers.items()}
+    src["selected"] = ColumnDataSource({"x": [], "y": [], "alpha": []})
+    fig.multi_polygons("xs", "ys", fill_color="color", line_color="color",
+                               line_width=0.5, source=src["bands"])
+    fig.multi_line("xs", "ys", line_color="#222222", line_alpha=0.55, line_width=1,
+                   source=src["lines"])
+    fig.text("x", "y", "text", source=src["labels"], text_font_size="8.5pt",
+             text_align="center", text_baseline="middle", text_color="#111111",
+             background_fill_color="#ffffff", background_fill_alpha=0.65)
+    infeasible = fig.multi_polygons("xs", "ys", source=src["infeasible"], fill_color="#ffffff",
+                                    fill_alpha=0.3, hatch_pattern="/", hatch_color=HATCH_COLOUR,
+                                    hatch_alpha=0.3, hatch_scale=14, line_color=None)
+    edge = fig.multi_line("xs", "ys", source=src["edge"], line_color=EDGE_COLOUR, line_width=3.5)
+    carbon = fig.multi_line("xs", "ys", source=src["carbon"], line_color=CARBON_COLOUR,
+                            line_width=3, line_dash=[8, 4])
+    nodes = fig.scatter("x", "y", source=src["nodes"], size=3.5, fill_color="#000000",
+                        fill_alpha=0.25, line_color=None)
+    selected = fig.scatter("x", "y", source=src["selected"], size=15, marker="circle",
+                           fill_color=None, line_color=SELECTED_COLOUR, line_width=3,
+                           line_alpha="alpha")
+    y_tip = ("pressure", "@y{0.00} bar abs") if mode == "pressure" else \
+        ("steam-to-carbon", "@y{0.00}")
+    fig.add_tools(HoverTool(renderers=[nodes], tooltips=[
+        ("temperature", "@x{0.0} degC"),
+        y_tip,
+        (var.label, f"@value{{0.{'0' * max(var.digits, 1)}}} {var.unit}"),
+        ("within all limits", "@feasible"),
+        ("carbon at equilibrium", "@carbon"),
+    ]))
+    mapper = LinearColorMapper(palette=_band_colours(var, len(levels) - 1),
+                               low=float(levels[0]), high=float(levels[-1]))
+    fig.add_layout(ColorBar(color_mapper=mapper, width=12, title=var.unit,
+                            title_text_font_size="9pt"), "right")
+    legend = Legend(
+        items=[
+            LegendItem(label="carbon boundary (graphite)", renderers=[carbon]),
+            LegendItem(label="feasible window edge", renderers=[edge]),
+            LegendItem(label="outside a review limit", renderers=[infeasible]),
+            LegendItem(label="selected point", renderers=[selected]),
+        ],
+        orientation="horizontal",
+        ncols=2,
+        label_text_font_size="8.5pt",
+        click_policy="hide",
+    )
+    fig.add_layout(legend, "below")
+    fig.toolbar.logo = None
+    return fig, src, mapper

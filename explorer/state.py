@@ -1,0 +1,201 @@
+"""Session state of the explorer: the scenario, its solved window, and what the user picked.
+
+No widgets here: views watch these parameters. Thermodynamics is only ever called through
+:mod:`thermo` (a cached sweep, or :func:`thermo.point` for a selected point).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import threading
+
+import numpy as np
+import param
+import xarray as xr
+
+import thermo
+from explorer.maps import VARIABLES
+from thermo.scenario import Scenario
+from thermo.sweep import SweepCache, feasible_mask
+
+#: One cache per server process: sessions share solved windows by scenario content, so the
+#: demo is solved once however many people open it (a content key cannot mix scenarios).
+SHARED_CACHE = SweepCache(maxsize=16)
+
+
+class ExplorerState(param.Parameterized):
+    """Everything one explorer session shows, without any widget."""
+
+    scenario = param.ClassSelector(class_=Scenario, doc="the scenario being studied")
+    dataset = param.ClassSelector(class_=xr.Dataset, allow_None=True,
+                                  doc="solved window of the scenario (None while solving)")
+    mode = param.Selector(default="pressure", objects=["pressure", "steam_to_carbon"],
+                          doc="y axis of the maps")
+    fixed = param.Dict(default={}, doc="index of each axis held fixed on the maps")
+    left = param.Selector(default="h2_yield", objects=list(VARIABLES))
+    right = param.Selector(default="methane_slip_dry", objects=list(VARIABLES))
+    selected = param.Dict(default=None, allow_None=True,
+                          doc="coordinates of the selected grid point (SI)")
+    pinned = param.List(default=[], doc="to_dict() of pinned points")
+    busy = param.Boolean(default=False)
+    progress = param.Number(default=0.0, bounds=(0.0, 1.0))
+    status = param.String(default="")
+    notes = param.String(default="")
+
+    def __init__(self, scenario: Scenario, **params):
+        super().__init__(scenario=scenario, notes=scenario.notes, **params)
+        self._done = 0
+        self._total = 1
+        self._thread: threading.Thread | None = None
+        self._pending: tuple | None = None
+
+    # -- solving -----------------------------------------------------------------------
+    def solve_now(self) -> None:
+        """Solve the current scenario in this thread (notebook use, tests)."""
+        ds = SHARED_CACHE.get(self.scenario)
+        self._adopt(self.scenario, ds)
+
+    def solve_in_background(self) -> None:
+        """Start solving the scenario in a worker thread; :meth:`poll` publishes progress."""
+        if self._thread is not None and self._thread.is_alive():
+            return
+        sc = self.scenario
+        self.busy = True
+        self.progress = 0.0
+        self._done, self._total = 0, sc.window.size()
+        from thermo.equilibrium import kernel_is_cached
+
+        if not kernel_is_cached():
+            self.status = ("Building the equilibrium kernel for this machine (first run only, "
+                           "about 30 s; cached afterwards), then solving "
+                           f"{self._total:,} points ...")
+        else:
+            self.status = f"Solving {self._total:,} points ..."
+
+        def work():
+            try:
+                ds = SHARED_CACHE.get(sc, progress=self._on_progress)
+                self._pending = ("ok", sc, ds)
+            except Exception as err:  # reported to the user by poll()
+                self._pending = ("error", sc, err)
+
+        self._thread = threading.Thread(target=work, daemon=True)
+        self._thread.start()
+
+    def _on_progress(self, done: int, total: int) -> None:
+        self._done, self._total = done, total
+
+    def poll(self) -> bool:
+        """Publish progress and, when the worker is done, its result. True once finished."""
+        if self._pending is None:
+            if self.busy:
+                self.progress = min(1.0, self._done / max(self._total, 1))
+            return False
+        kind, sc, payload = self._pending
+        self._pending = None
+        self.busy = False
+        self.progress = 1.0
+        if kind == "error":
+            self.status = f"Solving failed: {payload}. The previous maps are kept."
+            return True
+        if sc is self.scenario:
+            self._adopt(sc, payload)
+        return True
+
+    def _adopt(self, sc: Scenario, ds: xr.Dataset) -> None:
+        dims = [d for d in ds["h2_yield"].dims if d != "temperature"]
+        fixed = {}
+        for d in dims:
+            vals = ds[d].values
+            if d == "steam_to_carbon":
+                target = sc.feed.steam_to_carbon
+            elif d == "pressure":
+                target = sc.pressure
+            else:
+                target = getattr(sc.feed, d)
+            fixed[d] = int(np.argmin(np.abs(vals - target)))
+        bad = int((~ds["converged"]).sum())
+        self.param.update(dataset=ds, fixed=fixed)
+        self.status = (f"{ds['converged'].size:,} points solved"
+                       + (f"; {bad} did not converge and are marked infeasible" if bad else ""))
+        if self.selected is None:
+            self.select_index(self.design_index())
+
+    # -- scenario edits ------------------------------------------------------------------
+    def set_scenario(self, sc: Scenario) -> None:
+        """Adopt a new (validated) scenario; re-solve only when the numbers change."""
+        same_numbers = SHARED_CACHE.key(sc) == SHARED_CACHE.key(self.scenario)
+        self.scenario = sc.with_notes(self.notes) if self.notes != sc.notes else sc
+        if same_numbers and self.dataset is not None:
+            ds = self.dataset.copy()
+            ds["feasible"] = feasible_mask(ds, sc.limits)
+            ds.attrs = dict(ds.attrs, scenario=self.scenario.text)
+            self.dataset = ds
+            return
+        self.selected = None
+        self.pinned = []
+        self.solve_in_background()
+
+    @param.depends("notes", watch=True)
+    def _notes_into_scenario(self) -> None:
+        if self.scenario.notes != self.notes:
+            self.scenario = self.scenario.with_notes(self.notes)
+
+    # -- selection ------------------------------------------------------------------------
+    def window_dims(self) -> list[str]:
+        return [d for d in self.dataset["h2_yield"].dims]
+
+    def design_index(self) -> dict[str, int]:
+        """Grid indexes nearest the scenario's design point."""
+        ds, sc = self.dataset, self.scenario
+        idx = {"temperature": int(np.argmin(np.abs(ds.temperature.values - sc.temperature)))}
+        idx.update(self.fixed)
+        return idx
+
+    def select_index(self, idx: dict[str, int]) -> None:
+        """Select the grid node with these indexes (all window dims)."""
+        ds = self.dataset
+        self.selected = {d: float(ds[d].values[i]) for d, i in idx.items()}
+
+    def select_display(self, x_degC: float, y: float) -> None:
+        """Select the grid node nearest a click at (x degC, y in display units)."""
+        ds = self.dataset
+        T = ds.temperature.values - 273.15
+        Y = ds[self.mode].values / (1e5 if self.mode == "pressure" else 1.0)
+        span_t = (T.max() - T.min()) or 1.0
+        span_y = (Y.max() - Y.min()) or 1.0
+        i = int(np.argmin(np.abs((T - x_degC) / span_t)))
+        j = int(np.argmin(np.abs((Y - y) / span_y)))
+        idx = dict(self.fixed)
+        idx["temperature"] = i
+        idx[self.mode] = j
+        self.select_index(idx)
+
+    def selected_point(self) -> thermo.PointResult | None:
+        """The core's result at the selected grid node (same numbers as the grid)."""
+        if self.selected is None or self.dataset is None:
+            return None
+        s = self.selected
+        kwargs = {
+            "temperature": f"{s['temperature']!r} K",
+            "pressure": f"{s['pressure']!r} Pa",
+            "steam_to_carbon": s["steam_to_carbon"],
+        }
+        for d in ("oxygen_to_carbon", "co2_to_carbon"):
+            if d in s:
+                kwargs[d] = s[d]
+        return thermo.point(self.scenario, **kwargs)
+
+    def pin(self) -> None:
+        """Add the selected point to the comparison list."""
+        pt = self.selected_point()
+        if pt is not None:
+            self.pinned = self.pinned + [pt.to_dict()]
+
+    def clear_pins(self) -> None:
+        self.pinned = []
+
+    def scenario_with_notes(self) -> Scenario:
+        """The scenario as it should be saved (notes included)."""
+        return dataclasses.replace(self.scenario) if self.scenario.notes == self.notes else \
+            self.scenario.with_notes(self.notes)

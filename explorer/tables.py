@@ -1,0 +1,177 @@
+"""Balance tables of one point: one row specification, rendered to HTML and CSV.
+
+The rows are data (label, unit, key in the point's dict, conversion, decimals), so the live
+app (from :meth:`thermo.PointResult.to_dict`) and the static export (from numbers embedded in
+the page, rendered by a small script that reads the same specification) show the same table.
+"""
+
+from __future__ import annotations
+
+import csv
+import html
+import io
+import math
+
+from thermo.constants import V_NORMAL
+from thermo.species import GAS_SPECIES
+
+#: Conversions from SI to display units (the export's script implements the same names).
+CONVERSIONS = {
+    "": (1.0, 0.0),
+    "degC": (1.0, -273.15),
+    "bar": (1e-5, 0.0),
+    "pct": (100.0, 0.0),
+    "kmolh": (3.6, 0.0),
+    "kgh": (3600.0, 0.0),
+    "MW": (1e-6, 0.0),
+    "kJmol": (1e-3, 0.0),
+    "MJkmol": (1e-3, 0.0),
+    "MJNm3": (1e-6 / V_NORMAL, 0.0),
+}
+
+#: (label, unit shown, key path in the point dict, conversion, decimals)
+SUMMARY_ROWS: list[tuple[str, str, str, str, int]] = [
+    ("Outlet temperature", "degC", "temperature_K", "degC", 1),
+    ("Equilibrium evaluated at", "degC", "equilibrium_temperature_K", "degC", 1),
+    ("Outlet pressure", "bar abs", "pressure_Pa", "bar", 3),
+    ("Steam-to-carbon", "mol/mol", "steam_to_carbon", "", 3),
+    ("O2-to-carbon", "mol/mol", "oxygen_to_carbon", "", 3),
+    ("CO2-to-carbon", "mol/mol", "co2_to_carbon", "", 3),
+    ("Feed inlet temperature", "degC", "inlet.temperature_K", "degC", 1),
+    ("H2 yield", "mol H2 / mol hydrocarbon C", "h2_yield", "", 4),
+    ("H2 + CO potential", "mol / mol hydrocarbon C", "h2_potential", "", 4),
+    ("Methane slip (dry)", "mol %", "methane_slip_dry", "pct", 3),
+    ("Methane conversion (hydrocarbon C)", "%", "methane_conversion", "pct", 2),
+    ("H2/CO", "mol/mol", "h2_co_ratio", "", 3),
+    ("Carbon deposit (graphite)", "kmol/h", "carbon_deposit_mol_per_s", "kmolh", 3),
+    ("Carbon activity (graphite = 1)", "-", "carbon_activity", "", 4),
+]
+
+ENERGY_ROWS: list[tuple[str, str, str, str, int]] = [
+    ("Inlet enthalpy flow", "MW", "inlet.enthalpy_W", "MW", 3),
+    ("Outlet enthalpy flow", "MW", "outlet.enthalpy_W", "MW", 3),
+    ("Duty (feed at inlet T to outlet at T)", "MW", "duty_W", "MW", 3),
+    ("Duty per H2", "MJ/kmol H2", "duty_per_h2_J_per_mol", "MJkmol", 2),
+    ("Duty per H2", "MJ/Nm3 H2", "duty_per_h2_J_per_mol", "MJNm3", 3),
+]
+
+#: (column title, key path with {s} for the species, conversion, decimals)
+SPECIES_COLUMNS: list[tuple[str, str, str, int]] = [
+    ("in kmol/h", "inlet.flow_mol_per_s.{s}", "kmolh", 3),
+    ("in kg/h", "inlet.mass_flow_kg_per_s.{s}", "kgh", 1),
+    ("out kmol/h", "outlet.flow_mol_per_s.{s}", "kmolh", 3),
+    ("out kg/h", "outlet.mass_flow_kg_per_s.{s}", "kgh", 1),
+    ("out mol % wet", "outlet.mole_fraction.{s}", "pct", 4),
+    ("out mol % dry", "outlet.mole_fraction_dry.{s}", "pct", 4),
+]
+
+#: Reaction table: (column title, key, conversion, decimals or significant digits if < 0)
+REACTION_COLUMNS: list[tuple[str, str, str, int]] = [
+    ("extent kmol/h", "extents_mol_per_s.{r}", "kmolh", 3),
+    ("K (1 bar)", "reactions.{r}.K", "", -5),
+    ("Q", "reactions.{r}.Q", "", -5),
+    ("approach K", "reactions.{r}.approach_K", "", 2),
+    ("dH 298 K kJ/mol", "reactions.{r}.heat_298_J_per_mol", "kJmol", 2),
+    ("dH at T kJ/mol", "reactions.{r}.heat_J_per_mol", "kJmol", 2),
+]
+
+
+def lookup(d: dict, path: str):
+    """Value at a dotted key path of a nested dict (None if absent)."""
+    cur = d
+    for part in path.split("."):
+        if not isinstance(cur, dict) or part not in cur:
+            return None
+        cur = cur[part]
+    return cur
+
+
+def display(value, conversion: str, decimals: int) -> str:
+    """A number in display units as text; '-' for None or non-finite."""
+    if value is None or not math.isfinite(value):
+        return "-"
+    scale, offset = CONVERSIONS[conversion]
+    v = value * scale + offset
+    if decimals < 0:
+        return f"{v:.{-decimals}g}"
+    return f"{v:,.{decimals}f}"
+
+
+def _table(head: list[str], rows: list[list[str]], cls: str) -> str:
+    th = "".join(f"<th>{html.escape(h)}</th>" for h in head)
+    body = "".join("<tr>" + "".join(f"<td>{html.escape(c)}</td>" for c in r) + "</tr>"
+                   for r in rows)
+    return f'<table class="{cls}"><thead><tr>{th}</tr></thead><tbody>{body}</tbody></table>'
+
+
+def balance_html(d: dict) -> str:
+    """The whole balance of one point as HTML tables (from PointResult.to_dict())."""
+    parts = []
+    if not d.get("converged", True):
+        parts.append('<p class="rw-warn">The equilibrium solver did not converge at this '
+                     "point: its numbers are not reliable.</p>")
+    rows = [[label, display(lookup(d, key), conv, dec), unit]
+            for label, unit, key, conv, dec in SUMMARY_ROWS]
+    parts.append("<h4>Outlet summary</h4>" + _table(["quantity", "value", "unit"], rows,
+                                                     "rw-table"))
+    srows = []
+    for s in GAS_SPECIES:
+        srows.append([s] + [display(lookup(d, key.format(s=s)), conv, dec)
+                            for _, key, conv, dec in SPECIES_COLUMNS])
+    srows.append(["C(gr)", "", "", display(d.get("carbon_deposit_mol_per_s"), "kmolh", 3),
+                  display((d.get("carbon_deposit_mol_per_s") or 0.0) * 12.011e-3, "kgh", 1),
+                  "", ""])
+    parts.append("<h4>Inlet and outlet by species</h4>"
+                 + _table(["species"] + [c[0] for c in SPECIES_COLUMNS], srows, "rw-table"))
+    erows = [[label, display(lookup(d, key), conv, dec), unit]
+             for label, unit, key, conv, dec in ENERGY_ROWS]
+    parts.append("<h4>Energy balance</h4>" + _table(["quantity", "value", "unit"], erows,
+                                                     "rw-table"))
+    rrows = []
+    for r in ("reforming", "shift"):
+        eq = lookup(d, f"reactions.{r}.equation") or r
+        rrows.append([eq] + [display(lookup(d, key.format(r=r)), conv, dec)
+                             for _, key, conv, dec in REACTION_COLUMNS])
+    parts.append("<h4>Reactions (standard state 1 bar)</h4>"
+                 + _table(["reaction"] + [c[0] for c in REACTION_COLUMNS], rrows, "rw-table"))
+    cl = d.get("element_closure", {})
+    parts.append("<p class='rw-small'>Element closure |out - in| / in: "
+                 + ", ".join(f"{k} {v:.1e}" for k, v in cl.items()) + "</p>")
+    return "\n".join(parts)
+
+
+def balance_csv(d: dict) -> str:
+    """The balance of one point as CSV text (quantity, value, unit; SI and display units)."""
+    buf = io.StringIO()
+    w = csv.writer(buf)
+    w.writerow(["section", "quantity", "value", "unit"])
+    for label, unit, key, conv, dec in SUMMARY_ROWS + ENERGY_ROWS:
+        w.writerow(["summary", label, display(lookup(d, key), conv, max(dec, 6)).replace(",", ""),
+                    unit])
+    for s in GAS_SPECIES:
+        for title, key, conv, dec in SPECIES_COLUMNS:
+            w.writerow(["species", f"{s} {title}",
+                        display(lookup(d, key.format(s=s)), conv, max(dec, 6)).replace(",", ""),
+                        title.split(" ", 1)[1]])
+    for r in ("reforming", "shift"):
+        for title, key, conv, dec in REACTION_COLUMNS:
+            val = display(lookup(d, key.format(r=r)), conv, dec if dec < 0 else max(dec, 6))
+            w.writerow(["reaction", f"{r} {title}", val.replace(",", ""), ""])
+    for k, v in d.get("element_closure", {}).items():
+        w.writerow(["closure", f"element {k}", f"{v:.3e}", "1"])
+    return buf.getvalue()
+
+
+def comparison_html(points: list[dict]) -> str:
+    """Pinned points side by side: one column per point, the summary and energy rows."""
+    if not points:
+        return "<p class='rw-small'>No pinned points yet: select a point on a map and pin it.</p>"
+    head = ["quantity", "unit"] + [f"#{i + 1}" for i in range(len(points))]
+    rows = []
+    for label, unit, key, conv, dec in SUMMARY_ROWS + ENERGY_ROWS[2:]:
+        rows.append([label, unit] + [display(lookup(p, key), conv, dec) for p in points])
+    for s in ("H2", "CO", "CO2", "CH4"):
+        rows.append([f"{s} out", "kmol/h"]
+                    + [display(lookup(p, f"outlet.flow_mol_per_s.{s}"), "kmolh", 2)
+                       for p in points])
+    return _table(head, rows, "rw-table rw-compare")
