@@ -6,6 +6,7 @@ Public API::
     sc = thermo.load_scenario()                     # the demo scenario, or a path
     pt = thermo.point(sc, temperature="850 degC", pressure="25 bar", steam_to_carbon=3.0)
     pt.to_dict()
+    ds = thermo.sweep(sc)                           # xarray.Dataset over the window
 """
 
 from __future__ import annotations
@@ -15,6 +16,7 @@ __version__ = "0.1.0"
 from thermo.api import PointResult, point
 from thermo.errors import InputError
 from thermo.scenario import Scenario, load_scenario, parse_scenario
+from thermo.sweep import sweep
 
 __all__ = [
     "InputError",
@@ -24,4 +26,5 @@ __all__ = [
     "load_scenario",
     "parse_scenario",
     "point",
+    "sweep",
 ]
