@@ -17,8 +17,10 @@ EXIT_USER_ERROR = 2
 class _Parser(argparse.ArgumentParser):
     """argparse that reports a usage error as one line and exit status 2."""
 
+    argv: list[str] = []
+
     def error(self, message: str):  # noqa: D102 - argparse hook
-        raise InputError("command line", " ".join(sys.argv[1:]), message)
+        raise InputError("command line", " ".join(_Parser.argv), message)
 
 
 def _kernel_notice() -> None:
@@ -213,6 +215,7 @@ _OPTION_NAMES = {
 
 def main(argv: list[str] | None = None) -> int:
     """Entry point of the ``explorer`` console script; returns the exit status."""
+    _Parser.argv = list(sys.argv[1:] if argv is None else argv)
     try:
         args = build_parser().parse_args(argv)
         return args.func(args)

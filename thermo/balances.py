@@ -35,7 +35,15 @@ from scipy.optimize import brentq
 from thermo.constants import ELEMENTS, P_REF, T_REF, R
 from thermo.equilibrium import equilibrate
 from thermo.extent import REFORMING, SHIFT, delta_g_RT, delta_h
-from thermo.species import GAS_SPECIES, GRAPHITE, formula_matrix, gas_table, h_RT, molar_masses
+from thermo.species import (
+    GAS_SPECIES,
+    GRAPHITE,
+    formula_matrix,
+    gas_table,
+    h_RT,
+    molar_masses,
+    record,
+)
 
 _I = {s: i for i, s in enumerate(GAS_SPECIES)}
 _HC_CARBON = np.array([1.0 if s == "CH4" else 2.0 if s == "C2H6" else 3.0 if s == "C3H8"
@@ -218,7 +226,10 @@ def reformer_balance(
     hc_c = n_in @ _HC_CARBON
     hc_c_out = n_out @ _HC_CARBON
     h_in = enthalpy_flow(n_in, T_in)
-    h_gr = h_RT(T, GRAPHITE) * R * T
+    # Graphite's enthalpy at P includes v (P - P°) for the incompressible solid, consistent
+    # with the pressure term of its chemical potential (graphite_mu_RT).
+    gr = record(GRAPHITE)
+    h_gr = h_RT(T, GRAPHITE) * R * T + gr.molar_volume * (P - gr.standard_pressure)
     h_out = enthalpy_flow(n_out, T) + eq.carbon * h_gr
     b_out = n_out @ A
     b_out[:, ELEMENTS.index("C")] += eq.carbon

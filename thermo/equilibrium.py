@@ -47,6 +47,11 @@ from thermo.species import GAS_SPECIES, formula_matrix, gas_table, graphite_mu_R
 TOLERANCE = 1e-10
 #: Newton iteration limit per phase assemblage.
 MAX_ITERATIONS = 200
+#: Elements below this fraction of all atoms fed are treated as absent [-] (their species are
+#: left out; at 1e-200 no physical quantity is affected, and the arithmetic stays normal).
+TRACE_LIMIT = 1e-200
+#: Largest change of any element potential in one Newton step [-] (a factor e^20 in x).
+MAX_STEP = 20.0
 #: Mole fraction given to each basis species of an initial guess [-].
 BASIS_FLOOR = 0.2
 #: Species tried as members of an initial basis (the ones that can be major at equilibrium).
@@ -130,26 +135,49 @@ def _evaluate(A, c, b, free, active, lam, t0, x, z, m):
 
 @numba.njit(cache=True)
 def _residual(A, b, free, x, N, g):
-    """Element-balance residual g = b - N A^T x (free elements) and its largest relative size."""
+    """Element-balance residual g = b - N A^T x (free elements).
+
+    Returns (largest relative residual, sum of squared relative residuals).
+    """
     S, E = A.shape
-    worst = 0.0
+    big = -1
+    rest = 0.0
     for e in range(E):
         if free[e]:
             acc = 0.0
             for j in range(S):
                 acc += A[j, e] * x[j]
             g[e] = b[e] - N * acc
-            r = abs(g[e]) / b[e]
-            if r > worst:
-                worst = r
+            if big < 0 or b[e] > b[big]:
+                big = e
         else:
             g[e] = 0.0
-    return worst
+    # The free residuals sum to zero identically (N is defined so); taking the most abundant
+    # element's residual from that identity keeps its round-off (1e-16 of a major element)
+    # out of the Newton steps of elements present in traces.
+    for e in range(E):
+        if free[e] and e != big:
+            rest += g[e]
+    if big >= 0:
+        g[big] = -rest
+    worst = 0.0
+    sq = 0.0
+    for e in range(E):
+        if free[e]:
+            r = abs(g[e]) / b[e]
+            sq += r * r
+            if r > worst:
+                worst = r
+    return worst, sq
 
 
 @numba.njit(cache=True)
-def _newton_direction(A, free, x, N, m, g, H, delta, abar):
-    """Solve (N sum_j x_j at_j at_j^T + eps d d^T) delta = g on the free elements (Cholesky)."""
+def _newton_direction(A, free, x, N, m, g, H, delta, abar, scale):
+    """Newton step of the dual: solve (N sum_j x_j at_j at_j^T) delta = g on the free elements.
+
+    The matrix is singular along d (D is unchanged by a common shift of the free
+    potentials); see the scaling note below for how that is handled.
+    """
     S, E = A.shape
     q = 0.0
     for j in range(S):
@@ -173,13 +201,17 @@ def _newton_direction(A, free, x, N, m, g, H, delta, abar):
             for f in range(e, E):
                 if free[f]:
                     H[e, f] += w * (A[j, f] - m[j] * abar[f])
-    tr = 0.0
-    k = 0
+    # Jacobi scaling (unit diagonal), so that an element present in traces weighs as much as
+    # a major one; then the null direction d of the dual (a common shift of the free
+    # potentials) is filled by a rank-one term, which leaves the solution unchanged because
+    # g is orthogonal to d.
+    vn = 0.0
     for e in range(E):
         if free[e]:
-            tr += H[e, e]
-            k += 1
-    eps = tr / k if tr > 0.0 else 1.0
+            scale[e] = math.sqrt(H[e, e]) if H[e, e] > 1e-300 else 1.0
+            vn += scale[e] * scale[e]
+        else:
+            scale[e] = 1.0
     for e in range(E):
         if not free[e]:
             for f in range(E):
@@ -189,10 +221,10 @@ def _newton_direction(A, free, x, N, m, g, H, delta, abar):
             continue
         for f in range(e, E):
             if free[f]:
-                H[e, f] += eps
+                H[e, f] = H[e, f] / (scale[e] * scale[f]) + scale[e] * scale[f] / vn
                 H[f, e] = H[e, f]
-        H[e, e] += 1e-13 * eps
-    # Cholesky factorization in place (lower triangle).
+        H[e, e] += 1e-12
+    # Cholesky factorization in place (lower triangle), then two triangular solves.
     for i in range(E):
         for jj in range(i + 1):
             s = H[i, jj]
@@ -205,7 +237,7 @@ def _newton_direction(A, free, x, N, m, g, H, delta, abar):
             else:
                 H[i, jj] = s / H[jj, jj]
     for i in range(E):
-        s = g[i]
+        s = g[i] / scale[i]
         for kk in range(i):
             s -= H[i, kk] * delta[kk]
         delta[i] = s / H[i, i]
@@ -215,15 +247,19 @@ def _newton_direction(A, free, x, N, m, g, H, delta, abar):
             s -= H[kk, i] * delta[kk]
         delta[i] = s / H[i, i]
     for e in range(E):
+        delta[e] /= scale[e]
+    for e in range(E):
         if not free[e]:
             delta[e] = 0.0
 
 
 @numba.njit(cache=True)
-def _maximize(A, c, b, free, active, lam, m, x, z, g, H, delta, abar, trial, tol, max_iter):
+def _maximize(A, c, b, free, active, lam, m, x, z, g, H, delta, abar, trial, scale, tol,
+              max_iter):
     """Newton-Armijo maximization of the dual from `lam` (updated in place).
 
-    Returns (converged, iterations, N).
+    Returns (converged, iterations, N, t): the element potentials are lam + t on the free
+    elements.
     """
     S, E = A.shape
     for j in range(S):
@@ -234,27 +270,44 @@ def _maximize(A, c, b, free, active, lam, m, x, z, g, H, delta, abar, trial, tol
         m[j] = acc
     t, N, D = _evaluate(A, c, b, free, active, lam, 0.0, x, z, m)
     for it in range(max_iter + 1):
-        err = _residual(A, b, free, x, N, g)
+        err, sq = _residual(A, b, free, x, N, g)
         if err < tol:
-            return True, it, N
+            return True, it, N, t
         if it == max_iter:
             break
-        _newton_direction(A, free, x, N, m, g, H, delta, abar)
+        _newton_direction(A, free, x, N, m, g, H, delta, abar, scale)
+        # Cap the step: where a phase-controlling species is scarce the curvature is tiny and
+        # the raw Newton step can reach 1e40 (exponential overshoot); the concave dual is then
+        # climbed in steps of at most MAX_STEP in the potentials.
+        big = 0.0
+        for e in range(E):
+            if abs(delta[e]) > big:
+                big = abs(delta[e])
+        if big > MAX_STEP:
+            for e in range(E):
+                delta[e] *= MAX_STEP / big
         slope = 0.0
         for e in range(E):
             slope += g[e] * delta[e]
+        # Armijo on the dual; or, where an element is so scarce that its gain in the dual is
+        # below the dual's round-off, a decrease of the relative element residuals (the
+        # Newton direction descends both).
         alpha = 1.0
         for _ in range(60):
             for e in range(E):
                 trial[e] = lam[e] + alpha * delta[e]
             t_new, N_new, D_new = _evaluate(A, c, b, free, active, trial, t, x, z, m)
-            if D_new == D_new and (err < 1e-4 or D_new >= D + 1e-4 * alpha * slope):
-                break
+            if D_new == D_new:
+                if err < 1e-4 or D_new >= D + 1e-4 * alpha * slope:
+                    break
+                _, sq_new = _residual(A, b, free, x, N_new, g)
+                if sq_new <= (1.0 - 1e-4 * alpha) * sq:
+                    break
             alpha *= 0.5
         for e in range(E):
             lam[e] = trial[e]
         t, N, D = t_new, N_new, D_new
-    return False, max_iter, N
+    return False, max_iter, N, t
 
 
 @numba.njit(cache=True)
@@ -368,14 +421,15 @@ def _solve_point(A, c, b_in, mu_gr, allow_carbon, lam0, use_lam0, cand, cand_siz
     trial = work[6, :E]
     lam = work[7, :E]
     b = work[8, :E]
+    scale = work[9, :E]
     H = np.empty((E, E))
-    scale = 0.0
+    total = 0.0
     for e in range(E):
-        scale += b_in[e]
+        total += b_in[e]
     free = np.empty(E, dtype=np.bool_)
     for e in range(E):
-        b[e] = b_in[e] / scale
-        free[e] = b_in[e] > 0.0
+        b[e] = b_in[e] / total
+        free[e] = b[e] > TRACE_LIMIT
         lam[e] = 0.0
     active = np.empty(S, dtype=np.bool_)
     for j in range(S):
@@ -385,8 +439,12 @@ def _solve_point(A, c, b_in, mu_gr, allow_carbon, lam0, use_lam0, cand, cand_siz
                 ok = False
         active[j] = ok
     _initial_guess(A, c, b, free, active, cand, cand_size, lam0, use_lam0, lam, m, x, z, trial)
-    conv, iters, N = _maximize(A, c, b, free, active, lam, m, x, z, g, H, delta, abar, trial,
-                               tol, max_iter)
+    conv, iters, N, t = _maximize(A, c, b, free, active, lam, m, x, z, g, H, delta, abar,
+                                  trial, scale, tol, max_iter)
+    # The element potentials are lam + t on the free elements (the dual's shift).
+    for e in range(E):
+        if free[e]:
+            lam[e] += t
     carbon = 0.0
     ln_ac = -np.inf
     if free[iC]:
@@ -395,32 +453,46 @@ def _solve_point(A, c, b_in, mu_gr, allow_carbon, lam0, use_lam0, cand, cand_siz
             saved = lam.copy()
             free[iC] = False
             lam[iC] = mu_gr
-            conv2, it2, N2 = _maximize(A, c, b, free, active, lam, m, x, z, g, H, delta, abar,
-                                       trial, tol, max_iter)
+            conv2, it2, N2, t2 = _maximize(A, c, b, free, active, lam, m, x, z, g, H, delta,
+                                           abar, trial, scale, tol, max_iter)
+            iters += it2
             held = 0.0
             for j in range(S):
                 held += A[j, iC] * x[j]
             deposit = b[iC] - N2 * held
-            iters += it2
-            if conv2 and deposit > 0.0:
-                conv = True
+            if not conv2:
+                # Report the failure; never fall back to a gas that is supersaturated.
+                conv = False
+                N = N2
+                carbon = max(deposit, 0.0)
+                ln_ac = 0.0
+                for e in range(E):
+                    if free[e]:
+                        lam[e] += t2
+            elif deposit > 0.0:
                 N = N2
                 carbon = deposit
                 ln_ac = 0.0
+                for e in range(E):
+                    if free[e]:
+                        lam[e] += t2
             else:
                 # Graphite not stable after all (activity within round-off of 1): gas only.
+                free[iC] = True
                 for e in range(E):
                     lam[e] = saved[e]
-                free[iC] = True
-                conv, it3, N = _maximize(A, c, b, free, active, lam, m, x, z, g, H, delta,
-                                         abar, trial, tol, max_iter)
+                conv, it3, N, t3 = _maximize(A, c, b, free, active, lam, m, x, z, g, H, delta,
+                                             abar, trial, scale, tol, max_iter)
                 iters += it3
+                for e in range(E):
+                    if free[e]:
+                        lam[e] += t3
                 ln_ac = min(lam[iC] - mu_gr, 0.0)
     for j in range(S):
-        n_out[j] = N * x[j] * scale
+        n_out[j] = N * x[j] * total
     for e in range(E):
-        lam_out[e] = lam[e] if b_in[e] > 0.0 else np.nan
-    return conv, iters, carbon * scale, ln_ac
+        lam_out[e] = lam[e] if free[e] or e == iC and b[e] > TRACE_LIMIT else np.nan
+    return conv, iters, carbon * total, ln_ac
 
 
 @numba.njit(cache=True, parallel=True)
@@ -430,7 +502,7 @@ def _solve_batch(A, C, B, MU, allow_carbon, LAM0, use_lam0, cand, cand_size, tol
     S, E = A.shape
     nchunk = min(P, 4 * nthreads)
     for ch in numba.prange(nchunk):
-        work = np.empty((9, max(S, E)))
+        work = np.empty((10, max(S, E)))
         start = ch * P // nchunk
         stop = (ch + 1) * P // nchunk
         for p in range(start, stop):

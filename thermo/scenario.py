@@ -717,9 +717,13 @@ def _mean_molar_mass(composition: Mapping[str, float]) -> float:
 
 
 def _normalise(values: dict[str, float]) -> Composition:
-    """Divide by the sum; then nudge the largest entry so that the sum is exactly 1.0."""
+    """Divide by the sum; then nudge the largest entry so that the sum is 1.0.
+
+    A sum already within 1e-15 of 1 is left alone, so that normalising twice changes nothing
+    (the nudge cannot always reach a sum of exactly 1.0 in binary floating point).
+    """
     total = math.fsum(values.values())
-    if total != 1.0:
+    if abs(total - 1.0) > 1e-15:
         values = {k: v / total for k, v in values.items()}
         big = max(values, key=values.__getitem__)
         for _ in range(4):

@@ -244,7 +244,7 @@ def assemble(scenario: Scenario, results: list[dict[str, np.ndarray]]) -> xr.Dat
         "title": scenario.title,
         "schema_version": SCHEMA_VERSION,
         "thermo_version": __version__,
-        "scenario": scenario.text or scenario.to_toml(),
+        "scenario": scenario.to_toml(),
         "data_sources": _sources(),
         "standard_pressure_Pa": P_REF,
         "approach_K": scenario.approach,
@@ -303,7 +303,6 @@ class SweepCache:
                 while len(self._store) > self.maxsize:
                     self._store.popitem(last=False)
         ds = ds.copy()
-        ds.attrs = dict(ds.attrs, title=scenario.title,
-                        scenario=scenario.text or scenario.to_toml())
+        ds.attrs = dict(ds.attrs, title=scenario.title, scenario=scenario.to_toml())
         ds["feasible"] = feasible_mask(ds, scenario.limits)
         return ds
