@@ -11,6 +11,8 @@ import io as _io
 import json
 import math
 import os
+import subprocess
+import sys
 import tempfile
 from pathlib import Path
 
@@ -519,12 +521,40 @@ class NotesView:
         self.save = pn.widgets.FileDownload(callback=self._scenario, filename="scenario.toml",
                                             label="Scenario with notes (TOML)",
                                             button_type="light")
+        self.export = pn.widgets.FileDownload(callback=self._review, filename="review.html",
+                                              label="Review file (offline HTML)",
+                                              button_type="primary")
+        self.message = pn.pane.Markdown("", styles={"color": "#b3261e"})
 
     def _scenario(self):
         return _io.StringIO(self.state.scenario_with_notes().to_toml())
 
+    def _review(self):
+        """The review file, written by a fresh process (see explorer.export)."""
+        s = self.state
+        if s.dataset is None:
+            self.message.object = "The window is still being solved; export when it is done."
+            return _io.BytesIO(b"")
+        with tempfile.TemporaryDirectory() as tmp:
+            folder = Path(tmp)
+            (folder / "scenario.toml").write_text(s.scenario_with_notes().to_toml(), "utf-8")
+            grid_io.save(s.dataset, folder / "grid.nc")
+            (folder / "pinned.json").write_text(json.dumps(s.pinned, allow_nan=False), "utf-8")
+            out = folder / "review.html"
+            proc = subprocess.run(
+                [sys.executable, "-m", "explorer.export", "--scenario",
+                 str(folder / "scenario.toml"), "--grid", str(folder / "grid.nc"),
+                 "--pinned", str(folder / "pinned.json"), "-o", str(out)],
+                capture_output=True, text=True, timeout=600)
+            if proc.returncode != 0 or not out.exists():
+                last = (proc.stderr.strip().splitlines() or ["unknown error"])[-1]
+                self.message.object = f"The review file could not be written: {last}"
+                return _io.BytesIO(b"")
+            self.message.object = ""
+            return _io.BytesIO(out.read_bytes())
+
     def __panel__(self):
-        return pn.Column(self.text, self.save)
+        return pn.Column(self.text, pn.Row(self.save, self.export), self.message)
 
 
 def _section(title: str, *objects):

@@ -92,6 +92,26 @@ def _cmd_grid(args: argparse.Namespace) -> int:
     return 0
 
 
+def _cmd_export(args: argparse.Namespace) -> int:
+    import thermo
+    from explorer.export import write_review
+    from thermo.sweep import sweep
+
+    sc = thermo.load_scenario(args.scenario)
+    out = _output_path(args.output, ".html")
+    _kernel_notice()
+    bar = _progress_bar(sc.window.size(), "solving window")
+    try:
+        ds = sweep(sc, progress=lambda done, total: bar.update(done - bar.n))
+    finally:
+        bar.close()
+    write_review(sc, out, ds)
+    size = out.stat().st_size / 1e6
+    print(f"wrote {out}: review file for {sc.window.size()} grid points, {size:.1f} MB, "
+          "works offline")
+    return 0
+
+
 def _output_path(text: str, suffix: str):
     from pathlib import Path
 
@@ -190,6 +210,12 @@ def build_parser() -> argparse.ArgumentParser:
     gr.add_argument("--scheduler", default=None,
                     help="address of a running dask.distributed scheduler, e.g. tcp://host:8786")
     gr.set_defaults(func=_cmd_grid)
+
+    ex = sub.add_parser("export", help="write the offline review file (one HTML page)")
+    ex.add_argument("scenario", nargs="?", default=None,
+                    help="scenario TOML file (default: the shipped demo)")
+    ex.add_argument("-o", "--output", required=True, help="HTML file to write, e.g. review.html")
+    ex.set_defaults(func=_cmd_export)
 
     sv = sub.add_parser("serve", help="open the explorer in a browser (local server)")
     sv.add_argument("scenario", nargs="?", default=None,

@@ -194,6 +194,103 @@ def carbon_margin(s: xr.Dataset) -> xr.DataArray:
     return xr.where(s["carbon_deposit"] > 0, s["carbon_deposit"] / hc + 1e-9, ln_a.clip(max=0))
 
 
+def _paths(paths) -> dict:
+    return {"xs": [p[:, 0].tolist() for p in paths], "ys": [p[:, 1].tolist() for p in paths]}
+
+
+def variable_layers(s: xr.Dataset, var: Variable, mode: str, levels: np.ndarray) -> dict:
+    """What one variable draws on a slice: filled bands, contour lines, their labels, and
+    the values at the grid nodes (display units).
+
+    Parameters
+    ----------
+    s : xarray.Dataset
+        A 2-D slice from :func:`slice_fields`.
+    var : Variable
+        What to colour.
+    mode : {"pressure", "steam_to_carbon"}
+        The y axis.
+    levels : ndarray
+        Contour levels (:func:`variable_levels` over the whole Dataset).
+    """
+    x = s["temperature"].values - 273.15
+    y = _y_display(mode, s[mode].values)
+    z = np.asarray(var.values(s), dtype=float)
+    out = {"bands": {"xs": [], "ys": [], "color": [], "band": []},
+           "lines": {"xs": [], "ys": []},
+           "labels": {"x": [], "y": [], "text": []},
+           "values": [v if math.isfinite(v) else None for v in z.ravel().tolist()]}
+    if len(x) < 2 or len(y) < 2:
+        return out
+    palette = _band_colours(var, len(levels) - 1)
+    gen = contourpy.contour_generator(x, y, np.ma.masked_invalid(z), fill_type="OuterOffset",
+                                      line_type="Separate")
+    bands = out["bands"]
+    for i in range(len(levels) - 1):
+        lo = levels[i] if i > 0 else -1e300
+        hi = levels[i + 1] if i < len(levels) - 2 else 1e300
+        pts, offs = gen.filled(lo, hi)
+        if not pts:
+            continue
+        xs, ys = _polys(pts, offs)
+        bands["xs"].append(xs)
+        bands["ys"].append(ys)
+        bands["color"].append(palette[i])
+        bands["band"].append(f"{_fmt(levels[i], var.digits)} to "
+                             f"{_fmt(levels[i + 1], var.digits)}")
+    span_x = float(x.max() - x.min()) or 1.0
+    span_y = float(y.max() - y.min()) or 1.0
+    lines, labels = out["lines"], out["labels"]
+    for level in levels[1:-1]:
+        for path in gen.lines(level):
+            lines["xs"].append(path[:, 0].tolist())
+            lines["ys"].append(path[:, 1].tolist())
+            length = np.sum(np.hypot(np.diff(path[:, 0]) / span_x, np.diff(path[:, 1]) / span_y))
+            if length > 0.15:
+                k = len(path) // 2
+                labels["x"].append(float(path[k, 0]))
+                labels["y"].append(float(path[k, 1]))
+                labels["text"].append(_fmt(level, var.digits))
+    return out
+
+
+def window_layers(s: xr.Dataset, mode: str, limits) -> dict:
+    """What every map of a slice shares: the carbon boundary, the region outside a review
+    limit and its edge, and the grid nodes with their feasibility and carbon call."""
+    x = s["temperature"].values - 273.15
+    y = _y_display(mode, s[mode].values)
+    out = {"carbon": {"xs": [], "ys": []}, "infeasible": {"xs": [[]], "ys": [[]]},
+           "edge": {"xs": [], "ys": []}}
+    if len(x) >= 2 and len(y) >= 2:
+        cgen = contourpy.contour_generator(x, y, np.asarray(carbon_margin(s), dtype=float),
+                                           line_type="Separate")
+        out["carbon"] = _paths(cgen.lines(0.0))
+        fgen = contourpy.contour_generator(x, y, infeasibility(s, limits),
+                                           fill_type="OuterOffset", line_type="Separate")
+        pts, offs = fgen.filled(0.0, 1e300)
+        ixs, iys = _polys(pts, offs) if pts else ([], [])
+        out["infeasible"] = {"xs": [ixs], "ys": [iys]}
+        out["edge"] = _paths(fgen.lines(0.0))
+    X, Y = np.meshgrid(x, y)
+    feas = np.asarray(s["feasible"]) if "feasible" in s else np.ones(X.shape, bool)
+    carbon = np.asarray(s["carbon_deposit"]) > 0
+    out["nodes"] = {
+        "x": X.ravel().tolist(),
+        "y": Y.ravel().tolist(),
+        "feasible": ["yes" if f else "no" for f in feas.ravel()],
+        "carbon": ["graphite" if c else "none" for c in carbon.ravel()],
+    }
+    return out
+
+
+def combine(variable: dict, window: dict) -> dict[str, dict]:
+    """The ColumnDataSource data of every layer of one map from its two parts."""
+    out = {k: window[k] for k in ("carbon", "infeasible", "edge")}
+    out.update({k: variable[k] for k in ("bands", "lines", "labels")})
+    out["nodes"] = dict(window["nodes"], value=variable["values"])
+    return out
+
+
 def slice_layers(ds: xr.Dataset, var: Variable, mode: str, fixed: dict[str, int], limits,
                  levels: np.ndarray | None = None) -> dict[str, dict]:
     """All drawable data of one map slice, in display units.
@@ -222,76 +319,7 @@ def slice_layers(ds: xr.Dataset, var: Variable, mode: str, fixed: dict[str, int]
     if levels is None:
         levels = variable_levels(ds, var)
     s = slice_fields(ds, mode, fixed)
-    x = s["temperature"].values - 273.15
-    y = _y_display(mode, s[mode].values)
-    z = np.asarray(var.values(s), dtype=float)
-    zm = np.ma.masked_invalid(z)
-    palette = _band_colours(var, len(levels) - 1)
-    layers: dict[str, dict] = {}
-    if len(x) >= 2 and len(y) >= 2:
-        gen = contourpy.contour_generator(x, y, zm, fill_type="OuterOffset",
-                                          line_type="Separate")
-        bxs, bys, bcol, blev = [], [], [], []
-        for i in range(len(levels) - 1):
-            lo = levels[i] if i > 0 else -np.inf
-            hi = levels[i + 1] if i < len(levels) - 2 else np.inf
-            pts, offs = gen.filled(max(lo, -1e300), min(hi, 1e300))
-            if not pts:
-                continue
-            xs, ys = _polys(pts, offs)
-            bxs.append(xs)
-            bys.append(ys)
-            bcol.append(palette[i])
-            blev.append(f"{_fmt(levels[i], var.digits)} to {_fmt(levels[i + 1], var.digits)}")
-        layers["bands"] = {"xs": bxs, "ys": bys, "color": bcol, "band": blev}
-        lxs, lys, tx, ty, tt = [], [], [], [], []
-        span_x = float(x.max() - x.min()) or 1.0
-        span_y = float(y.max() - y.min()) or 1.0
-        for level in levels[1:-1]:
-            for path in gen.lines(level):
-                lxs.append(path[:, 0].tolist())
-                lys.append(path[:, 1].tolist())
-                length = np.sum(np.hypot(np.diff(path[:, 0]) / span_x,
-                                         np.diff(path[:, 1]) / span_y))
-                if length > 0.15:
-                    k = len(path) // 2
-                    tx.append(float(path[k, 0]))
-                    ty.append(float(path[k, 1]))
-                    tt.append(_fmt(level, var.digits))
-        layers["lines"] = {"xs": lxs, "ys": lys}
-        layers["labels"] = {"x": tx, "y": ty, "text": tt}
-        cgen = contourpy.contour_generator(x, y, np.asarray(carbon_margin(s), dtype=float),
-                                           line_type="Separate")
-        cpaths = cgen.lines(0.0)
-        layers["carbon"] = {"xs": [p[:, 0].tolist() for p in cpaths],
-                            "ys": [p[:, 1].tolist() for p in cpaths]}
-        f = infeasibility(s, limits)
-        fgen = contourpy.contour_generator(x, y, f, fill_type="OuterOffset",
-                                           line_type="Separate")
-        pts, offs = fgen.filled(0.0, 1e300)
-        ixs, iys = _polys(pts, offs) if pts else ([], [])
-        layers["infeasible"] = {"xs": [ixs], "ys": [iys]}
-        epaths = fgen.lines(0.0)
-        layers["edge"] = {"xs": [p[:, 0].tolist() for p in epaths],
-                          "ys": [p[:, 1].tolist() for p in epaths]}
-    else:
-        layers["bands"] = {"xs": [], "ys": [], "color": [], "band": []}
-        layers["lines"] = {"xs": [], "ys": []}
-        layers["labels"] = {"x": [], "y": [], "text": []}
-        layers["carbon"] = {"xs": [], "ys": []}
-        layers["infeasible"] = {"xs": [[]], "ys": [[]]}
-        layers["edge"] = {"xs": [], "ys": []}
-    X, Y = np.meshgrid(x, y)
-    feas = np.asarray(s["feasible"]) if "feasible" in s else np.ones_like(z, bool)
-    carbon = np.asarray(s["carbon_deposit"]) > 0
-    layers["nodes"] = {
-        "x": X.ravel().tolist(),
-        "y": Y.ravel().tolist(),
-        "value": [v if math.isfinite(v) else None for v in z.ravel().tolist()],
-        "feasible": ["yes" if f else "no" for f in feas.ravel()],
-        "carbon": ["graphite" if c else "none" for c in carbon.ravel()],
-    }
-    return layers
+    return combine(variable_layers(s, var, mode, levels), window_layers(s, mode, limits))
 
 
 def _band_colours(var: Variable, n: int) -> list[str]:

@@ -12,6 +12,18 @@ from thermo.errors import InputError
 from thermo.sweep import SCHEMA_VERSION
 
 
+def publish(tmp: str | os.PathLike, path: str | os.PathLike) -> None:
+    """Give a finished temporary file the usual permissions and rename it over `path`.
+
+    Temporary files are created private (0600); the published file gets what the user's
+    umask gives a new file (typically 0644), so a review file can be shared as it is.
+    """
+    umask = os.umask(0)
+    os.umask(umask)
+    os.chmod(tmp, 0o666 & ~umask)
+    os.replace(tmp, path)
+
+
 def save(ds: xr.Dataset, path: str | os.PathLike) -> Path:
     """Write `ds` to NetCDF at `path` atomically.
 
@@ -39,7 +51,7 @@ def save(ds: xr.Dataset, path: str | os.PathLike) -> Path:
     os.close(fd)
     try:
         ds.to_netcdf(tmp, engine="netcdf4")
-        os.replace(tmp, path)
+        publish(tmp, path)
     except BaseException:
         if os.path.exists(tmp):
             os.unlink(tmp)

@@ -1,0 +1,193 @@
+// Review file logic: swap map slices and assemble a clicked point's balance in the page.
+// Inputs: the page's JSON block "rw-data" (R below: axes, inlet flows, slices' layers, table
+// layout), and the Bokeh models passed as CustomJS args (pts holds the solved outlet flows).
+// No network, no Python: every number comes from data embedded in this file.
+
+const R = (window.__rwData = window.__rwData ||
+           JSON.parse(document.getElementById("rw-data").textContent));
+
+const S = R.species;              // gas species, in the order of every flow array
+const MW = R.molar_mass;          // kg/mol per species
+const NS = S.length;
+
+function pyFixed(v, d) {
+  // Python's f"{v:,.{d}f}"
+  return v.toLocaleString("en-US", {minimumFractionDigits: d, maximumFractionDigits: d,
+                                    useGrouping: true});
+}
+
+function pyG(v, p) {
+  // Python's f"{v:.{p}g}"
+  if (v === 0) return "0";
+  const e = Math.floor(Math.log10(Math.abs(Number(v.toPrecision(p)))));
+  if (e < -4 || e >= p) {
+    let [m, x] = v.toExponential(p - 1).split("e");
+    if (m.includes(".")) m = m.replace(/0+$/, "").replace(/\.$/, "");
+    const sign = x[0] === "-" ? "-" : "+";
+    const digits = x.replace(/^[-+]/, "").padStart(2, "0");
+    return `${m}e${sign}${digits}`;
+  }
+  let s = v.toFixed(Math.max(p - 1 - e, 0));
+  if (s.includes(".")) s = s.replace(/0+$/, "").replace(/\.$/, "");
+  return s;
+}
+
+function display(value, conv, decimals) {
+  if (value === null || value === undefined || !Number.isFinite(value)) return "-";
+  const [scale, offset] = R.conversions[conv];
+  const v = value * scale + offset;
+  if (decimals < 0) return pyG(v, -decimals);
+  return pyFixed(v, decimals);
+}
+
+function lookup(d, path) {
+  let cur = d;
+  for (const part of path.split(".")) {
+    if (cur === null || typeof cur !== "object" || !(part in cur)) return null;
+    cur = cur[part];
+  }
+  return cur;
+}
+
+function esc(t) {
+  return String(t).replace(/&/g, "&amp;").replace(/</g, "&lt;").replace(/>/g, "&gt;");
+}
+
+function table(head, rows) {
+  const th = head.map((h) => `<th>${esc(h)}</th>`).join("");
+  const body = rows.map((r) => "<tr>" + r.map((c) => `<td>${esc(c)}</td>`).join("") + "</tr>")
+    .join("");
+  return `<table class="rw-table"><thead><tr>${th}</tr></thead><tbody>${body}</tbody></table>`;
+}
+
+function byName(arr) {
+  const o = {};
+  for (let i = 0; i < NS; i++) o[S[i]] = arr[i];
+  return o;
+}
+
+function unravel(p) {
+  const idx = {};
+  let rem = p;
+  for (let k = R.dims.length - 1; k >= 0; k--) {
+    const n = R.shape[k];
+    idx[R.dims[k]] = rem % n;
+    rem = Math.floor(rem / n);
+  }
+  return idx;
+}
+
+function flatIndex(idx) {
+  let p = 0;
+  for (let k = 0; k < R.dims.length; k++) p = p * R.shape[k] + idx[R.dims[k]];
+  return p;
+}
+
+function ratioIndex(idx) {
+  let r = 0;
+  for (const d of R.ratio_dims) r = r * R.axes[d].length + idx[d];
+  return r;
+}
+
+function assemble(p) {
+  // The balance of flat grid point p, with the key paths of PointResult.to_dict().
+  const P = pts.data;
+  const idx = unravel(p);
+  const T = R.axes.temperature[idx.temperature];
+  const Pa = R.axes.pressure[idx.pressure];
+  const r = ratioIndex(idx);
+  const nin = R.inlet_flow.slice(r * NS, (r + 1) * NS);
+  const nout = [];
+  for (let j = 0; j < NS; j++) nout.push(P["n_" + S[j]][p]);
+  const carbon = P.carbon_deposit[p];
+  const tot = nout.reduce((a, b) => a + b, 0);
+  const iw = S.indexOf("H2O");
+  const dryTot = tot - nout[iw];
+  const x = nout.map((n) => n / tot);
+  const xd = nout.map((n, j) => (j === iw ? 0 : n / dryTot));
+  const hcC = (n) => n[S.indexOf("CH4")] + 2 * n[S.indexOf("C2H6")] + 3 * n[S.indexOf("C3H8")];
+  const cin = hcC(nin);
+  const get = (n, s) => n[S.indexOf(s)];
+  const h2 = get(nout, "H2"), co = get(nout, "CO");
+  const duty = P.duty[p];
+  const hin = R.inlet_enthalpy[r];
+  const lnP = Math.log(Pa / R.standard_pressure);
+  const lx = (s) => Math.log(x[S.indexOf(s)]);
+  const qRef = Math.exp(lx("CO") + 3 * lx("H2") - lx("CH4") - lx("H2O") + 2 * lnP);
+  const qShift = Math.exp(lx("CO2") + lx("H2") - lx("CO") - lx("H2O"));
+  const elem = R.elements;  // {C: [atoms per species], ...}
+  const closure = {};
+  for (const e of ["C", "H", "O", "N"]) {
+    let bi = 0, bo = 0;
+    for (let j = 0; j < NS; j++) { bi += elem[e][j] * nin[j]; bo += elem[e][j] * nout[j]; }
+    if (e === "C") bo += carbon;
+    closure[e] = bi > 0 ? Math.abs(bo - bi) / bi : 0;
+  }
+  const ratios = {steam_to_carbon: null, oxygen_to_carbon: 0, co2_to_carbon: 0};
+  for (const k of Object.keys(ratios)) {
+    if (k in idx) ratios[k] = R.axes[k][idx[k]];
+    else if (k in R.fixed_ratios) ratios[k] = R.fixed_ratios[k];
+  }
+  return {
+    temperature_K: T, pressure_Pa: Pa,
+    equilibrium_temperature_K: T - R.approach_K,
+    steam_to_carbon: ratios.steam_to_carbon, oxygen_to_carbon: ratios.oxygen_to_carbon,
+    co2_to_carbon: ratios.co2_to_carbon, approach_K: R.approach_K,
+    converged: P.converged[p] > 0,
+    inlet: {temperature_K: R.inlet_temperature_K, flow_mol_per_s: byName(nin),
+            mass_flow_kg_per_s: byName(nin.map((n, j) => n * MW[j])), enthalpy_W: hin},
+    outlet: {temperature_K: T, flow_mol_per_s: byName(nout),
+             mass_flow_kg_per_s: byName(nout.map((n, j) => n * MW[j])),
+             mole_fraction: byName(x), mole_fraction_dry: byName(xd), enthalpy_W: hin + duty},
+    carbon_deposit_mol_per_s: carbon,
+    carbon_activity: P.carbon_activity[p],
+    h2_yield: h2 / cin, h2_potential: (h2 + co) / cin,
+    methane_slip_dry: xd[S.indexOf("CH4")],
+    methane_conversion: 1 - hcC(nout) / cin,
+    h2_co_ratio: co > 0 ? h2 / co : Infinity,
+    duty_W: duty, duty_per_h2_J_per_mol: h2 > 0 ? duty / h2 : Infinity,
+    extents_mol_per_s: {
+      reforming: co + get(nout, "CO2") - get(nin, "CO") - get(nin, "CO2"),
+      shift: get(nout, "CO2") - get(nin, "CO2"),
+    },
+    reactions: {
+      reforming: {equation: R.equations.reforming, K: R.K_reforming[idx.temperature], Q: qRef,
+                  approach_K: null, heat_298_J_per_mol: R.heat_298.reforming,
+                  heat_J_per_mol: R.heat_T.reforming[idx.temperature]},
+      shift: {equation: R.equations.shift, K: R.K_shift[idx.temperature], Q: qShift,
+              approach_K: null, heat_298_J_per_mol: R.heat_298.shift,
+              heat_J_per_mol: R.heat_T.shift[idx.temperature]},
+    },
+    element_closure: closure,
+  };
+}
+
+function balanceHtml(d) {
+  const parts = [];
+  if (!d.converged) {
+    parts.push('<p class="rw-warn">The equilibrium solver did not converge at this point: ' +
+               "its numbers are not reliable.</p>");
+  }
+  parts.push("<h4>Outlet summary</h4>" + table(["quantity", "value", "unit"],
+    R.spec.summary.map(([label, unit, key, conv, dec]) =>
+      [label, display(lookup(d, key), conv, dec), unit])));
+  const srows = S.map((s) => [s].concat(R.spec.species.map(([, key, conv, dec]) =>
+    display(lookup(d, key.replace("{s}", s)), conv, dec))));
+  srows.push(["C(gr)", "", "", display(d.carbon_deposit_mol_per_s, "kmolh", 3),
+              display(d.carbon_deposit_mol_per_s * 12.011e-3, "kgh", 1), "", ""]);
+  parts.push("<h4>Inlet and outlet by species</h4>" +
+             table(["species"].concat(R.spec.species.map((c) => c[0])), srows));
+  parts.push("<h4>Energy balance</h4>" + table(["quantity", "value", "unit"],
+    R.spec.energy.map(([label, unit, key, conv, dec]) =>
+      [label, display(lookup(d, key), conv, dec), unit])));
+  const rrows = ["reforming", "shift"].map((r) => [lookup(d, `reactions.${r}.equation`)].concat(
+    R.spec.reactions.map(([, key, conv, dec]) => display(lookup(d, key.replace("{r}", r)),
+                                                         conv, dec))));
+  parts.push("<h4>Reactions (standard state 1 bar)</h4>" +
+             table(["reaction"].concat(R.spec.reactions.map((c) => c[0])), rrows));
+  parts.push("<p class='rw-small'>Element closure |out - in| / in: " +
+             Object.entries(d.element_closure).map(([k, v]) =>
+               `${k} ${v.toExponential(1).replace(/e([+-])(\d)$/, "e$10$2")}`).join(", ") +
+             ". Reaction approach temperatures are given by the live app.</p>");
+  return parts.join("\n");
+}
