@@ -121,17 +121,17 @@ class ScenarioForm:
 
     def __init__(self, state: ExplorerState):
         self.state = state
-        self.inputs = {name: pn.widgets.TextInput(name=label, width=190)
+        self.inputs = {name: pn.widgets.TextInput(label=label, width=190)
                        for name, label, _ in self.FIELDS}
         self.messages = {name: pn.pane.Markdown("", styles={"color": "#b3261e"}, width=190,
                                                 margin=(0, 5, 0, 10))
                          for name, _, _ in self.FIELDS}
-        self.carbon_free = pn.widgets.Checkbox(name="Carbon-free required", value=True)
-        self.apply = pn.widgets.Button(name="Apply and solve", button_type="primary")
-        self.reset = pn.widgets.Button(name="Reset fields")
+        self.carbon_free = pn.widgets.Checkbox(label="Carbon-free required", value=True)
+        self.apply = pn.widgets.Button(label="Apply and solve", color="primary")
+        self.reset = pn.widgets.Button(label="Reset fields")
         self.general = pn.pane.Markdown("", styles={"color": "#b3261e"})
         files = scenario_files()
-        self.chooser = pn.widgets.Select(name="Shipped scenario", options=list(files),
+        self.chooser = pn.widgets.Select(label="Shipped scenario", options=list(files),
                                          value=_current_name(state.scenario, files), width=220)
         self.upload = pn.widgets.FileInput(accept=".toml", multiple=False, width=260)
         self.apply.on_click(lambda e: self.submit())
@@ -306,10 +306,10 @@ class MapsView:
     def __init__(self, state: ExplorerState):
         self.state = state
         self.mode = pn.widgets.RadioButtonGroup(options={v: k for k, v in MODES.items()},
-                                                value=state.mode, button_type="light")
-        self.left = pn.widgets.Select(name="Left map", options=_var_options(),
+                                                value=state.mode, color="light")
+        self.left = pn.widgets.Select(label="Left map", options=_var_options(),
                                       value=state.left, width=260)
-        self.right = pn.widgets.Select(name="Right map", options=_var_options(),
+        self.right = pn.widgets.Select(label="Right map", options=_var_options(),
                                        value=state.right, width=260)
         self.sliders = pn.Row()
         self.panes = [pn.pane.Bokeh(None), pn.pane.Bokeh(None)]
@@ -368,7 +368,7 @@ class MapsView:
                         "oxygen_to_carbon": "O2-to-carbon",
                         "co2_to_carbon": "CO2-to-carbon"}[d]
             options = dict(zip(labels, range(len(vals)), strict=True))
-            w = pn.widgets.DiscreteSlider(name=name, options=options,
+            w = pn.widgets.DiscreteSlider(label=name, options=options,
                                           value=s.fixed.get(d, 0), width=360)
             w.param.watch(lambda e, d=d: self._set_fixed(d, e.new), "value")
             widgets.append(w)
@@ -436,14 +436,14 @@ class BalanceView:
         self.state = state
         self.heading = pn.pane.Markdown("")
         self.tables = pn.pane.HTML("", stylesheets=[PAGE_CSS], sizing_mode="stretch_width")
-        self.pin = pn.widgets.Button(name="Pin this point", button_type="success")
+        self.pin = pn.widgets.Button(label="Pin this point", color="success")
         self.pin.on_click(lambda e: state.pin())
         self.csv = pn.widgets.FileDownload(callback=self._csv, filename="point-balance.csv",
-                                           label="Balance (CSV)", button_type="light")
+                                           label="Balance (CSV)", color="light")
         self.json = pn.widgets.FileDownload(callback=self._json, filename="point-balance.json",
-                                            label="Balance (JSON)", button_type="light")
+                                            label="Balance (JSON)", color="light")
         self.grid = pn.widgets.FileDownload(callback=self._grid, filename="window-grid.nc",
-                                            label="Whole grid (NetCDF)", button_type="light")
+                                            label="Whole grid (NetCDF)", color="light")
         self._current: dict | None = None
         state.param.watch(self._update, ["selected", "scenario"])
         self._update()
@@ -496,7 +496,7 @@ class PinnedView:
     def __init__(self, state: ExplorerState):
         self.state = state
         self.table = pn.pane.HTML("", stylesheets=[PAGE_CSS], sizing_mode="stretch_width")
-        self.clear = pn.widgets.Button(name="Clear pinned points")
+        self.clear = pn.widgets.Button(label="Clear pinned points")
         self.clear.on_click(lambda e: state.clear_pins())
         state.param.watch(self._update, ["pinned"])
         self._update()
@@ -520,10 +520,10 @@ class NotesView:
         state.param.watch(lambda e: setattr(self.text, "value", e.new), ["notes"])
         self.save = pn.widgets.FileDownload(callback=self._scenario, filename="scenario.toml",
                                             label="Scenario with notes (TOML)",
-                                            button_type="light")
+                                            color="light")
         self.export = pn.widgets.FileDownload(callback=self._review, filename="review.html",
                                               label="Review file (offline HTML)",
-                                              button_type="primary")
+                                              color="primary")
         self.message = pn.pane.Markdown("", styles={"color": "#b3261e"})
 
     def _scenario(self):

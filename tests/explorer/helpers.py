@@ -1,0 +1,43 @@
+"""Helpers for the explorer tests: a small scenario and reading Bokeh maps in a browser."""
+
+from __future__ import annotations
+
+import re
+
+import thermo
+
+#: A small window (6 x 4 x 5 = 120 points) around the demo's design point, quick to solve.
+SMALL_WINDOW = dict(temperature=("700 degC", "950 degC", 6), pressure=("10 bar", "40 bar", 4),
+                    steam_to_carbon=(1.0, 5.0, 5))
+
+
+def small_scenario():
+    return thermo.load_scenario().with_window(**SMALL_WINDOW)
+
+
+#: JavaScript: page position of data point (x, y) on the Bokeh figure named `name`.
+FIND_PIXEL = """([name, x, y]) => {
+  function* walk(v) {
+    yield v;
+    const kids = v.child_views ? [...v.child_views] : [];
+    for (const k of kids) yield* walk(k);
+  }
+  for (const root of Object.values(Bokeh.index)) {
+    for (const v of walk(root)) {
+      if (v.model && v.model.name === name && v.frame) {
+        const r = v.canvas_view.el.getBoundingClientRect();
+        return {x: r.left + v.frame.x_scale.compute(x), y: r.top + v.frame.y_scale.compute(y)};
+      }
+    }
+  }
+  return null;
+}"""
+
+
+def table_cells(html: str) -> list[list[str]]:
+    """Rows of cell texts of every table in an HTML fragment (tags stripped)."""
+    rows = []
+    for tr in re.findall(r"<tr>(.*?)</tr>", html, flags=re.S):
+        rows.append([re.sub(r"<[^>]+>", "", c).strip()
+                     for c in re.findall(r"<t[dh]>(.*?)</t[dh]>", tr, flags=re.S)])
+    return rows

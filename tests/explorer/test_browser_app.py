@@ -1,0 +1,99 @@
+"""The served app in real headless Chromium: slice, click, balance, invalid input."""
+
+from __future__ import annotations
+
+import socket
+import time
+
+import pytest
+
+import thermo
+from explorer.tables import balance_html
+from tests.explorer.helpers import FIND_PIXEL, small_scenario, table_cells
+
+pytestmark = pytest.mark.usefixtures("chromium_path")
+
+
+def _free_port() -> int:
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        return s.getsockname()[1]
+
+
+@pytest.fixture(scope="module")
+def server():
+    pn = pytest.importorskip("panel")
+    from explorer.app import build_app
+
+    sc = small_scenario()
+    port = _free_port()
+    thread = pn.serve({"/": lambda: build_app(sc)}, port=port, address="127.0.0.1",
+                      websocket_origin=[f"127.0.0.1:{port}"], threaded=True, show=False,
+                      verbose=False)
+    deadline = time.time() + 30
+    while time.time() < deadline:
+        try:
+            socket.create_connection(("127.0.0.1", port), timeout=1).close()
+            break
+        except OSError:
+            time.sleep(0.1)
+    yield sc, f"http://127.0.0.1:{port}/"
+    thread.stop()
+
+
+def _ready(page, url):
+    page.goto(url)
+    page.get_by_text("points solved").wait_for(timeout=60000)
+    page.wait_for_function(f"() => ({FIND_PIXEL})(['map-0', 850, 20]) !== null", timeout=30000)
+
+
+def _click(page, x, y):
+    pos = page.evaluate(FIND_PIXEL, ["map-0", x, y])
+    page.mouse.click(pos["x"], pos["y"])
+
+
+def _balance_rows(page):
+    html = page.locator("table.rw-table").first.evaluate(
+        "t => t.closest('div').innerHTML")
+    return table_cells(html)
+
+
+def test_slice_click_and_balance_equal_the_core(page, server, artifacts):
+    sc, url = server
+    errors = []
+    page.on("pageerror", lambda e: errors.append(str(e)))
+    _ready(page, url)
+    # Move the steam-to-carbon slider one step (3 -> 4) with the keyboard, as a user can.
+    handle = page.locator(".noUi-handle >> visible=true").first
+    handle.focus()
+    handle.press("ArrowRight")
+    page.get_by_text("Steam-to-carbon: 4").first.wait_for(timeout=10000)
+    _click(page, 900.0, 30.0)
+    page.get_by_text("900.0 degC, 30.000 bar abs, S/C 4").wait_for(timeout=10000)
+    expected = thermo.point(sc, temperature="900 degC", pressure="30 bar", steam_to_carbon=4.0)
+    want = table_cells(balance_html(expected.to_dict()))
+    shown = _balance_rows(page)
+    assert shown == want[: len(shown)]
+    assert ["H2 yield", f"{expected.h2_yield:,.4f}", "mol H2 / mol hydrocarbon C"] in shown
+    page.screenshot(path=str(artifacts / "app.png"), full_page=True)
+    assert errors == []
+
+
+MAP_STATE = """() => {
+  const doc = Bokeh.documents[0];
+  const fig = doc.get_model_by_name('map-0');
+  return [fig.id, JSON.stringify(fig.renderers[0].data_source.data.xs)];
+}"""
+
+
+def test_invalid_entry_shows_its_message_and_keeps_the_maps(page, server):
+    _ready(page, server[1])
+    before = page.evaluate(MAP_STATE)
+    field = page.get_by_label("Window P from")
+    field.fill("-5 bar")
+    field.press("Enter")
+    page.get_by_role("button", name="Apply and solve").click()
+    page.get_by_text("Not applied").wait_for(timeout=10000)
+    assert page.get_by_text("an absolute pressure above 0").first.is_visible()
+    # The last good maps stay: the same figure with the same bands.
+    assert page.evaluate(MAP_STATE) == before
