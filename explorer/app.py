@@ -141,9 +141,39 @@ class ScenarioForm:
         self.fill(state.scenario)
 
     def fill(self, sc: Scenario) -> None:
-        """Put a scenario's values in the fields (engineer units)."""
+        """Put a scenario's values in the fields (engineer units).
+
+        The fields show rounded values; a field the user leaves as filled is submitted with
+        the scenario's exact value (see :meth:`toml_text`), so applying a change to one field
+        never moves another by its display rounding.
+        """
         f, w, lim = sc.feed, sc.window, sc.limits
         v = self.inputs
+        self._exact = {
+            "composition": "{ " + ", ".join(f"{k} = {x!r}" for k, x in f.composition.items())
+                           + " }",
+            "flow": json.dumps(f"{f.flow!r} mol/s"),
+            "inlet_temperature": json.dumps(f"{f.inlet_temperature!r} K"),
+            "steam_to_carbon": repr(f.steam_to_carbon),
+            "oxygen_to_carbon": repr(f.oxygen_to_carbon),
+            "co2_to_carbon": repr(f.co2_to_carbon),
+            "temperature": json.dumps(f"{sc.temperature!r} K"),
+            "pressure": json.dumps(f"{sc.pressure!r} Pa"),
+            "approach": json.dumps(f"{sc.approach!r} K"),
+            "t_from": json.dumps(f"{w.temperature.start!r} K"),
+            "t_to": json.dumps(f"{w.temperature.stop!r} K"),
+            "t_points": str(w.temperature.points),
+            "p_from": json.dumps(f"{w.pressure.start!r} Pa"),
+            "p_to": json.dumps(f"{w.pressure.stop!r} Pa"),
+            "p_points": str(w.pressure.points),
+            "s_from": repr(w.steam_to_carbon.start),
+            "s_to": repr(w.steam_to_carbon.stop),
+            "s_points": str(w.steam_to_carbon.points),
+            "max_slip": (None if lim.max_methane_slip_dry is None
+                         else repr(lim.max_methane_slip_dry)),
+            "min_yield": None if lim.min_h2_yield is None else repr(lim.min_h2_yield),
+            "max_duty": None if lim.max_duty is None else json.dumps(f"{lim.max_duty!r} W"),
+        }
         v["composition"].value = ", ".join(f"{k}={_display(x)}" for k, x in
                                            f.composition.items())
         v["flow"].value = f"{_display(f.flow * 3.6)} kmol/h"
@@ -168,6 +198,7 @@ class ScenarioForm:
         v["min_yield"].value = "" if lim.min_h2_yield is None else _display(lim.min_h2_yield)
         v["max_duty"].value = "" if lim.max_duty is None else f"{_display(lim.max_duty / 1e6)} MW"
         self.carbon_free.value = lim.carbon_free
+        self._filled = {k: w.value for k, w in self.inputs.items()}
         self._clear()
 
     def _clear(self) -> None:
@@ -175,32 +206,42 @@ class ScenarioForm:
             m.object = ""
         self.general.object = ""
 
+    def _value(self, name: str) -> str:
+        """A field as a TOML value: exact when untouched since :meth:`fill`, else as typed."""
+        text = self.inputs[name].value
+        if text == self._filled.get(name) and self._exact.get(name) is not None:
+            return self._exact[name]
+        if name == "composition":
+            return _composition_toml(text)
+        return _q(text)
+
     def toml_text(self) -> str:
         """The scenario file the fields describe (validated by the core's parser)."""
         v = {k: w.value for k, w in self.inputs.items()}
+        q = self._value
         sc = self.state.scenario
         lines = [
             f"title = {json.dumps(sc.title)}",
             f"description = {json.dumps(sc.description)}",
             f"notes = {json.dumps(self.state.notes)}",
             "[feed]",
-            f"composition = {_composition_toml(v['composition'])}",
-            f"flow = {_q(v['flow'])}",
-            f"inlet_temperature = {_q(v['inlet_temperature'])}",
-            f"steam_to_carbon = {_q(v['steam_to_carbon'])}",
-            f"oxygen_to_carbon = {_q(v['oxygen_to_carbon'])}",
-            f"co2_to_carbon = {_q(v['co2_to_carbon'])}",
+            f"composition = {q('composition')}",
+            f"flow = {q('flow')}",
+            f"inlet_temperature = {q('inlet_temperature')}",
+            f"steam_to_carbon = {q('steam_to_carbon')}",
+            f"oxygen_to_carbon = {q('oxygen_to_carbon')}",
+            f"co2_to_carbon = {q('co2_to_carbon')}",
             "[design_point]",
-            f"temperature = {_q(v['temperature'])}",
-            f"pressure = {_q(v['pressure'])}",
-            f"approach = {_q(v['approach'])}",
+            f"temperature = {q('temperature')}",
+            f"pressure = {q('pressure')}",
+            f"approach = {q('approach')}",
             "[window]",
-            f"temperature = {{ from = {_q(v['t_from'])}, to = {_q(v['t_to'])}, "
-            f"points = {_q(v['t_points'])} }}",
-            f"pressure = {{ from = {_q(v['p_from'])}, to = {_q(v['p_to'])}, "
-            f"points = {_q(v['p_points'])} }}",
-            f"steam_to_carbon = {{ from = {_q(v['s_from'])}, to = {_q(v['s_to'])}, "
-            f"points = {_q(v['s_points'])} }}",
+            f"temperature = {{ from = {q('t_from')}, to = {q('t_to')}, "
+            f"points = {q('t_points')} }}",
+            f"pressure = {{ from = {q('p_from')}, to = {q('p_to')}, "
+            f"points = {q('p_points')} }}",
+            f"steam_to_carbon = {{ from = {q('s_from')}, to = {q('s_to')}, "
+            f"points = {q('s_points')} }}",
         ]
         if sc.window.cofeed is not None:
             a = sc.window.cofeed_axis
@@ -208,12 +249,12 @@ class ScenarioForm:
                          f"points = {a.points} }}")
         lines.append("[limits]")
         if v["max_slip"].strip():
-            lines.append(f"max_methane_slip_dry = {_q(v['max_slip'])}")
+            lines.append(f"max_methane_slip_dry = {q('max_slip')}")
         lines.append(f"carbon_free = {'true' if self.carbon_free.value else 'false'}")
         if v["min_yield"].strip():
-            lines.append(f"min_h2_yield = {_q(v['min_yield'])}")
+            lines.append(f"min_h2_yield = {q('min_yield')}")
         if v["max_duty"].strip():
-            lines.append(f"max_duty = {_q(v['max_duty'])}")
+            lines.append(f"max_duty = {q('max_duty')}")
         return "\n".join(lines) + "\n"
 
     def submit(self) -> bool:

@@ -93,13 +93,22 @@ class ExplorerState(param.Parameterized):
             return False
         kind, sc, payload = self._pending
         self._pending = None
+        if SHARED_CACHE.key(sc) != SHARED_CACHE.key(self.scenario):
+            # The scenario changed numbers while this solve ran: solve the current one.
+            self._thread = None
+            self.solve_in_background()
+            return False
         self.busy = False
         self.progress = 1.0
         if kind == "error":
             self.status = f"Solving failed: {payload}. The previous maps are kept."
             return True
-        if sc is self.scenario:
-            self._adopt(sc, payload)
+        # Same numbers; notes, title or limits may have changed meanwhile: adopt with the
+        # current scenario's text and feasible window.
+        ds = payload.copy()
+        ds["feasible"] = feasible_mask(ds, self.scenario.limits)
+        ds.attrs = dict(ds.attrs, scenario=self.scenario.to_toml())
+        self._adopt(self.scenario, ds)
         return True
 
     def _adopt(self, sc: Scenario, ds: xr.Dataset) -> None:

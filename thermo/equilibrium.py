@@ -290,9 +290,11 @@ def _maximize(A, c, b, free, active, lam, m, x, z, g, H, delta, abar, trial, sca
         for e in range(E):
             slope += g[e] * delta[e]
         # Armijo on the dual; or, where an element is so scarce that its gain in the dual is
-        # below the dual's round-off, a decrease of the relative element residuals (the
-        # Newton direction descends both).
+        # below the dual's round-off, a decrease of the relative element residuals with the
+        # dual unchanged within that round-off (the Newton direction descends both; allowing
+        # a real loss in the dual would let the two tests undo each other's steps).
         alpha = 1.0
+        roundoff = 1e-13 * (1.0 + abs(D))
         for _ in range(60):
             for e in range(E):
                 trial[e] = lam[e] + alpha * delta[e]
@@ -300,9 +302,10 @@ def _maximize(A, c, b, free, active, lam, m, x, z, g, H, delta, abar, trial, sca
             if D_new == D_new:
                 if err < 1e-4 or D_new >= D + 1e-4 * alpha * slope:
                     break
-                _, sq_new = _residual(A, b, free, x, N_new, g)
-                if sq_new <= (1.0 - 1e-4 * alpha) * sq:
-                    break
+                if D_new >= D - roundoff:
+                    _, sq_new = _residual(A, b, free, x, N_new, g)
+                    if sq_new <= (1.0 - 1e-4 * alpha) * sq:
+                        break
             alpha *= 0.5
         for e in range(E):
             lam[e] = trial[e]
