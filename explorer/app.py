@@ -23,7 +23,7 @@ from bokeh.events import Tap
 import thermo
 from explorer import CAUTION
 from explorer.maps import MODES, VARIABLES, map_figure, slice_layers, variable_levels
-from explorer.state import ExplorerState
+from explorer.state import ExplorerState, check_window_size
 from explorer.tables import balance_csv, balance_html, comparison_html
 from thermo import io as grid_io
 from thermo.errors import InputError
@@ -261,7 +261,8 @@ class ScenarioForm:
         """Validate the fields; on success adopt the scenario, else show the message."""
         self._clear()
         try:
-            sc = parse_scenario(self.toml_text(), path=self.state.scenario.path)
+            sc = check_window_size(parse_scenario(self.toml_text(),
+                                                  path=self.state.scenario.path))
         except InputError as err:
             self.show_error(err)
             return False
@@ -282,7 +283,7 @@ class ScenarioForm:
         if path is None:
             return
         try:
-            sc = thermo.load_scenario(path)
+            sc = check_window_size(thermo.load_scenario(path))
         except InputError as err:
             self.general.object = f"Could not open {event.new}: {err}"
             return
@@ -300,7 +301,7 @@ class ScenarioForm:
             return
         try:
             text = data.decode("utf-8")
-            sc = parse_scenario(text, path=self.upload.filename)
+            sc = check_window_size(parse_scenario(text, path=self.upload.filename))
         except UnicodeDecodeError:
             self.general.object = "Not loaded: the file is not UTF-8 text."
             return
@@ -617,7 +618,7 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
     """
     if not isinstance(scenario, Scenario):
         scenario = thermo.load_scenario(scenario)
-    state = ExplorerState(scenario)
+    state = ExplorerState(check_window_size(scenario))
     form = ScenarioForm(state)
     maps = MapsView(state)
     balance = BalanceView(state)

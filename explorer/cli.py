@@ -134,8 +134,10 @@ def _cmd_serve(args: argparse.Namespace) -> int:
     import ipaddress
 
     import thermo
+    from explorer.state import check_window_size
 
-    sc = thermo.load_scenario(args.scenario)  # errors in the file show here, before serving
+    # Errors in the file show here, before serving.
+    sc = check_window_size(thermo.load_scenario(args.scenario))
     if not 1 <= args.port <= 65535:
         raise InputError("--port", args.port, "a port number from 1 to 65535")
     try:

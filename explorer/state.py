@@ -15,8 +15,25 @@ import xarray as xr
 
 import thermo
 from explorer.maps import VARIABLES
+from thermo.errors import InputError
 from thermo.scenario import Scenario
 from thermo.sweep import SweepCache, feasible_mask
+
+#: Most grid points one app session solves: about 4 s and 0.3 GB on the project's 2-core
+#: machine; larger windows belong to `explorer grid` (a shared server must not be stalled
+#: by one user's 2-million-point file).
+APP_MAX_POINTS = 300_000
+
+
+def check_window_size(sc: Scenario) -> Scenario:
+    """Refuse a window too large for an interactive session, with what to do instead."""
+    n = sc.window.size()
+    if n > APP_MAX_POINTS:
+        raise InputError("window", f"{n:,} points",
+                         f"at most {APP_MAX_POINTS:,} points in the app; solve larger windows "
+                         "with 'explorer grid' and study the NetCDF file")
+    return sc
+
 
 #: One cache per server process: sessions share solved windows by scenario content, so the
 #: demo is solved once however many people open it (a content key cannot mix scenarios).

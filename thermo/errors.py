@@ -21,8 +21,14 @@ class InputError(ValueError):
     "window.pressure.from = '-5 bar' is not allowed: expected an absolute pressure above 0"
     """
 
+    #: Longest rendering of the value in a message [characters]; longer ones are cut.
+    MAX_VALUE_CHARS = 200
+
     def __init__(self, field: str, value: object, allowed: str):
         self.field = field
         self.value = value
         self.allowed = allowed
-        super().__init__(f"{field} = {value!r} is not allowed: expected {allowed}")
+        shown = repr(value)
+        if len(shown) > self.MAX_VALUE_CHARS:
+            shown = shown[: self.MAX_VALUE_CHARS - 20] + f"... ({len(shown):,} characters)"
+        super().__init__(f"{field} = {shown} is not allowed: expected {allowed}")

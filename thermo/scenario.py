@@ -68,6 +68,8 @@ __all__ = [
     "MAX_AXIS_POINTS",
     "MAX_WINDOW_POINTS",
     "COMPOSITION_SUM_TOLERANCE",
+    "MAX_SCENARIO_BYTES",
+    "MAX_TEXT_CHARS",
     "Composition",
     "Axis",
     "Feed",
@@ -115,6 +117,10 @@ APPROACH_RANGE_K = (0.0, 100.0)
 MAX_AXIS_POINTS = 401
 #: Most points in the whole window (product of the axes).
 MAX_WINDOW_POINTS = 2_000_000
+#: Largest scenario file accepted [bytes]; a real one is a few kB.
+MAX_SCENARIO_BYTES = 1_000_000
+#: Longest title, description or notes accepted [characters].
+MAX_TEXT_CHARS = 100_000
 #: How far the composition may sum from 1 before it is refused (it is then normalised).
 COMPOSITION_SUM_TOLERANCE = 1e-3
 
@@ -694,6 +700,9 @@ def _table(data: Mapping, key: str, path: str, required: bool = True) -> Mapping
 def _string(value: object, field_: str) -> str:
     if not isinstance(value, str):
         raise InputError(field_, value, "a text string in quotes")
+    if len(value) > MAX_TEXT_CHARS:
+        raise InputError(field_, f"{len(value):,} characters",
+                         f"text of at most {MAX_TEXT_CHARS:,} characters")
     if any(0xD800 <= ord(c) <= 0xDFFF for c in value):
         raise InputError(field_, value, "text without unpaired surrogate characters")
     return value
@@ -989,10 +998,17 @@ def parse_scenario(text: str, path: str | None = None) -> Scenario:
     InputError
         Bad TOML, unknown or missing keys, wrong types, units or ranges.
     """
+    size = len(text.encode("utf-8", errors="surrogatepass"))
+    if size > MAX_SCENARIO_BYTES:
+        raise InputError(path or "scenario", f"{size:,} bytes",
+                         f"a scenario file of at most {MAX_SCENARIO_BYTES:,} bytes")
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise InputError(path or "scenario", str(exc), "valid TOML") from None
+    except RecursionError:
+        raise InputError(path or "scenario", "tables nested too deeply",
+                         "a scenario file with the documented keys only") from None
     return _from_dict(data, text, path)
 
 
@@ -1015,6 +1031,9 @@ def load_scenario(path: str | os.PathLike | None = None) -> Scenario:
     """
     file = DEMO_PATH if path is None else Path(path)
     try:
+        if file.is_file() and file.stat().st_size > MAX_SCENARIO_BYTES:
+            raise InputError("scenario file", str(file),
+                             f"a scenario file of at most {MAX_SCENARIO_BYTES:,} bytes")
         text = file.read_text(encoding="utf-8")
     except FileNotFoundError:
         raise InputError("scenario file", str(file), "an existing file") from None

@@ -1,0 +1,56 @@
+"""Hostile scenario files are refused with a message, quickly, without a traceback."""
+
+from __future__ import annotations
+
+import time
+
+import pytest
+
+from explorer.cli import main
+from thermo.errors import InputError
+from thermo.scenario import DEMO_PATH, MAX_SCENARIO_BYTES, MAX_TEXT_CHARS, parse_scenario
+
+BASE = DEMO_PATH.read_text("utf-8")
+
+
+@pytest.mark.parametrize(
+    ("text", "named"),
+    [
+        (BASE + "\nextra = " + "{ a = " * 5000 + "1" + " }" * 5000 + "\n", "nested too deeply"),
+        (BASE.replace('title = "', 'title = "' + "x" * (MAX_TEXT_CHARS + 1), 1), "title"),
+        ("# padding\n" * (MAX_SCENARIO_BYTES // 10 + 1) + BASE, "bytes"),
+        (BASE.replace("points = 26", "points = 100000"), "window.temperature.points"),
+        (BASE.replace("points = 26", "points = 400").replace("points = 13", "points = 400")
+         .replace("points = 17", "points = 400"), "window"),
+        (BASE + "\n[limits.more]\nx = [" + ",".join(["1"] * 200_000) + "]\n", "limits.more"),
+    ],
+    ids=["deep-nesting", "huge-title", "huge-file", "huge-axis", "huge-window", "huge-array"],
+)
+def test_hostile_scenario_is_refused_quickly(text, named):
+    start = time.perf_counter()
+    with pytest.raises(InputError) as err:
+        parse_scenario(text)
+    assert named in str(err.value)
+    assert len(str(err.value)) < 600  # the message never echoes a huge value
+    # Generous bound so that a hang (not a slow machine) fails: parsing a 1 MB file is ~0.1 s.
+    assert time.perf_counter() - start < 20
+
+
+def test_huge_file_is_refused_by_the_cli_before_reading(tmp_path, capsys):
+    big = tmp_path / "big.toml"
+    big.write_text("# x\n" * (MAX_SCENARIO_BYTES // 4 + 10), "utf-8")
+    assert main(["point", str(big)]) == 2
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "at most" in err and "Traceback" not in err
+
+
+def test_app_refuses_a_window_too_large_for_a_session():
+    from explorer.state import APP_MAX_POINTS, check_window_size
+    from thermo import load_scenario
+
+    sc = load_scenario().with_window(temperature=("700 degC", "950 degC", 200),
+                                     pressure=("10 bar", "40 bar", 100),
+                                     steam_to_carbon=(1.0, 5.0, 20))
+    assert sc.window.size() > APP_MAX_POINTS
+    with pytest.raises(InputError, match="explorer grid"):
+        check_window_size(sc)
