@@ -22,7 +22,15 @@ from bokeh.events import Tap
 
 import thermo
 from explorer import CAUTION
-from explorer.maps import MODES, VARIABLES, map_figure, slice_layers, variable_levels
+from explorer.maps import (
+    MODES,
+    VARIABLES,
+    empty_layers,
+    map_figure,
+    restyle_figure,
+    slice_layers,
+    variable_levels,
+)
 from explorer.state import ExplorerState, check_window_size
 from explorer.tables import balance_csv, balance_html, comparison_html
 from thermo import io as grid_io
@@ -354,9 +362,17 @@ class MapsView:
         self.right = pn.widgets.Select(label="Right map", options=_var_options(),
                                        value=state.right, width=260)
         self.sliders = pn.Row()
-        self.panes = [pn.pane.Bokeh(None), pn.pane.Bokeh(None)]
-        self.sources: list[dict] = [{}, {}]
+        # The figures exist from the start (empty until the window is solved) and are only
+        # restyled afterwards: models added to a live page later can race its first render.
+        self.panes, self.sources = [], []
         self.levels: dict[str, np.ndarray] = {}
+        for i, key in enumerate((state.left, state.right)):
+            var = VARIABLES[key]
+            fig, src, _ = map_figure(var, state.mode, np.array([0.0, 1.0]), empty_layers(),
+                                     f"map-{i}", (0.0, 1.0), (0.0, 1.0))
+            fig.on_event(Tap, self._tap)
+            self.panes.append(pn.pane.Bokeh(fig))
+            self.sources.append(src)
         self.status = pn.pane.Markdown("", margin=(0, 10))
         self.bar = pn.indicators.Progress(value=0, max=1000, width=300, visible=False)
         self.mode.param.watch(lambda e: setattr(state, "mode", e.new), "value")
@@ -377,6 +393,7 @@ class MapsView:
         self.status.object = s.status
 
     def _rebuild(self, *_):
+        """New dataset, orientation or variable: the same figures show the new content."""
         s = self.state
         ds = s.dataset
         if ds is None:
@@ -384,15 +401,13 @@ class MapsView:
         self.levels = {k: variable_levels(ds, VARIABLES[k]) for k in (s.left, s.right)}
         x = ds.temperature.values - 273.15
         y = ds[s.mode].values / (1e5 if s.mode == "pressure" else 1.0)
+        x_range = (float(x.min()), float(x.max()))
+        y_range = (float(y.min()), float(y.max()))
         for i, key in enumerate((s.left, s.right)):
             var = VARIABLES[key]
             layers = slice_layers(ds, var, s.mode, s.fixed, s.scenario.limits, self.levels[key])
-            fig, src, _ = map_figure(var, s.mode, self.levels[key], layers, f"map-{i}",
-                                     (float(x.min()), float(x.max())),
-                                     (float(y.min()), float(y.max())))
-            fig.on_event(Tap, self._tap)
-            self.sources[i] = src
-            self.panes[i].object = fig
+            restyle_figure(self.panes[i].object, self.sources[i], var, s.mode,
+                           self.levels[key], layers, x_range, y_range)
         self._build_sliders()
         self._mark_selected()
 
@@ -421,7 +436,7 @@ class MapsView:
 
     def _redraw_slices(self, *_):
         s = self.state
-        if s.dataset is None or not self.sources[0]:
+        if s.dataset is None or not self.levels:
             return
         for i, key in enumerate((s.left, s.right)):
             layers = slice_layers(s.dataset, VARIABLES[key], s.mode, s.fixed,
@@ -432,10 +447,9 @@ class MapsView:
 
     def _mark_selected(self, *_):
         s = self.state
-        if s.selected is None or not self.sources[0]:
+        if s.selected is None or s.dataset is None:
             for src in self.sources:
-                if src:
-                    src["selected"].data = {"x": [], "y": [], "alpha": []}
+                src["selected"].data = {"x": [], "y": [], "alpha": []}
             return
         sel = s.selected
         x = sel["temperature"] - 273.15

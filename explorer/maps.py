@@ -335,6 +335,50 @@ def axis_label(mode: str) -> str:
         "Steam-to-carbon [mol H2O / mol hydrocarbon C]"
 
 
+def empty_layers() -> dict[str, dict]:
+    """Layers that draw nothing (a map before its window is solved)."""
+    return {
+        "bands": {"xs": [], "ys": [], "color": [], "band": []},
+        "lines": {"xs": [], "ys": []},
+        "labels": {"x": [], "y": [], "text": []},
+        "carbon": {"xs": [], "ys": []},
+        "infeasible": {"xs": [[]], "ys": [[]]},
+        "edge": {"xs": [], "ys": []},
+        "nodes": {"x": [], "y": [], "value": [], "feasible": [], "carbon": []},
+    }
+
+
+def hover_tooltips(var: Variable, mode: str) -> list[tuple[str, str]]:
+    """Tooltips of the grid nodes: coordinates, the value with its unit, limits, carbon."""
+    y_tip = ("pressure", "@y{0.00} bar abs") if mode == "pressure" else \
+        ("steam-to-carbon", "@y{0.00}")
+    return [
+        ("temperature", "@x{0.0} degC"),
+        y_tip,
+        (var.label, f"@value{{0.{'0' * max(var.digits, 1)}}} {var.unit}"),
+        ("within all limits", "@feasible"),
+        ("carbon at equilibrium", "@carbon"),
+    ]
+
+
+def restyle_figure(fig, src: dict, var: Variable, mode: str, levels: np.ndarray,
+                   layers: dict[str, dict], x_range: tuple[float, float],
+                   y_range: tuple[float, float]) -> None:
+    """Show another variable, orientation or window on an existing map (same models, so
+    the browser keeps its event subscriptions; the review file's script does the same)."""
+    for k, data in layers.items():
+        src[k].data = data
+    bar = fig.select_one({"type": ColorBar})
+    bar.color_mapper.update(palette=_band_colours(var, len(levels) - 1),
+                            low=float(levels[0]), high=float(levels[-1]))
+    bar.title = var.unit
+    fig.title.text = var.title
+    fig.yaxis[0].axis_label = axis_label(mode)
+    fig.x_range.update(start=x_range[0], end=x_range[1])
+    fig.y_range.update(start=y_range[0], end=y_range[1])
+    fig.select_one({"type": HoverTool}).tooltips = hover_tooltips(var, mode)
+
+
 def map_figure(var: Variable, mode: str, levels: np.ndarray, layers: dict[str, dict],
                name: str, x_range: tuple[float, float], y_range: tuple[float, float],
                width: int = 560, height: int = 430):
@@ -378,15 +422,7 @@ def map_figure(var: Variable, mode: str, levels: np.ndarray, layers: dict[str, d
     selected = fig.scatter("x", "y", source=src["selected"], size=15, marker="circle",
                            fill_color=None, line_color=SELECTED_COLOUR, line_width=3,
                            line_alpha="alpha")
-    y_tip = ("pressure", "@y{0.00} bar abs") if mode == "pressure" else \
-        ("steam-to-carbon", "@y{0.00}")
-    fig.add_tools(HoverTool(renderers=[nodes], tooltips=[
-        ("temperature", "@x{0.0} degC"),
-        y_tip,
-        (var.label, f"@value{{0.{'0' * max(var.digits, 1)}}} {var.unit}"),
-        ("within all limits", "@feasible"),
-        ("carbon at equilibrium", "@carbon"),
-    ]))
+    fig.add_tools(HoverTool(renderers=[nodes], tooltips=hover_tooltips(var, mode)))
     mapper = LinearColorMapper(palette=_band_colours(var, len(levels) - 1),
                                low=float(levels[0]), high=float(levels[-1]))
     fig.add_layout(ColorBar(color_mapper=mapper, width=12, title=var.unit,

@@ -15,7 +15,8 @@ def small_scenario():
     return thermo.load_scenario().with_window(**SMALL_WINDOW)
 
 
-#: JavaScript: page position of data point (x, y) on the Bokeh figure named `name`.
+#: JavaScript: viewport position of data point (x, y) on the Bokeh figure named `name`, after
+#: scrolling the figure into view (a click outside the viewport does nothing).
 FIND_PIXEL = """([name, x, y]) => {
   function* walk(v) {
     yield v;
@@ -25,6 +26,7 @@ FIND_PIXEL = """([name, x, y]) => {
   for (const root of Object.values(Bokeh.index)) {
     for (const v of walk(root)) {
       if (v.model && v.model.name === name && v.frame) {
+        v.canvas_view.el.scrollIntoView({block: "center", inline: "nearest"});
         const r = v.canvas_view.el.getBoundingClientRect();
         return {x: r.left + v.frame.x_scale.compute(x), y: r.top + v.frame.y_scale.compute(y)};
       }
