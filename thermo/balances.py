@@ -183,6 +183,7 @@ def reformer_balance(
     approach=0.0,
     *,
     reaction_approach: bool = False,
+    row: int = 1,
 ) -> Balance:
     """Equilibrium outlet and complete balance of N reformer points.
 
@@ -202,6 +203,8 @@ def reformer_balance(
     reaction_approach : bool
         Also compute each reaction's approach temperature (a root solve per point; the
         single-point view wants it, grids do not).
+    row : int
+        Rows of neighbouring points for warm starts (see thermo.equilibrium.equilibrate).
 
     Returns
     -------
@@ -216,7 +219,7 @@ def reformer_balance(
     T_eq = T - dT
     A = formula_matrix()
     b = n_in @ A
-    eq = equilibrate(T_eq, P, b)
+    eq = equilibrate(T_eq, P, b, row=row)
     n_out = eq.moles
     x = n_out / n_out.sum(axis=1, keepdims=True)
     dry = n_out.copy()

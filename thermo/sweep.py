@@ -87,7 +87,9 @@ def solve_chunk(scenario: Scenario, start: int, stop: int) -> dict[str, np.ndarr
     """Solve flat window points ``start:stop`` (C order over the window dims).
 
     Returns a dict of arrays over those points: the per-point and per-species variables.
-    Public so dask workers can run it; it depends only on its arguments.
+    Public so dask workers can run it; it depends only on its arguments. Along the last
+    window axis each point starts from its neighbour's answer (rows of that axis; `start`
+    should be a multiple of its length, which :func:`sweep` ensures).
     """
     axes = window_axes(scenario)
     shape = tuple(len(v) for v in axes.values())
@@ -98,7 +100,9 @@ def solve_chunk(scenario: Scenario, start: int, stop: int) -> dict[str, np.ndarr
     inlet = _inlet_by_ratio(scenario, axes)
     ratio_idx = tuple(idx[names.index(d)] for d in names if d in RATIO_AXES)
     n_in = inlet[ratio_idx]
-    bal = reformer_balance(n_in, T, P, scenario.feed.inlet_temperature, scenario.approach)
+    row = shape[-1] if start % shape[-1] == 0 else 1
+    bal = reformer_balance(n_in, T, P, scenario.feed.inlet_temperature, scenario.approach,
+                           row=row)
     out = {k: getattr(bal, k) for k in _SCALARS + _PER_SPECIES}
     h2 = bal.outlet_flow[:, GAS_SPECIES.index("H2")]
     with np.errstate(divide="ignore", invalid="ignore"):
@@ -163,7 +167,9 @@ def sweep(
     axes = window_axes(scenario)
     shape = tuple(len(v) for v in axes.values())
     n = math.prod(shape)
-    chunks = _chunks(n, max(1, int(chunk_points)))
+    # Chunks hold whole rows of the last axis, so that results do not depend on chunking.
+    row = shape[-1]
+    chunks = _chunks(n, max(row, int(chunk_points) // row * row))
     if workers is not None or scheduler is not None:
         results = _solve_distributed(scenario, chunks, workers, scheduler, progress, n)
     else:
