@@ -25,11 +25,15 @@ from explorer import CAUTION
 from explorer.maps import (
     MODES,
     VARIABLES,
+    combine,
     empty_layers,
     map_figure,
     restyle_figure,
+    slice_fields,
     slice_layers,
+    variable_layers,
     variable_levels,
+    window_layers,
 )
 from explorer.state import ExplorerState, check_window_size
 from explorer.tables import balance_csv, balance_html, comparison_html
@@ -435,12 +439,15 @@ class MapsView:
         self.state.fixed = dict(self.state.fixed, **{dim: index})
 
     def _redraw_slices(self, *_):
+        """A new slice: recontour from the solved window (no thermodynamics)."""
         s = self.state
         if s.dataset is None or not self.levels:
             return
+        cut = slice_fields(s.dataset, s.mode, s.fixed)
+        shared = window_layers(cut, s.mode, s.scenario.limits)
         for i, key in enumerate((s.left, s.right)):
-            layers = slice_layers(s.dataset, VARIABLES[key], s.mode, s.fixed,
-                                  s.scenario.limits, self.levels[key])
+            layers = combine(variable_layers(cut, VARIABLES[key], s.mode, self.levels[key]),
+                             shared)
             for name, data in layers.items():
                 self.sources[i][name].data = data
         self._mark_selected()

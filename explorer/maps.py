@@ -132,10 +132,21 @@ def variable_levels(ds: xr.Dataset, var: Variable) -> np.ndarray:
     return nice_levels(lo, hi)
 
 
+#: Dataset variables the overlays read (limits, carbon boundary, nodes).
+OVERLAY_VARIABLES = ("h2_yield", "methane_slip_dry", "duty", "carbon_deposit",
+                     "carbon_activity", "converged", "feasible")
+
+
 def slice_fields(ds: xr.Dataset, mode: str, fixed: dict[str, int]) -> xr.Dataset:
-    """The 2-D slice (temperature, y axis) of `ds` with the other axes fixed by index."""
+    """The 2-D slice (y axis, temperature) of `ds` with the other axes fixed by index.
+
+    Only the variables a map can show are kept (the per-species arrays other than the dry
+    mole fractions are left out), so a slice change stays cheap.
+    """
+    keep = [v for v in (*OVERLAY_VARIABLES, *(k for k in VARIABLES if ":" not in k),
+                        "mole_fraction_dry") if v in ds]
     sel = {d: i for d, i in fixed.items() if d in ds.dims and d != mode and d != "temperature"}
-    out = ds.isel(sel)
+    out = ds[list(dict.fromkeys(keep))].isel(sel)
     return out.transpose(mode, "temperature", ...)
 
 

@@ -693,7 +693,7 @@ def equilibrate(
 
 
 def kernel_is_cached() -> bool:
-    """Whether the compiled solver kernel is already in numba's on-disk cache.
+    """Whether the compiled solver kernel is in numba's on-disk cache and up to date.
 
     When False, the first call of :func:`equilibrate` in this process compiles it (about
     20-40 s on a 2-core machine); interfaces use this to tell the user before it starts.
@@ -701,8 +701,7 @@ def kernel_is_cached() -> bool:
     if _solve_batch.signatures:
         return True
     try:
-        import os
-
-        return os.path.exists(_solve_batch._cache._cache_file._index_path)
-    except AttributeError:  # numba internals moved: assume the worst, say so
+        # numba's index is keyed on the source file's stamp: a stale one loads as empty.
+        return bool(_solve_batch._cache._cache_file._load_index())
+    except (AttributeError, OSError, EOFError, ValueError):  # internals moved: assume not
         return False

@@ -1,0 +1,46 @@
+"""`explorer serve`: loopback by default, a warning for anything else, bad options refused."""
+
+from __future__ import annotations
+
+import pytest
+
+from explorer.cli import build_parser, main
+
+
+@pytest.fixture
+def served(monkeypatch):
+    """Record pn.serve's arguments instead of starting a server."""
+    pn = pytest.importorskip("panel")
+    calls = []
+    monkeypatch.setattr(pn, "serve", lambda *a, **k: calls.append((a, k)))
+    return calls
+
+
+def test_default_address_is_loopback(served, capsys):
+    assert build_parser().parse_args(["serve"]).address == "127.0.0.1"
+    assert main(["serve", "--port", "5123"]) == 0
+    (_, kwargs), = served
+    assert kwargs["address"] == "127.0.0.1" and kwargs["port"] == 5123
+    assert kwargs["show"] is False
+    assert set(kwargs["websocket_origin"]) == {"127.0.0.1:5123", "localhost:5123"}
+    assert "warning" not in capsys.readouterr().err
+
+
+def test_other_address_is_served_only_with_a_warning(served, capsys):
+    assert main(["serve", "--address", "0.0.0.0", "--port", "5124"]) == 0
+    err = capsys.readouterr().err
+    assert "warning" in err and "0.0.0.0" in err
+    (_, kwargs), = served
+    assert kwargs["websocket_origin"] == ["0.0.0.0:5124"]
+
+
+@pytest.mark.parametrize(("argv", "named"), [
+    (["--address", "my-laptop"], "--address"),
+    (["--port", "70000"], "--port"),
+    (["missing.toml"], "missing.toml"),
+])
+def test_bad_serve_options_are_one_line_and_exit_2(served, capsys, argv, named):
+    assert main(["serve", *argv]) == 2
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and named in err and "Traceback" not in err
+    assert served == []
