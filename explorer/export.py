@@ -20,7 +20,6 @@ import json
 import os
 import re
 import sys
-import tempfile
 from datetime import UTC, datetime
 from html.parser import HTMLParser
 from importlib import resources
@@ -58,7 +57,7 @@ from thermo.balances import enthalpy_flow
 from thermo.constants import ELEMENTS, P_REF, T_REF, V_NORMAL
 from thermo.errors import InputError
 from thermo.extent import REFORMING, SHIFT, delta_h, equilibrium_constant
-from thermo.io import publish
+from thermo.io import atomic_target
 from thermo.scenario import Scenario
 from thermo.species import GAS_SPECIES, formula_matrix, molar_masses
 from thermo.sweep import RATIO_AXES
@@ -550,15 +549,8 @@ def write_review(sc: Scenario, path: str | os.PathLike, ds: xr.Dataset | None = 
         ds = thermo.sweep(sc)
     text = build_review(sc, ds, pinned)
     check_offline(text)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8") as fh:
-            fh.write(text)
-        publish(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
+    with atomic_target(path, "-o") as tmp:
+        tmp.write_text(text, encoding="utf-8")
     return path
 
 

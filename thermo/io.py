@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import contextlib
 import os
 import tempfile
 from pathlib import Path
@@ -24,12 +25,35 @@ def publish(tmp: str | os.PathLike, path: str | os.PathLike) -> None:
     os.replace(tmp, path)
 
 
-def save(ds: xr.Dataset, path: str | os.PathLike) -> Path:
-    """Write `ds` to NetCDF at `path` atomically.
+@contextlib.contextmanager
+def atomic_target(path: str | os.PathLike, field: str = "output"):
+    """Yield a temporary path beside `path`; on success publish it as `path`, else remove it.
 
-    The file is written under a temporary name in the same folder and renamed over `path`
-    only when complete, so an interrupted write leaves any earlier file intact and never a
-    half file.
+    Whatever happens inside (an exception, Ctrl+C), an earlier file at `path` stays intact and
+    no half file is left.
+
+    Raises
+    ------
+    InputError
+        The folder of `path` does not exist.
+    """
+    path = Path(path)
+    folder = path.parent if str(path.parent) else Path(".")
+    if not folder.is_dir():
+        raise InputError(field, str(path), "a file in an existing folder")
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=folder)
+    os.close(fd)
+    try:
+        yield Path(tmp)
+        publish(tmp, path)
+    except BaseException:
+        if os.path.exists(tmp):
+            os.unlink(tmp)
+        raise
+
+
+def save(ds: xr.Dataset, path: str | os.PathLike) -> Path:
+    """Write `ds` to NetCDF at `path` atomically (see :func:`atomic_target`).
 
     Parameters
     ----------
@@ -43,20 +67,9 @@ def save(ds: xr.Dataset, path: str | os.PathLike) -> Path:
     pathlib.Path
         The path written.
     """
-    path = Path(path)
-    folder = path.parent if str(path.parent) else Path(".")
-    if not folder.is_dir():
-        raise InputError("output", str(path), "a file in an existing folder")
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=folder)
-    os.close(fd)
-    try:
+    with atomic_target(path) as tmp:
         ds.to_netcdf(tmp, engine="netcdf4")
-        publish(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
-    return path
+    return Path(path)
 
 
 def load(path: str | os.PathLike) -> xr.Dataset:

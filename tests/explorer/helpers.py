@@ -2,7 +2,10 @@
 
 from __future__ import annotations
 
+import contextlib
 import re
+import socket
+import time
 
 import thermo
 
@@ -43,3 +46,33 @@ def table_cells(html: str) -> list[list[str]]:
         rows.append([re.sub(r"<[^>]+>", "", c).strip()
                      for c in re.findall(r"<t[dh]>(.*?)</t[dh]>", tr, flags=re.S)])
     return rows
+
+
+def free_port() -> int:
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        return s.getsockname()[1]
+
+
+@contextlib.contextmanager
+def served_app(scenario):
+    """The app served in this process on a free loopback port; yields its URL."""
+    import panel as pn
+
+    from explorer.app import build_app
+
+    port = free_port()
+    thread = pn.serve({"/": lambda: build_app(scenario)}, port=port, address="127.0.0.1",
+                      websocket_origin=[f"127.0.0.1:{port}"], threaded=True, show=False,
+                      verbose=False)
+    deadline = time.time() + 30
+    while time.time() < deadline:
+        try:
+            socket.create_connection(("127.0.0.1", port), timeout=1).close()
+            break
+        except OSError:
+            time.sleep(0.1)
+    try:
+        yield f"http://127.0.0.1:{port}/"
+    finally:
+        thread.stop()

@@ -2,43 +2,21 @@
 
 from __future__ import annotations
 
-import socket
-import time
-
 import pytest
 
 import thermo
 from explorer.tables import balance_html
-from tests.explorer.helpers import FIND_PIXEL, small_scenario, table_cells
+from tests.explorer.helpers import FIND_PIXEL, served_app, small_scenario, table_cells
 
 pytestmark = pytest.mark.usefixtures("chromium_path")
 
 
-def _free_port() -> int:
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return s.getsockname()[1]
-
-
 @pytest.fixture(scope="module")
 def server():
-    pn = pytest.importorskip("panel")
-    from explorer.app import build_app
-
+    pytest.importorskip("panel")
     sc = small_scenario()
-    port = _free_port()
-    thread = pn.serve({"/": lambda: build_app(sc)}, port=port, address="127.0.0.1",
-                      websocket_origin=[f"127.0.0.1:{port}"], threaded=True, show=False,
-                      verbose=False)
-    deadline = time.time() + 30
-    while time.time() < deadline:
-        try:
-            socket.create_connection(("127.0.0.1", port), timeout=1).close()
-            break
-        except OSError:
-            time.sleep(0.1)
-    yield sc, f"http://127.0.0.1:{port}/"
-    thread.stop()
+    with served_app(sc) as url:
+        yield sc, url
 
 
 def _ready(page, url):

@@ -8,12 +8,11 @@ within LOAD_DEADLINE_S, far above the ~20 s it takes on the project's 2-core mac
 
 from __future__ import annotations
 
-import socket
 import time
 
 import pytest
 
-from tests.explorer.helpers import FIND_PIXEL, small_scenario
+from tests.explorer.helpers import FIND_PIXEL, served_app, small_scenario
 
 pytestmark = pytest.mark.usefixtures("chromium_path")
 
@@ -24,31 +23,11 @@ DUTIES_MW = [40, 50, 60, 70, 80, 90, 100, 110]
 POINTS = [(750.0 + 50.0 * (i % 4), 20.0 + 10.0 * (i // 4)) for i in range(SESSIONS)]
 
 
-def _free_port() -> int:
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return s.getsockname()[1]
-
-
 @pytest.fixture(scope="module")
 def server():
-    pn = pytest.importorskip("panel")
-    from explorer.app import build_app
-
-    sc = small_scenario()
-    port = _free_port()
-    thread = pn.serve({"/": lambda: build_app(sc)}, port=port, address="127.0.0.1",
-                      websocket_origin=[f"127.0.0.1:{port}"], threaded=True, show=False,
-                      verbose=False)
-    deadline = time.time() + 30
-    while time.time() < deadline:
-        try:
-            socket.create_connection(("127.0.0.1", port), timeout=1).close()
-            break
-        except OSError:
-            time.sleep(0.1)
-    yield f"http://127.0.0.1:{port}/"
-    thread.stop()
+    pytest.importorskip("panel")
+    with served_app(small_scenario()) as url:
+        yield url
 
 
 def test_eight_sessions_without_cross_talk(browser, server):

@@ -302,7 +302,9 @@ def test_failure_after_the_temporary_file_is_written_keeps_the_previous_file(pre
 
     monkeypatch.setattr(export_module, "build_review",
                         lambda sc, ds, pinned: "<html><body>new</body></html>")
-    monkeypatch.setattr(export_module, "publish", publish_fails)
+    import thermo.io
+
+    monkeypatch.setattr(thermo.io, "publish", publish_fails)
     with pytest.raises(OSError, match="simulated failure"):
         write_review(small_scenario(), previous, ds=object(), pinned=[])
     assert seen and seen[0].name.endswith(".part") and seen[0].parent == previous.parent
