@@ -11,9 +11,23 @@ const MW = R.molar_mass;          // kg/mol per species
 const NS = S.length;
 
 function pyFixed(v, d) {
-  // Python's f"{v:,.{d}f}"
-  return v.toLocaleString("en-US", {minimumFractionDigits: d, maximumFractionDigits: d,
-                                    useGrouping: true});
+  // Python's f"{v:,.{d}f}": toFixed rounds the exact binary value as Python does, exact
+  // ties (half-even in Python, away from zero in toFixed) are settled first; then thousands
+  // separators go on the integer part.
+  let s = v.toFixed(d);
+  const exact = Math.abs(v).toFixed(100);  // the binary value's own digits (|v| > 1e-14)
+  const dot = exact.indexOf(".");
+  if (/^50*$/.test(exact.slice(dot + 1 + d))) {
+    let n = BigInt(exact.slice(0, dot) + exact.slice(dot + 1, dot + 1 + d));
+    if (n % 2n === 1n) n += 1n;
+    const digits = n.toString().padStart(d + 1, "0");
+    const body = d > 0 ? digits.slice(0, -d) + "." + digits.slice(-d) : digits;
+    s = (v < 0 ? "-" : "") + body;
+  }
+  const neg = s.startsWith("-");
+  const [whole, frac] = (neg ? s.slice(1) : s).split(".");
+  const grouped = whole.replace(/\B(?=(\d{3})+(?!\d))/g, ",");
+  return (neg ? "-" : "") + grouped + (frac !== undefined ? "." + frac : "");
 }
 
 function pyG(v, p) {
