@@ -2,7 +2,7 @@
 
 Numbers in this file are not published values: they are window choices (any values inside
 the model's ranges would do) or tolerances, each with its reason beside it. The physical
-trends checked are common practice, no source (textbook Le Chatelier behaviour of steam
+trends checked are common practice, no source (Le Chatelier behaviour of steam
 reforming), not published numbers.
 """
 
