@@ -126,6 +126,9 @@ class ScenarioForm:
         ("s_from", "Window S/C from", "window.steam_to_carbon.from"),
         ("s_to", "Window S/C to", "window.steam_to_carbon.to"),
         ("s_points", "S/C points", "window.steam_to_carbon.points"),
+        ("c_from", "Co-feed axis from", "window.cofeed.from"),
+        ("c_to", "Co-feed axis to", "window.cofeed.to"),
+        ("c_points", "Co-feed points", "window.cofeed.points"),
         ("max_slip", "Max methane slip, dry", "limits.max_methane_slip_dry"),
         ("min_yield", "Min H2 yield (mol/mol C)", "limits.min_h2_yield"),
         ("max_duty", "Max duty", "limits.max_duty"),
@@ -139,6 +142,9 @@ class ScenarioForm:
                                                 margin=(0, 5, 0, 10))
                          for name, _, _ in self.FIELDS}
         self.carbon_free = pn.widgets.Checkbox(label="Carbon-free required", value=True)
+        self.cofeed = pn.widgets.Select(label="Fourth window axis", width=190,
+                                        options={"none": "", "O2-to-carbon": "oxygen_to_carbon",
+                                                 "CO2-to-carbon": "co2_to_carbon"})
         self.apply = pn.widgets.Button(label="Apply and solve", color="primary")
         self.reset = pn.widgets.Button(label="Reset fields")
         self.general = pn.pane.Markdown("", styles={"color": "#b3261e"})
@@ -205,6 +211,14 @@ class ScenarioForm:
         v["s_from"].value = _display(w.steam_to_carbon.start)
         v["s_to"].value = _display(w.steam_to_carbon.stop)
         v["s_points"].value = str(w.steam_to_carbon.points)
+        self.cofeed.value = w.cofeed or ""
+        if w.cofeed is not None:
+            a = w.cofeed_axis
+            v["c_from"].value, v["c_to"].value = _display(a.start), _display(a.stop)
+            v["c_points"].value = str(a.points)
+            self._exact.update(c_from=repr(a.start), c_to=repr(a.stop), c_points=str(a.points))
+        else:
+            v["c_from"].value, v["c_to"].value, v["c_points"].value = "0", "0.5", "3"
         v["max_slip"].value = ("" if lim.max_methane_slip_dry is None
                                else f"{_display(lim.max_methane_slip_dry * 100)} mol%")
         v["min_yield"].value = "" if lim.min_h2_yield is None else _display(lim.min_h2_yield)
@@ -255,10 +269,9 @@ class ScenarioForm:
             f"steam_to_carbon = {{ from = {q('s_from')}, to = {q('s_to')}, "
             f"points = {q('s_points')} }}",
         ]
-        if sc.window.cofeed is not None:
-            a = sc.window.cofeed_axis
-            lines.append(f"{sc.window.cofeed} = {{ from = {a.start!r}, to = {a.stop!r}, "
-                         f"points = {a.points} }}")
+        if self.cofeed.value:
+            lines.append(f"{self.cofeed.value} = {{ from = {q('c_from')}, to = {q('c_to')}, "
+                         f"points = {q('c_points')} }}")
         lines.append("[limits]")
         if v["max_slip"].strip():
             lines.append(f"max_methane_slip_dry = {q('max_slip')}")
@@ -283,8 +296,11 @@ class ScenarioForm:
 
     def show_error(self, err: InputError) -> None:
         """Put the message beside the field it names (and above the button)."""
+        field = err.field
+        for axis in ("oxygen_to_carbon", "co2_to_carbon"):
+            field = field.replace(f"window.{axis}", "window.cofeed")
         for name, _, key in self.FIELDS:
-            if err.field == key or err.field.startswith(key + "."):
+            if field == key or field.startswith(key + "."):
                 self.messages[name].object = f"{err.allowed} (got {err.value!r})"
                 break
         self.general.object = (f"Not applied: {err}. The maps still show the last valid "
@@ -337,7 +353,9 @@ class ScenarioForm:
         window = pn.Column("#### Window",
                            pn.Row(cell("t_from"), cell("t_to"), cell("t_points")),
                            pn.Row(cell("p_from"), cell("p_to"), cell("p_points")),
-                           pn.Row(cell("s_from"), cell("s_to"), cell("s_points")))
+                           pn.Row(cell("s_from"), cell("s_to"), cell("s_points")),
+                           self.cofeed,
+                           pn.Row(cell("c_from"), cell("c_to"), cell("c_points")))
         limits = pn.Column("#### Review limits", pn.Row(cell("max_slip"), cell("min_yield"),
                                                          cell("max_duty")), self.carbon_free)
         self.inputs["composition"].width = 600

@@ -486,3 +486,30 @@ def test_second_build_of_the_same_scenario_hits_the_shared_cache():
     assert SHARED_CACHE.hits == hits + 1
     assert SHARED_CACHE.misses == misses
     assert page.explorer_state.dataset is not None
+
+
+# ------------------------------------------------------------------- fourth window axis
+def test_form_adds_edits_and_removes_a_cofeed_axis(app):
+    """The window's optional fourth axis (CO2 co-feed here) is edited like the others: added
+    (solved, with a slice chooser for it), refused out of range beside its own field, and
+    removed again."""
+    page, s = app
+    form = ScenarioForm(s)
+    maps = MapsView(s)
+    form.cofeed.value = "co2_to_carbon"
+    form.inputs["c_from"].value, form.inputs["c_to"].value = "0", "1"
+    form.inputs["c_points"].value = "3"
+    assert form.submit()
+    wait_until_solved(s)
+    assert dict(s.dataset.sizes)["co2_to_carbon"] == 3
+    assert s.scenario.window.cofeed == "co2_to_carbon"
+    names = [w.label for w in maps.sliders]
+    assert "CO2-to-carbon" in names
+    form.inputs["c_to"].value = "5"  # above the 0-3 range of the scenario schema
+    assert not form.submit()
+    assert "between 0 and 3" in form.messages["c_to"].object
+    assert s.scenario.window.cofeed_axis.stop == 1.0
+    form.cofeed.value = ""
+    assert form.submit()
+    wait_until_solved(s)
+    assert "co2_to_carbon" not in s.dataset.dims
