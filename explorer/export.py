@@ -330,7 +330,8 @@ def _points_source(ds: xr.Dataset):
     dims = list(ds["h2_yield"].dims)
     flows = ds["outlet_flow"].transpose(*dims, "species").values.reshape(-1, len(GAS_SPECIES))
     data = {f"n_{s}": np.ascontiguousarray(flows[:, j]) for j, s in enumerate(GAS_SPECIES)}
-    for k in ("carbon_deposit", "carbon_activity", "duty"):
+    for k in ("carbon_deposit", "carbon_activity", "duty", "approach_reforming",
+              "approach_shift"):
         data[k] = np.ascontiguousarray(ds[k].transpose(*dims).values.ravel().astype(float))
     data["converged"] = ds["converged"].transpose(*dims).values.ravel().astype(np.int8)
     return ColumnDataSource(data, name="points")

@@ -166,10 +166,10 @@ function assemble(p) {
     },
     reactions: {
       reforming: {equation: R.equations.reforming, K: R.K_reforming[idx.temperature], Q: qRef,
-                  approach_K: null, heat_298_J_per_mol: R.heat_298.reforming,
+                  approach_K: P.approach_reforming[p], heat_298_J_per_mol: R.heat_298.reforming,
                   heat_J_per_mol: R.heat_T.reforming[idx.temperature]},
       shift: {equation: R.equations.shift, K: R.K_shift[idx.temperature], Q: qShift,
-              approach_K: null, heat_298_J_per_mol: R.heat_298.shift,
+              approach_K: P.approach_shift[p], heat_298_J_per_mol: R.heat_298.shift,
               heat_J_per_mol: R.heat_T.shift[idx.temperature]},
     },
     element_closure: closure,
@@ -202,6 +202,6 @@ function balanceHtml(d) {
   parts.push("<p class='rw-small'>Element closure |out - in| / in: " +
              Object.entries(d.element_closure).map(([k, v]) =>
                `${k} ${v.toExponential(1).replace(/e([+-])(\d)$/, "e$10$2")}`).join(", ") +
-             ". Reaction approach temperatures are given by the live app.</p>");
+             "</p>");
   return parts.join("\n");
 }

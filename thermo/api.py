@@ -268,6 +268,5 @@ def point(
     if T - dT < 300.0:
         raise InputError("approach", f"{dT:g} K",
                          f"an approach that keeps T - approach at or above 300 K (T = {T:.2f} K)")
-    bal = reformer_balance(n_in[None, :], T, P, f.inlet_temperature, dT,
-                           reaction_approach=True)
+    bal = reformer_balance(n_in[None, :], T, P, f.inlet_temperature, dT)
     return PointResult(sc, float(T), float(P), float(dT), adiabatic, bal)

@@ -158,21 +158,28 @@ def enthalpy_flow(flows: np.ndarray, T) -> np.ndarray:
 
 
 def _reaction_approach(reaction, ln_q: np.ndarray, T: np.ndarray, sign: float) -> np.ndarray:
-    """Temperature difference between T and where ln K = ln Q, signed toward conversion."""
-    out = np.full(T.shape, np.nan)
-    for i in range(T.size):
-        if not np.isfinite(ln_q[i]):
-            continue
+    """Temperature difference between T and where ln K = ln Q, signed toward conversion [K].
 
-        def f(t, i=i):
-            return float(-delta_g_RT(reaction, t)) - ln_q[i]
-
-        lo, hi = 300.0, 3500.0
-        flo, fhi = f(lo), f(hi)
-        if flo * fhi > 0:
-            continue
-        out[i] = sign * (T[i] - brentq(f, lo, hi, xtol=1e-9))
-    return out
+    Newton's method in 1/T (ln K is nearly linear there, d ln K / d(1/T) = -dH/R, the van 't
+    Hoff equation), on all points at once; NaN where ln Q is not finite or K never equals Q
+    inside the data range (300-3500 K).
+    """
+    lo, hi = 300.0, 3500.0
+    ok = np.isfinite(ln_q)
+    q = np.where(ok, ln_q, 0.0)
+    f_lo = -delta_g_RT(reaction, np.full(T.shape, lo)) - q
+    f_hi = -delta_g_RT(reaction, np.full(T.shape, hi)) - q
+    ok &= f_lo * f_hi <= 0
+    Ts = np.where(ok, np.clip(T, lo, hi), 1000.0)
+    for _ in range(60):
+        f = -delta_g_RT(reaction, Ts) - q
+        slope = -delta_h(reaction, Ts) / R  # d ln K / d(1/T)
+        new = np.clip(1.0 / (1.0 / Ts - f / slope), lo, hi)
+        done = np.all(np.abs(new - Ts)[ok] <= 1e-9) if ok.any() else True
+        Ts = np.where(ok, new, Ts)
+        if done:
+            break
+    return np.where(ok, sign * (T - Ts), np.nan)
 
 
 def reformer_balance(
@@ -182,7 +189,6 @@ def reformer_balance(
     inlet_temperature,
     approach=0.0,
     *,
-    reaction_approach: bool = False,
     row: int = 1,
 ) -> Balance:
     """Equilibrium outlet and complete balance of N reformer points.
@@ -200,9 +206,6 @@ def reformer_balance(
         Temperature of the mixed feed [K].
     approach : array_like (N,)
         Approach to equilibrium of reforming [K] (>= 0): composition at T - approach.
-    reaction_approach : bool
-        Also compute each reaction's approach temperature (a root solve per point; the
-        single-point view wants it, grids do not).
     row : int
         Rows of neighbouring points for warm starts (see thermo.equilibrium.equilibrate).
 
@@ -254,12 +257,8 @@ def reformer_balance(
         ln_q_shift = lx[:, _I["CO2"]] + lx[:, _I["H2"]] - lx[:, _I["CO"]] - lx[:, _I["H2O"]]
     ln_q_ref = np.where(np.isnan(ln_q_ref), -np.inf, ln_q_ref)
     ln_q_shift = np.where(np.isnan(ln_q_shift), -np.inf, ln_q_shift)
-    if reaction_approach:
-        app_ref = _reaction_approach(REFORMING, ln_q_ref, T, +1.0)
-        app_shift = _reaction_approach(SHIFT, ln_q_shift, T, -1.0)
-    else:
-        app_ref = np.full(N, np.nan)
-        app_shift = np.full(N, np.nan)
+    app_ref = _reaction_approach(REFORMING, ln_q_ref, T, +1.0)
+    app_shift = _reaction_approach(SHIFT, ln_q_shift, T, -1.0)
     return Balance(
         temperature=T,
         pressure=P,

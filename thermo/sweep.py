@@ -57,6 +57,8 @@ _VARIABLES: dict[str, tuple[str, str]] = {
     "extent_shift": ("mol s-1", "CO2 formed (shift extent)"),
     "Q_reforming": ("1", "reaction quotient of CH4 + H2O = CO + 3 H2, 1 bar basis"),
     "K_reforming": ("1", "equilibrium constant of CH4 + H2O = CO + 3 H2 at T, 1 bar basis"),
+    "approach_reforming": ("K", "T minus the temperature where K of reforming equals its Q"),
+    "approach_shift": ("K", "temperature where K of shift equals its Q, minus T"),
     "converged": ("1", "equilibrium solver converged"),
     "iterations": ("1", "equilibrium solver iterations"),
 }
@@ -64,8 +66,8 @@ _VARIABLES: dict[str, tuple[str, str]] = {
 #: Scalar (per point) variables taken from a Balance.
 _SCALARS = ("carbon_deposit", "carbon_activity", "h2_yield", "h2_potential",
             "methane_slip_dry", "methane_conversion", "h2_co_ratio", "duty",
-            "extent_reforming", "extent_shift", "Q_reforming", "K_reforming", "converged",
-            "iterations")
+            "extent_reforming", "extent_shift", "Q_reforming", "K_reforming",
+            "approach_reforming", "approach_shift", "converged", "iterations")
 _PER_SPECIES = ("mole_fraction", "mole_fraction_dry", "outlet_flow")
 
 
