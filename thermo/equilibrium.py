@@ -439,8 +439,14 @@ def _initial_guess(A, c, b, free, active, cand, cand_size, lam, m, z, trial, M, 
 
 @numba.njit(cache=True)
 def _solve_point(A, c, b_in, mu_gr, allow_carbon, lam0, use_lam0, cand, cand_size, tol,
-                 max_iter, n_out, lam_out, work, H, M, free, active):
-    """Equilibrium at one point. Returns (converged, iterations, carbon, ln_carbon_activity)."""
+                 max_iter, n_out, lam_out, work, H, M, free, active, carbon_first=False):
+    """Equilibrium at one point. Returns (converged, iterations, carbon, ln_carbon_activity).
+
+    With `carbon_first` (a warm start from a neighbour that deposits graphite) the
+    gas + graphite problem is tried first: a converged answer with a positive deposit is the
+    equilibrium (the problem is convex, so its stationary point is the minimum) and the
+    gas-only solve is skipped; otherwise the usual order follows.
+    """
     S, E = A.shape
     iC = 0
     x = work[0, :S]
@@ -475,6 +481,30 @@ def _solve_point(A, c, b_in, mu_gr, allow_carbon, lam0, use_lam0, cand, cand_siz
                 if not (lam0[e] == lam0[e]):  # a NaN: the start lacks this element
                     warm = False
                 lam[e] = lam0[e]
+    iC0 = 0
+    if warm and carbon_first and allow_carbon and free[iC0]:
+        for e in range(E):
+            saved[e] = lam[e]
+        free[iC0] = False
+        lam[iC0] = mu_gr
+        conv0, it0, N0, t0 = _maximize(A, c, b, free, active, lam, m, x, z, g, H, delta, abar,
+                                       trial, scale, tol, max_iter)
+        free[iC0] = True
+        held = 0.0
+        for j in range(S):
+            held += A[j, iC0] * x[j]
+        deposit = b[iC0] - N0 * held
+        if conv0 and deposit > 0.0:
+            for e in range(E):
+                if e != iC0 and free[e]:
+                    lam[e] += t0
+            for j in range(S):
+                n_out[j] = N0 * x[j] * total
+            for e in range(E):
+                lam_out[e] = lam[e] if (free[e] or e == iC0) else np.nan
+            return True, it0, deposit * total, 0.0
+        for e in range(E):
+            lam[e] = saved[e]
     if not warm:
         _initial_guess(A, c, b, free, active, cand, cand_size, lam, m, z, trial, M, r)
     conv, iters, N, t = _maximize(A, c, b, free, active, lam, m, x, z, g, H, delta, abar,
@@ -571,7 +601,7 @@ def _solve_batch(A, C, B, MU, allow_carbon, LAM0, use_lam0, row, cand, cand_size
                     conv, it, carbon, lnac = _solve_point(
                         A, C[p], B[p], MU[p], allow_carbon, lam_out[p - 1], True, cand,
                         cand_size, tol, max_iter, n_out[p], lam_out[p], work, H, M, free,
-                        active)
+                        active, carbon_out[p - 1] > 0.0)
                 else:
                     conv, it, carbon, lnac = _solve_point(
                         A, C[p], B[p], MU[p], allow_carbon, LAM0[p], use_lam0, cand,
