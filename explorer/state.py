@@ -37,7 +37,8 @@ def check_window_size(sc: Scenario) -> Scenario:
 
 #: One cache per server process: sessions share solved windows by scenario content, so the
 #: demo is solved once however many people open it (a content key cannot mix scenarios).
-SHARED_CACHE = SweepCache(maxsize=16)
+#: Eight windows of at most APP_MAX_POINTS (about 0.1 GB each) bound it near 1 GB.
+SHARED_CACHE = SweepCache(maxsize=8)
 
 
 class ExplorerState(param.Parameterized):
