@@ -99,6 +99,18 @@ def _shift(z, m, active, t):
 
 
 @numba.njit(cache=True)
+def _free_atoms(A, free, m):
+    """m_j: atoms of the free elements in each species (the shift direction's weights)."""
+    S, E = A.shape
+    for j in range(S):
+        acc = 0.0
+        for e in range(E):
+            if free[e]:
+                acc += A[j, e]
+        m[j] = acc
+
+
+@numba.njit(cache=True)
 def _evaluate(A, c, b, free, active, lam, t0, x, z, m):
     """Mole fractions, total moles and dual value at element potentials `lam`.
 
@@ -262,12 +274,7 @@ def _maximize(A, c, b, free, active, lam, m, x, z, g, H, delta, abar, trial, sca
     elements.
     """
     S, E = A.shape
-    for j in range(S):
-        acc = 0.0
-        for e in range(E):
-            if free[e]:
-                acc += A[j, e]
-        m[j] = acc
+    _free_atoms(A, free, m)
     t, N, D = _evaluate(A, c, b, free, active, lam, 0.0, x, z, m)
     for it in range(max_iter + 1):
         err, sq = _residual(A, b, free, x, N, g)
@@ -360,12 +367,7 @@ def _initial_guess(A, c, b, free, active, cand, cand_size, lam, m, z, trial, M, 
     for e in range(E):
         if free[e]:
             k += 1
-    for j in range(S):
-        acc = 0.0
-        for e in range(E):
-            if free[e]:
-                acc += A[j, e]
-        m[j] = acc
+    _free_atoms(A, free, m)
     best = -np.inf
     found = False
     lnfloor = math.log(BASIS_FLOOR)

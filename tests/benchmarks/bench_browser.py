@@ -44,6 +44,7 @@ import subprocess  # noqa: E402
 import time  # noqa: E402
 
 import thermo  # noqa: E402
+from tests.benchmarks.common import code_version  # noqa: E402
 from tests.conftest import CHROMIUM_ARGS, chromium_binary  # noqa: E402
 from tests.explorer.helpers import FIND_PIXEL  # noqa: E402
 from thermo.equilibrium import kernel_is_cached  # noqa: E402
@@ -83,21 +84,6 @@ WATCH_MAP = """() => {
 
 KEY_LISTENER = """() => document.addEventListener('keydown',
   () => { window.__key = performance.now(); }, true)"""
-
-
-def code_version() -> str:
-    """The commit measured, and whether thermo/ or explorer/ differ from it (read-only git)."""
-    import subprocess
-
-    try:
-        head = subprocess.run(["git", "rev-parse", "--short", "HEAD"], cwd=ROOT,
-                              capture_output=True, text=True, timeout=10).stdout.strip()
-        dirty = subprocess.run(["git", "status", "--porcelain", "--", "thermo", "explorer"],
-                               cwd=ROOT, capture_output=True, text=True,
-                               timeout=10).stdout.strip()
-    except (OSError, subprocess.SubprocessError):
-        return "unknown (no git)"
-    return f"commit {head}" + (" + uncommitted changes in thermo/ or explorer/" if dirty else "")
 
 
 def free_port() -> int:

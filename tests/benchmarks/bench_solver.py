@@ -51,6 +51,7 @@ from dataclasses import dataclass  # noqa: E402
 import numba  # noqa: E402
 import numpy as np  # noqa: E402
 
+from tests.benchmarks.common import code_version  # noqa: E402
 from tests.thermo import cantera_ref  # noqa: E402
 from thermo.equilibrium import equilibrate, kernel_is_cached  # noqa: E402
 from thermo.species import GAS_SPECIES, formula_matrix  # noqa: E402
@@ -73,21 +74,6 @@ RETRIES = (
     ("vcs", dict(rtol=1e-12, max_steps=10000)),
     ("gibbs", dict(rtol=1e-12, max_steps=10000, max_iter=400)),
 )
-
-
-def code_version() -> str:
-    """The commit measured, and whether thermo/ or explorer/ differ from it (read-only git)."""
-    import subprocess
-
-    try:
-        head = subprocess.run(["git", "rev-parse", "--short", "HEAD"], cwd=ROOT,
-                              capture_output=True, text=True, timeout=10).stdout.strip()
-        dirty = subprocess.run(["git", "status", "--porcelain", "--", "thermo", "explorer"],
-                               cwd=ROOT, capture_output=True, text=True,
-                               timeout=10).stdout.strip()
-    except (OSError, subprocess.SubprocessError):
-        return "unknown (no git)"
-    return f"commit {head}" + (" + uncommitted changes in thermo/ or explorer/" if dirty else "")
 
 
 @dataclass
