@@ -344,6 +344,12 @@ class ScenarioForm:
         def cell(name):
             return pn.Column(self.inputs[name], self.messages[name], margin=0)
 
+        # The co-feed axis fields show only when an axis is chosen.
+        self._cofeed_row = pn.Row(cell("c_from"), cell("c_to"), cell("c_points"),
+                                  visible=bool(self.cofeed.value))
+        self.cofeed.param.watch(
+            lambda e: setattr(self._cofeed_row, "visible", bool(e.new)), "value")
+
         feed = pn.Column("#### Feed", cell("composition"),
                          pn.Row(cell("flow"), cell("inlet_temperature")),
                          pn.Row(cell("steam_to_carbon"), cell("oxygen_to_carbon"),
@@ -355,7 +361,7 @@ class ScenarioForm:
                            pn.Row(cell("p_from"), cell("p_to"), cell("p_points")),
                            pn.Row(cell("s_from"), cell("s_to"), cell("s_points")),
                            self.cofeed,
-                           pn.Row(cell("c_from"), cell("c_to"), cell("c_points")))
+                           self._cofeed_row)
         limits = pn.Column("#### Review limits", pn.Row(cell("max_slip"), cell("min_yield"),
                                                          cell("max_duty")), self.carbon_free)
         self.inputs["composition"].width = 600
