@@ -111,6 +111,8 @@ def test_slider_changes_the_slice_and_the_click_follows_it(page, review):
 
 
 def test_review_sheet_carries_inputs_notes_limits_and_cautions(review):
+    # Values are the demo scenario's own (scenarios/demo.toml, invented data): flow 1100 kmol/h,
+    # feed at 540 degC, maximum slip 4.5 mol %; the caution wording is explorer.CAUTION.
     sc, path = review
     text = path.read_text("utf-8")
     for needle in ("Review sheet", "Dry feed composition", "1,100.00 kmol/h", "540.0 degC",
