@@ -157,6 +157,27 @@ def enthalpy_flow(flows: np.ndarray, T) -> np.ndarray:
     return np.einsum("ns,sn->n", flows, np.atleast_2d(h.reshape(len(GAS_SPECIES), -1)))
 
 
+def outlet_enthalpy(gas_flow: np.ndarray, carbon, T, P) -> np.ndarray:
+    """Enthalpy flow of gas plus graphite at T and P, formation enthalpies included [W].
+
+    Graphite's enthalpy at P includes v (P - P°) for the incompressible solid, consistent
+    with the pressure term of its chemical potential (thermo.species.graphite_mu_RT).
+
+    Parameters
+    ----------
+    gas_flow : ndarray (N, S)
+        Gas molar flows [mol s-1].
+    carbon : array_like (N,)
+        Graphite [mol s-1].
+    T, P : array_like (N,)
+        Temperature [K] and absolute pressure [Pa].
+    """
+    T = np.asarray(T, dtype=float)
+    gr = record(GRAPHITE)
+    h_gr = h_RT(T, GRAPHITE) * R * T + gr.molar_volume * (np.asarray(P) - gr.standard_pressure)
+    return enthalpy_flow(gas_flow, T) + np.asarray(carbon) * h_gr
+
+
 def _reaction_approach(reaction, ln_q: np.ndarray, T: np.ndarray, sign: float) -> np.ndarray:
     """Temperature difference between T and where ln K = ln Q, signed toward conversion [K].
 
@@ -190,6 +211,7 @@ def reformer_balance(
     approach=0.0,
     *,
     row: int = 1,
+    hydrocarbon_carbon=None,
 ) -> Balance:
     """Equilibrium outlet and complete balance of N reformer points.
 
@@ -208,6 +230,10 @@ def reformer_balance(
         Approach to equilibrium of reforming [K] (>= 0): composition at T - approach.
     row : int
         Rows of neighbouring points for warm starts (see thermo.equilibrium.equilibrate).
+    hydrocarbon_carbon : array_like (N,), optional
+        Carbon in the hydrocarbons of the fresh feed [mol s-1], the basis of the yields and
+        the conversion; taken from `inlet_flow` when omitted (give it when the inlet is a
+        pre-reformed gas).
 
     Returns
     -------
@@ -229,14 +255,11 @@ def reformer_balance(
     dry[:, _I["H2O"]] = 0.0
     x_dry = dry / dry.sum(axis=1, keepdims=True)
     mw = np.asarray(molar_masses())
-    hc_c = n_in @ _HC_CARBON
+    hc_c = n_in @ _HC_CARBON if hydrocarbon_carbon is None else \
+        np.broadcast_to(np.asarray(hydrocarbon_carbon, dtype=float), (N,)).copy()
     hc_c_out = n_out @ _HC_CARBON
     h_in = enthalpy_flow(n_in, T_in)
-    # Graphite's enthalpy at P includes v (P - P°) for the incompressible solid, consistent
-    # with the pressure term of its chemical potential (graphite_mu_RT).
-    gr = record(GRAPHITE)
-    h_gr = h_RT(T, GRAPHITE) * R * T + gr.molar_volume * (P - gr.standard_pressure)
-    h_out = enthalpy_flow(n_out, T) + eq.carbon * h_gr
+    h_out = outlet_enthalpy(n_out, eq.carbon, T, P)
     b_out = n_out @ A
     b_out[:, ELEMENTS.index("C")] += eq.carbon
     closure = {}

@@ -30,6 +30,19 @@ File layout (all keys; ``#`` marks optional ones)::
     carbon_free = true                         # default true
     min_h2_yield = 2.4                         # mol H2 per mol hydrocarbon carbon
     max_duty = "75 MW"
+    [train.pre_reformer]                       # optional stages around the primary reformer
+    inlet_temperature = "490 degC"             # adiabatic; then reheated to the feed inlet T
+    [train.secondary_reformer]                 # adiabatic, oxygen- or air-blown
+    oxidant = "air"                            # "air" or "oxygen"
+    oxygen_to_carbon = 0.25                    # mol O2 per mol hydrocarbon carbon fed
+    oxidant_temperature = "550 degC"
+    approach = "0 K"                           # optional, default 0 K
+    [train.high_temperature_shift]             # shift only: CH4 and carbon frozen
+    temperature = "370 degC"
+    approach = "10 K"                          # optional; equilibrium at T + approach
+    [train.low_temperature_shift]
+    temperature = "210 degC"
+    approach = "10 K"
 
 Every error is a :class:`thermo.errors.InputError` naming the key path (``"window.pressure.from"``,
 ``"feed.composition.CH4"``), the value and what is allowed.
@@ -75,6 +88,12 @@ __all__ = [
     "Feed",
     "Window",
     "Limits",
+    "PreReformer",
+    "SecondaryReformer",
+    "ShiftStage",
+    "Train",
+    "OXIDANTS",
+    "SHIFT_TEMPERATURE_RANGE_K",
     "Scenario",
     "parse_scenario",
     "load_scenario",
@@ -84,6 +103,7 @@ __all__ = [
     "check_inlet_temperature",
     "check_approach",
     "check_ratio",
+    "check_shift_temperature",
     "validate_point_overrides",
 ]
 
@@ -95,6 +115,18 @@ HYDROCARBONS: dict[str, int] = {"CH4": 1, "C2H6": 2, "C3H8": 3}
 
 #: Co-feed ratios that may form the fourth window axis.
 COFEEDS: tuple[str, ...] = ("oxygen_to_carbon", "co2_to_carbon")
+
+#: Oxidants of the secondary reformer: mole fractions of O2, N2 and Ar. Dry air: O2 20.946,
+#: N2 78.084, Ar 0.934 mol % (U.S. Standard Atmosphere 1976, NOAA/NASA/USAF, table 3; trace
+#: gases folded into N2 so the fractions sum to 1; recalled from memory).
+OXIDANTS: dict[str, dict[str, float]] = {
+    "oxygen": {"O2": 1.0},
+    "air": {"O2": 0.20946, "N2": 0.78120, "Ar": 0.00934},
+}
+
+#: Shift stage temperatures accepted [K] (150-550 degC; iron-chromium high-temperature and
+#: copper-zinc low-temperature catalysts work inside it, common practice, no source).
+SHIFT_TEMPERATURE_RANGE_K = (423.15, 823.15)
 
 #: The demo scenario, loaded when no file is named.
 DEMO_PATH: Path = Path(__file__).resolve().parent.parent / "scenarios" / "demo.toml"
@@ -463,6 +495,113 @@ class Limits:
 
 
 @dataclass(frozen=True)
+class PreReformer:
+    """Adiabatic pre-reformer ahead of the primary reformer, at the window's pressure.
+
+    Attributes
+    ----------
+    inlet_temperature : float
+        Temperature of the mixed feed entering it [K]. Its outlet is equilibrated (graphite
+        allowed) at the adiabatic temperature, then reheated to ``feed.inlet_temperature``.
+    """
+
+    inlet_temperature: float
+
+
+@dataclass(frozen=True)
+class SecondaryReformer:
+    """Adiabatic oxygen- or air-blown secondary reformer after the primary.
+
+    Attributes
+    ----------
+    oxidant : {"oxygen", "air"}
+        What is blown in (:data:`OXIDANTS`).
+    oxygen_to_carbon : float
+        O2 in the oxidant per hydrocarbon carbon of the fresh feed [mol mol-1].
+    oxidant_temperature : float
+        Oxidant temperature [K].
+    approach : float
+        Approach to equilibrium [K]: the composition is the equilibrium at the adiabatic
+        outlet temperature minus this.
+    """
+
+    oxidant: str
+    oxygen_to_carbon: float
+    oxidant_temperature: float
+    approach: float = 0.0
+
+    def oxidant_flows(self, hydrocarbon_carbon) -> np.ndarray:
+        """Oxidant flow by gas species, shape (S,) + shape of `hydrocarbon_carbon` [mol s-1].
+
+        Parameters
+        ----------
+        hydrocarbon_carbon : float or array_like
+            Carbon in the hydrocarbons of the fresh feed [mol s-1].
+        """
+        c = np.asarray(hydrocarbon_carbon, dtype=float)
+        o2 = self.oxygen_to_carbon * c
+        out = np.zeros((len(GAS_SPECIES),) + c.shape)
+        for name, x in OXIDANTS[self.oxidant].items():
+            out[GAS_SPECIES.index(name)] = o2 * x / OXIDANTS[self.oxidant]["O2"]
+        return out
+
+
+@dataclass(frozen=True)
+class ShiftStage:
+    """Water-gas shift stage held at its temperature; only CO + H2O = CO2 + H2 moves.
+
+    Attributes
+    ----------
+    temperature : float
+        Stage temperature [K]; the gas is cooled to it first.
+    approach : float
+        Approach to equilibrium [K]: the shift equilibrium is taken at T + approach (less
+        conversion, as shift is exothermic).
+    """
+
+    temperature: float
+    approach: float = 0.0
+
+
+@dataclass(frozen=True)
+class Train:
+    """Optional stages around the primary reformer; every stage is None when absent.
+
+    Order of the gas: pre-reformer, primary reformer (the window's T and P), secondary
+    reformer, high-temperature shift, low-temperature shift; all at the window's pressure.
+    """
+
+    pre_reformer: PreReformer | None = None
+    secondary_reformer: SecondaryReformer | None = None
+    high_temperature_shift: ShiftStage | None = None
+    low_temperature_shift: ShiftStage | None = None
+
+    def stages(self) -> list[str]:
+        """Names of the stages present, in flow order, the primary reformer included."""
+        out = ["pre_reformer"] if self.pre_reformer else []
+        out.append("primary_reformer")
+        for name in ("secondary_reformer", "high_temperature_shift", "low_temperature_shift"):
+            if getattr(self, name) is not None:
+                out.append(name)
+        return out
+
+    @property
+    def empty(self) -> bool:
+        """True when the train is the primary reformer alone."""
+        return self.stages() == ["primary_reformer"]
+
+
+#: Display names of the train's stages.
+STAGE_NAMES = {
+    "pre_reformer": "Pre-reformer (adiabatic)",
+    "primary_reformer": "Primary reformer",
+    "secondary_reformer": "Secondary reformer (adiabatic)",
+    "high_temperature_shift": "High-temperature shift",
+    "low_temperature_shift": "Low-temperature shift",
+}
+
+
+@dataclass(frozen=True)
 class Scenario:
     """A whole study: feed, design point, window, limits and notes.
 
@@ -482,6 +621,8 @@ class Scenario:
         The operating window.
     limits : Limits
         Review limits.
+    train : Train
+        Stages around the primary reformer (none by default).
     text : str
         TOML source it was read from, or generated by :meth:`to_toml` after a change; not
         compared.
@@ -498,6 +639,7 @@ class Scenario:
     window: Window
     limits: Limits
     notes: str = ""
+    train: Train = Train()
     text: str = field(default="", compare=False, repr=False)
     path: str | None = field(default=None, compare=False)
 
@@ -635,13 +777,17 @@ class Scenario:
             lines.append(
                 f'max_duty = "{lim.max_duty!r} W"  # {units.MW_from_W(lim.max_duty):.6g} MW'
             )
+        lines += _train_toml(self.train)
         return "\n".join(lines) + "\n"
 
 
 # ------------------------------------------------------------------------------------ parsing
 
 
-_TOP_KEYS = ("title", "description", "notes", "feed", "design_point", "window", "limits")
+_TOP_KEYS = ("title", "description", "notes", "feed", "design_point", "window", "limits",
+             "train")
+_TRAIN_KEYS = ("pre_reformer", "secondary_reformer", "high_temperature_shift",
+               "low_temperature_shift")
 _FEED_KEYS = (
     "composition",
     "flow",
@@ -935,6 +1081,89 @@ def _limits(data: Mapping) -> Limits:
     )
 
 
+def _stage_temperature(data: Mapping, key: str, path: str, check) -> float:
+    raw = data[key]
+    return check(units.temperature_K(raw, f"{path}.{key}"), f"{path}.{key}", raw)
+
+
+def _stage_approach(data: Mapping, path: str) -> float:
+    if "approach" not in data:
+        return 0.0
+    raw = data["approach"]
+    return check_approach(units.temperature_difference_K(raw, f"{path}.approach"),
+                          f"{path}.approach", raw)
+
+
+def check_shift_temperature(value_K: float, field: str, raw: object = None) -> float:
+    """A shift stage temperature inside :data:`SHIFT_TEMPERATURE_RANGE_K` [K]."""
+    return _check_range(value_K, field, SHIFT_TEMPERATURE_RANGE_K, _temperature_words, raw)
+
+
+def _train(data: Mapping) -> Train:
+    _check_keys(data, "train", _TRAIN_KEYS)
+    stages: dict[str, object] = {}
+    if "pre_reformer" in data:
+        path = "train.pre_reformer"
+        t = _table(data, "pre_reformer", "train")
+        _check_keys(t, path, ("inlet_temperature",), ("inlet_temperature",))
+        stages["pre_reformer"] = PreReformer(
+            _stage_temperature(t, "inlet_temperature", path, check_inlet_temperature))
+    if "secondary_reformer" in data:
+        path = "train.secondary_reformer"
+        t = _table(data, "secondary_reformer", "train")
+        keys = ("oxidant", "oxygen_to_carbon", "oxidant_temperature", "approach")
+        _check_keys(t, path, keys, keys[:3])
+        oxidant = t["oxidant"]
+        if oxidant not in OXIDANTS:
+            raise InputError(f"{path}.oxidant", oxidant,
+                             " or ".join(f'"{k}"' for k in OXIDANTS))
+        ratio = _ratio(t["oxygen_to_carbon"], "oxygen_to_carbon", f"{path}.oxygen_to_carbon")
+        stages["secondary_reformer"] = SecondaryReformer(
+            oxidant=oxidant,
+            oxygen_to_carbon=ratio,
+            oxidant_temperature=_stage_temperature(t, "oxidant_temperature", path,
+                                                   check_inlet_temperature),
+            approach=_stage_approach(t, path),
+        )
+    for name in ("high_temperature_shift", "low_temperature_shift"):
+        if name in data:
+            path = f"train.{name}"
+            t = _table(data, name, "train")
+            _check_keys(t, path, ("temperature", "approach"), ("temperature",))
+            stages[name] = ShiftStage(
+                temperature=_stage_temperature(t, "temperature", path,
+                                               check_shift_temperature),
+                approach=_stage_approach(t, path),
+            )
+    return Train(**stages)
+
+
+def _train_toml(train: Train) -> list[str]:
+    """TOML lines of the train's stages (none for an empty train)."""
+    lines: list[str] = []
+    pre = train.pre_reformer
+    if pre is not None:
+        lines += ["", "[train.pre_reformer]",
+                  f'inlet_temperature = "{pre.inlet_temperature!r} K"'
+                  f"  # {units.degC_from_K(pre.inlet_temperature):.6g} degC"]
+    sec = train.secondary_reformer
+    if sec is not None:
+        lines += ["", "[train.secondary_reformer]",
+                  f'oxidant = "{sec.oxidant}"',
+                  f"oxygen_to_carbon = {sec.oxygen_to_carbon!r}",
+                  f'oxidant_temperature = "{sec.oxidant_temperature!r} K"'
+                  f"  # {units.degC_from_K(sec.oxidant_temperature):.6g} degC",
+                  f'approach = "{sec.approach!r} K"']
+    for name in ("high_temperature_shift", "low_temperature_shift"):
+        st = getattr(train, name)
+        if st is not None:
+            lines += ["", f"[train.{name}]",
+                      f'temperature = "{st.temperature!r} K"'
+                      f"  # {units.degC_from_K(st.temperature):.6g} degC",
+                      f'approach = "{st.approach!r} K"']
+    return lines
+
+
 def _from_dict(data: Mapping, text: str, path: str | None) -> Scenario:
     _check_keys(data, "", _TOP_KEYS, ("title", "feed", "design_point", "window"))
     title = _string(data["title"], "title")
@@ -963,6 +1192,9 @@ def _from_dict(data: Mapping, text: str, path: str | None) -> Scenario:
     window = _window(_table(data, "window", ""))
     _check_approach_fits(approach, temperature, window)
     limits = _limits(_table(data, "limits", "", required=False))
+    train = _train(_table(data, "train", "", required=False))
+    if train.pre_reformer is not None:
+        _check_approach_fits(0.0, train.pre_reformer.inlet_temperature, window)
     return Scenario(
         title=title,
         description=description,
@@ -973,6 +1205,7 @@ def _from_dict(data: Mapping, text: str, path: str | None) -> Scenario:
         window=window,
         limits=limits,
         notes=notes,
+        train=train,
         text=text,
         path=path,
     )

@@ -1,0 +1,294 @@
+"""The reforming train: shift stages, adiabatic stages, train totals and the scenario keys.
+
+References: the shift stage against the extent-of-reaction solution of the shift reaction
+alone (thermo.extent, itself checked against NIST-JANAF K values in test_extent.py); the
+adiabatic stages against energy-balance closure and against Cantera's HP equilibrium
+(https://cantera.org, a general-purpose reference library, tests only) on the same
+GRI-Mech 3.0 species data.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+
+import numpy as np
+import pytest
+
+import thermo
+from tests.thermo import cantera_ref
+from thermo.balances import enthalpy_flow, reformer_balance
+from thermo.errors import InputError
+from thermo.extent import SHIFT, equilibrium_constant, solve_extent
+from thermo.scenario import (
+    OXIDANTS,
+    PreReformer,
+    SecondaryReformer,
+    ShiftStage,
+    Train,
+    parse_scenario,
+)
+from thermo.species import GAS_SPECIES, formula_matrix
+from thermo.train import shift_equilibrium, train_balance
+
+IX = {s: i for i, s in enumerate(GAS_SPECIES)}
+
+FULL_TRAIN = """
+[train.pre_reformer]
+inlet_temperature = "490 degC"
+[train.secondary_reformer]
+oxidant = "air"
+oxygen_to_carbon = 0.25
+oxidant_temperature = "550 degC"
+approach = "5 K"
+[train.high_temperature_shift]
+temperature = "360 degC"
+approach = "12 K"
+[train.low_temperature_shift]
+temperature = "210 degC"
+approach = "8 K"
+"""
+
+
+def gas(**moles) -> np.ndarray:
+    n = np.zeros(len(GAS_SPECIES))
+    for k, v in moles.items():
+        n[IX[k]] = v
+    return n
+
+
+@pytest.fixture(scope="module")
+def full():
+    return parse_scenario(thermo.load_scenario().text + FULL_TRAIN)
+
+
+def _grid_points(sc, k=40, seed=3):
+    """k points spread over the scenario's window (T, P, S/C), fresh feed flows."""
+    rng = np.random.default_rng(seed)
+    w = sc.window
+    T = rng.uniform(w.temperature.start, w.temperature.stop, k)
+    P = rng.uniform(w.pressure.start, w.pressure.stop, k)
+    S = rng.uniform(2.0, 5.0, k)
+    return sc.feed.inlet_flows(steam_to_carbon=S).T, T, P
+
+
+# ------------------------------------------------------------------------------ shift stage
+
+SHIFT_CASES = [
+    # (gas, T [K]): a reformer outlet, a CO-rich gas, a gas without H2 or CO2, one with
+    # little steam (the extent is bounded by H2O), and a CO2-rich gas that shifts backwards.
+    (gas(CH4=0.16, H2O=2.09, H2=3.21, CO=0.63, CO2=0.36, N2=0.01), 643.15),
+    (gas(H2O=1.0, CO=1.0, H2=0.2, CO2=0.1), 500.0),
+    (gas(H2O=2.0, CO=1.0), 700.0),
+    (gas(H2O=0.05, CO=1.0, H2=1.0, CO2=0.3), 483.15),
+    (gas(H2O=0.2, CO=0.01, H2=0.3, CO2=3.0), 800.0),
+]
+
+
+@pytest.mark.parametrize("n, T", SHIFT_CASES)
+def test_shift_stage_equals_extent_solution_of_shift_alone(n, T):
+    out = shift_equilibrium(n[None, :], T)[0]
+    moles = {s: n[IX[s]] for s in ("CO", "H2O", "CO2", "H2") if n[IX[s]] > 0}
+    sol = solve_extent(SHIFT, moles, T, 30e5)
+    xi = sol.extents[0]
+    # The extent solution of the one reaction (thermo.extent), to round-off.
+    assert out[IX["CO2"]] - n[IX["CO2"]] == pytest.approx(xi, rel=1e-9, abs=1e-13)
+    for s in ("CO", "H2O", "CO2", "H2"):
+        assert out[IX[s]] == pytest.approx(sol.moles.get(s, 0.0), rel=1e-9, abs=1e-13)
+    # Everything else frozen, exactly.
+    for s in ("CH4", "C2H6", "C3H8", "O2", "N2", "Ar"):
+        assert out[IX[s]] == n[IX[s]]
+
+
+def test_shift_quotient_equals_K_at_stage_temperature_plus_approach(full):
+    feed, T, P = _grid_points(full, 12)
+    r = train_balance(full.train, feed, T, P, full.feed.inlet_temperature, full.approach)
+    for name in ("high_temperature_shift", "low_temperature_shift"):
+        st = r.stage(name)
+        x = st.outlet_flow
+        Q = x[:, IX["CO2"]] * x[:, IX["H2"]] / (x[:, IX["CO"]] * x[:, IX["H2O"]])
+        stage = getattr(full.train, name)
+        K = equilibrium_constant(SHIFT, stage.temperature + stage.approach)
+        np.testing.assert_allclose(Q, K, rtol=1e-9)
+        # The approach gives less conversion than equilibrium at the stage temperature.
+        assert float(K) < float(equilibrium_constant(SHIFT, stage.temperature))
+        # Methane and the higher hydrocarbons pass through unchanged.
+        np.testing.assert_array_equal(x[:, IX["CH4"]], st.inlet_flow[:, IX["CH4"]])
+
+
+# --------------------------------------------------------------------------- adiabatic stages
+
+@pytest.mark.parametrize("oxidant, ratio", [("air", 0.25), ("oxygen", 0.45), ("air", 0.0)])
+def test_adiabatic_stages_close_their_energy_balance(full, oxidant, ratio):
+    sec = SecondaryReformer(oxidant, ratio, 823.15, 0.0)
+    train = dataclasses.replace(full.train, secondary_reformer=sec)
+    feed, T, P = _grid_points(full, 30, seed=int(ratio * 100))
+    r = train_balance(train, feed, T, P, full.feed.inlet_temperature, full.approach)
+    for name in ("pre_reformer", "secondary_reformer"):
+        st = r.stage(name)
+        assert st.converged.all(), name
+        # Issue requirement: duty zero to 1e-6 of the stage's inlet enthalpy flow magnitude.
+        assert np.all(np.abs(st.duty) <= 1e-6 * np.abs(st.inlet_enthalpy)), name
+        # And recomputed independently from the outlet at the outlet temperature.
+        h_out = enthalpy_flow(st.outlet_flow, st.temperature)
+        assert np.all(np.abs(h_out - st.inlet_enthalpy) <= 1e-6 * np.abs(st.inlet_enthalpy))
+    sec_st = r.stage("secondary_reformer")
+    if ratio > 0:
+        # Burning part of the gas heats it above the primary outlet.
+        assert np.all(sec_st.temperature > T)
+
+
+def _cantera_hp(moles: np.ndarray, H: float, P: float):
+    """Cantera's gas-phase HP equilibrium of `moles` [mol] with enthalpy H [J]."""
+    g = cantera_ref.gas()
+    total = moles.sum()
+    g.TPX = 1200.0, P, moles / total
+    g.HP = H / total * 1000.0 / g.mean_molecular_weight, P  # J/mol -> J/kg of mixture
+    g.equilibrate("HP", solver="vcs", rtol=1e-12, max_steps=10000)
+    return g.T, g.X
+
+
+@pytest.mark.parametrize("oxidant, ratio, T_primary, sc_ratio",
+                         [("air", 0.22, 1073.15, 3.0), ("oxygen", 0.55, 1173.15, 1.8),
+                          ("oxygen", 0.0, 1123.15, 2.5)])
+def test_secondary_reformer_matches_cantera_hp_equilibrium(full, oxidant, ratio, T_primary,
+                                                           sc_ratio):
+    sec = SecondaryReformer(oxidant, ratio, 773.15, 0.0)
+    train = Train(secondary_reformer=sec)
+    feed = full.feed.inlet_flows(steam_to_carbon=sc_ratio)[None, :]
+    P = 30e5
+    r = train_balance(train, feed, T_primary, P, 813.15, 0.0)
+    st = r.stage("secondary_reformer")
+    gas_in, ox = st.inlet_flow[0] - st.added_flow[0], st.added_flow[0]
+    # Inlet enthalpy from Cantera: the primary's gas at its outlet T plus the oxidant at
+    # its own temperature.
+    H = (cantera_ref.enthalpy_flow(gas_in, T_primary, P)
+         + (cantera_ref.enthalpy_flow(ox, 773.15, P) if ox.sum() > 0 else 0.0))
+    assert H == pytest.approx(st.inlet_enthalpy[0], rel=1e-10)
+    T_ct, X_ct = _cantera_hp(st.inlet_flow[0], H, P)
+    assert st.carbon_deposit[0] == 0.0
+    assert st.temperature[0] == pytest.approx(T_ct, abs=1e-4)
+    x = st.outlet_flow[0] / st.outlet_flow[0].sum()
+    np.testing.assert_allclose(x, X_ct, atol=1e-8)
+
+
+@pytest.mark.parametrize("T_in, sc_ratio", [(763.15, 3.0), (723.15, 2.0), (823.15, 4.5)])
+def test_pre_reformer_matches_cantera_hp_equilibrium(full, T_in, sc_ratio):
+    train = Train(pre_reformer=PreReformer(T_in))
+    feed = full.feed.inlet_flows(steam_to_carbon=sc_ratio)[None, :]
+    P = 25e5
+    r = train_balance(train, feed, 1123.15, P, 813.15, 0.0)
+    st = r.stage("pre_reformer")
+    assert st.carbon_deposit[0] == 0.0
+    H = cantera_ref.enthalpy_flow(feed[0], T_in, P)
+    T_ct, X_ct = _cantera_hp(feed[0].copy(), H, P)
+    assert st.temperature[0] == pytest.approx(T_ct, abs=1e-4)
+    x = st.outlet_flow[0] / st.outlet_flow[0].sum()
+    np.testing.assert_allclose(x, X_ct, atol=1e-8)
+    # Higher hydrocarbons are all but gone at pre-reformer equilibrium (common practice, no
+    # source: pre-reformers are installed to remove them).
+    x_in = feed[0] / feed[0].sum()
+    assert x[IX["C2H6"]] < 1e-3 * x_in[IX["C2H6"]] and x[IX["C3H8"]] < 1e-3 * x_in[IX["C3H8"]]
+
+
+# ------------------------------------------------------------------------------ train totals
+
+def test_train_energy_and_element_balances_close(full):
+    feed, T, P = _grid_points(full, 25, seed=11)
+    r = train_balance(full.train, feed, T, P, full.feed.inlet_temperature, full.approach)
+    assert r.converged.all()
+    A = formula_matrix()
+    ox = r.stage("secondary_reformer").added_flow
+    b_in = (feed + ox) @ A
+    b_out = r.product_flow @ A
+    b_out[:, 0] += r.carbon_deposit
+    np.testing.assert_allclose(b_out, b_in, rtol=1e-9, atol=1e-12)
+    # First law over the whole train: product enthalpy minus what came in (feed at the
+    # pre-reformer inlet, oxidant at its temperature) equals every heat added or removed.
+    pre = full.train.pre_reformer.inlet_temperature
+    sec = full.train.secondary_reformer.oxidant_temperature
+    h_in = enthalpy_flow(feed, np.full(len(T), pre)) + enthalpy_flow(ox, np.full(len(T), sec))
+    h_out = enthalpy_flow(r.product_flow, r.product_temperature)
+    heat = sum(s.heat_before + s.duty for s in r.stages)
+    np.testing.assert_allclose(h_out - h_in, heat, rtol=0, atol=1e-7 * np.abs(h_in).max())
+    np.testing.assert_allclose(r.fired_duty,
+                               r.primary.duty + r.stage("primary_reformer").heat_before)
+    assert np.all(r.heat_removed < 0)
+    hc = feed @ np.array([1.0 if s == "CH4" else 2.0 if s == "C2H6" else 3.0 if s == "C3H8"
+                          else 0.0 for s in GAS_SPECIES])
+    np.testing.assert_allclose(r.h2_product, r.product_flow[:, IX["H2"]] / hc)
+    # Shift turns CO into H2: the product holds more H2 than the reformers made.
+    assert np.all(r.h2_product > r.stage("secondary_reformer").outlet_flow[:, IX["H2"]] / hc)
+
+
+def test_pre_reformer_leaves_the_primary_equilibrium_unchanged(full):
+    """Same elements in, same equilibrium out: only the duty splits (reheat + primary)."""
+    feed, T, P = _grid_points(full, 20, seed=5)
+    alone = reformer_balance(feed, T, P, full.feed.inlet_temperature, full.approach)
+    train = Train(pre_reformer=full.train.pre_reformer)
+    r = train_balance(train, feed, T, P, full.feed.inlet_temperature, full.approach)
+    assert np.all(r.stage("pre_reformer").carbon_deposit == 0)
+    np.testing.assert_allclose(r.primary.outlet_flow, alone.outlet_flow, rtol=1e-8, atol=1e-9)
+    np.testing.assert_allclose(r.primary.h2_yield, alone.h2_yield, rtol=1e-8)
+    np.testing.assert_allclose(r.primary.methane_conversion, alone.methane_conversion,
+                               rtol=1e-8)
+    # The feed's enthalpy at the primary inlet is the same state path-independently: the
+    # pre-reformer (adiabatic) plus reheat plus primary equals the primary alone, plus the
+    # feed's heat-up from the pre-reformer inlet to the primary inlet.
+    heat_up = (enthalpy_flow(feed, np.full(len(T), full.feed.inlet_temperature))
+               - enthalpy_flow(feed, np.full(len(T), train.pre_reformer.inlet_temperature)))
+    np.testing.assert_allclose(r.fired_duty, alone.duty + heat_up, rtol=1e-7)
+
+
+def test_empty_train_is_the_primary_reformer(full):
+    feed, T, P = _grid_points(full, 10)
+    alone = reformer_balance(feed, T, P, full.feed.inlet_temperature, full.approach)
+    r = train_balance(Train(), feed, T, P, full.feed.inlet_temperature, full.approach)
+    assert [s.name for s in r.stages] == ["primary_reformer"]
+    np.testing.assert_array_equal(r.h2_product, alone.h2_yield)
+    np.testing.assert_array_equal(r.fired_duty, alone.duty)
+    np.testing.assert_array_equal(r.methane_slip_dry, alone.methane_slip_dry)
+    np.testing.assert_array_equal(r.heat_removed, 0.0)
+
+
+def test_air_composition():
+    # Dry air, U.S. Standard Atmosphere 1976 (recalled from memory): O2 20.946 %,
+    # Ar 0.934 %; the rest counted as N2.
+    air = OXIDANTS["air"]
+    assert sum(air.values()) == pytest.approx(1.0, abs=1e-12)
+    ox = SecondaryReformer("air", 0.3, 800.0).oxidant_flows(10.0)
+    assert ox[IX["O2"]] == pytest.approx(3.0)
+    assert ox[IX["N2"]] / ox[IX["O2"]] == pytest.approx(0.78120 / 0.20946)
+
+
+# ------------------------------------------------------------------------------ scenario keys
+
+def test_train_round_trips_through_toml(full):
+    again = parse_scenario(full.to_toml())
+    assert again == full
+    assert again.train.stages() == ["pre_reformer", "primary_reformer", "secondary_reformer",
+                                    "high_temperature_shift", "low_temperature_shift"]
+    assert thermo.load_scenario().train.empty
+
+
+@pytest.mark.parametrize("edit, field", [
+    (('oxidant = "air"', 'oxidant = "enriched"'), "train.secondary_reformer.oxidant"),
+    (("oxygen_to_carbon = 0.25", "oxygen_to_carbon = 0.9"),
+     "train.secondary_reformer.oxygen_to_carbon"),
+    (('temperature = "360 degC"', 'temperature = "700 degC"'),
+     "train.high_temperature_shift.temperature"),
+    (('approach = "8 K"', 'approach = "-3 K"'), "train.low_temperature_shift.approach"),
+    (('inlet_temperature = "490 degC"', 'inlet_temperature = "2000 degC"'),
+     "train.pre_reformer.inlet_temperature"),
+    (("[train.low_temperature_shift]", "[train.medium_shift]"), "train.medium_shift"),
+    (('oxidant_temperature = "550 degC"', 'oxidant_temp = "550 degC"'),
+     "train.secondary_reformer.oxidant_temp"),
+])
+def test_bad_train_keys_name_the_field(edit, field):
+    text = thermo.load_scenario().text + FULL_TRAIN.replace(*edit)
+    with pytest.raises(InputError) as err:
+        parse_scenario(text)
+    assert err.value.field == field
+
+
+def test_shift_stage_dataclass_defaults():
+    assert ShiftStage(500.0).approach == 0.0

@@ -1,0 +1,438 @@
+r"""The reforming train: pre-reformer, primary and secondary reformers, shift stages.
+
+Engineers buy hydrogen after shift, not a reformer outlet. :func:`train_balance` carries the
+gas of N points (vectorized, like :func:`thermo.balances.reformer_balance`) through the
+stages a scenario names (:class:`thermo.scenario.Train`), all at the window's pressure
+(pressure drop neglected):
+
+1. **Pre-reformer** (optional): adiabatic Gibbs equilibrium of the mixed feed from its own
+   inlet temperature (graphite allowed). Its gas is then reheated to the primary inlet
+   temperature (``feed.inlet_temperature``). Carbon it deposits stays in it.
+2. **Primary reformer**: equilibrium at the window's T - approach, enthalpy at T; its duty
+   is the radiant duty from its inlet (the pre-reformed gas if there is one) at the feed
+   inlet temperature to the outlet at T (:func:`~thermo.balances.reformer_balance`).
+3. **Secondary reformer** (optional): the primary's gas at T and the oxidant (oxygen or air)
+   at its own temperature mix and burn; the outlet temperature is the one at which the
+   enthalpy of the equilibrated outlet (at that temperature minus the stage's approach)
+   equals the inlet enthalpy: an adiabatic stage, duty zero.
+4. **Shift stages** (optional, high then low temperature): the gas is cooled to the stage
+   temperature, then only CO + H2O = CO2 + H2 moves, to its equilibrium at the stage
+   temperature plus the approach (less conversion, the reaction being exothermic). Methane,
+   higher hydrocarbons and carbon are frozen: the catalysts are selective, and a full
+   Gibbs equilibrium at 200-450 degC would wrongly methanate the gas. The stage is held at
+   its temperature; its duty (negative) is the heat of shift removed.
+
+Train totals: H2 product (H2 after the last stage per mol hydrocarbon carbon of the fresh
+feed), fired duty (primary duty plus the pre-reformed gas's reheat: the heat the furnace
+supplies), heat removed (coolers and shift stages, negative), graphite in any reforming
+stage, and methane slip after the last reforming stage (dry).
+
+The shift equilibrium is closed-form: with a, b, c, d the moles of CO, H2O, CO2, H2 and the
+extent x, ``(c + x)(d + x) = K (a - x)(b - x)`` (total moles unchanged, so pressure drops
+out), whose physical root lies in [-min(c, d), min(a, b)] where the left minus the right
+side increases through zero.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from thermo.balances import Balance, enthalpy_flow, outlet_enthalpy, reformer_balance
+from thermo.equilibrium import equilibrate
+from thermo.extent import SHIFT, delta_g_RT
+from thermo.scenario import STAGE_NAMES, SecondaryReformer, Train
+from thermo.species import GAS_SPECIES, formula_matrix
+
+_I = {s: i for i, s in enumerate(GAS_SPECIES)}
+_HC_CARBON = np.array([{"CH4": 1.0, "C2H6": 2.0, "C3H8": 3.0}.get(s, 0.0) for s in GAS_SPECIES])
+
+#: Relative closure of an adiabatic stage's energy balance: |H_out - H_in| at most this
+#: times the magnitude of the stage's inlet enthalpy flow.
+ADIABATIC_TOLERANCE = 1e-11
+
+
+@dataclass(frozen=True)
+class StageResult:
+    """One stage of the train over N points (arrays; SI units).
+
+    Attributes
+    ----------
+    name : str
+        Stage key (``"pre_reformer"``, ``"primary_reformer"``, ``"secondary_reformer"``,
+        ``"high_temperature_shift"``, ``"low_temperature_shift"``).
+    inlet_flow : ndarray (N, S)
+        Gas entering [mol s-1] (for the secondary reformer, the primary's gas plus the
+        oxidant).
+    added_flow : ndarray (N, S)
+        Stream added at this stage's inlet (the secondary's oxidant; zeros otherwise)
+        [mol s-1].
+    inlet_temperature : ndarray (N,)
+        Temperature of the gas entering, after any reheat or cooling before the stage [K]
+        (the oxidant enters at its own temperature).
+    temperature : ndarray (N,)
+        Outlet temperature [K].
+    equilibrium_temperature : ndarray (N,)
+        Where the outlet composition is equilibrated (T - approach for reforming, T +
+        approach for shift) [K].
+    outlet_flow : ndarray (N, S)
+        Gas leaving [mol s-1].
+    carbon_deposit : ndarray (N,)
+        Graphite formed in the stage [mol s-1] (0 in shift stages).
+    heat_before : ndarray (N,)
+        Heat given to the gas between the previous stage and this one: reheat (> 0) before
+        the primary after a pre-reformer, cooling (< 0) before a shift stage [W].
+    duty : ndarray (N,)
+        Heat supplied to the stage itself, outlet minus inlet enthalpy flow [W]; 0 for the
+        adiabatic stages, < 0 (heat removed) for shift stages.
+    inlet_enthalpy, outlet_enthalpy : ndarray (N,)
+        Enthalpy flows, formation enthalpies included [W].
+    converged : ndarray of bool (N,)
+        The stage's equilibrium (and, for adiabatic stages, its temperature) was found.
+    """
+
+    name: str
+    inlet_flow: np.ndarray
+    added_flow: np.ndarray
+    inlet_temperature: np.ndarray
+    temperature: np.ndarray
+    equilibrium_temperature: np.ndarray
+    outlet_flow: np.ndarray
+    carbon_deposit: np.ndarray
+    heat_before: np.ndarray
+    duty: np.ndarray
+    inlet_enthalpy: np.ndarray
+    outlet_enthalpy: np.ndarray
+    converged: np.ndarray
+
+    @property
+    def label(self) -> str:
+        """Display name of the stage."""
+        return STAGE_NAMES[self.name]
+
+
+@dataclass(frozen=True)
+class TrainResult:
+    """The whole train over N points.
+
+    Attributes
+    ----------
+    stages : list[StageResult]
+        In flow order, the primary reformer included.
+    primary : Balance
+        Full balance of the primary reformer (yields on the fresh feed's hydrocarbon carbon).
+    feed_flow : ndarray (N, S)
+        Fresh mixed feed [mol s-1].
+    product_flow : ndarray (N, S)
+        Gas after the last stage [mol s-1].
+    product_temperature : ndarray (N,)
+        Its temperature [K].
+    h2_product : ndarray (N,)
+        H2 after the last stage per mol hydrocarbon carbon of the fresh feed [-].
+    fired_duty : ndarray (N,)
+        Heat supplied by the furnace: primary duty plus the reheat of pre-reformed gas [W].
+    heat_removed : ndarray (N,)
+        Heat taken out by the coolers and shift stages (<= 0) [W].
+    carbon_deposit : ndarray (N,)
+        Graphite formed in all reforming stages [mol s-1].
+    methane_slip_dry : ndarray (N,)
+        CH4 mole fraction of the dry gas after the last reforming stage [-].
+    converged : ndarray of bool (N,)
+        Every stage converged.
+    """
+
+    stages: list[StageResult]
+    primary: Balance
+    feed_flow: np.ndarray
+    product_flow: np.ndarray
+    product_temperature: np.ndarray
+    h2_product: np.ndarray
+    fired_duty: np.ndarray
+    heat_removed: np.ndarray
+    carbon_deposit: np.ndarray
+    methane_slip_dry: np.ndarray
+    converged: np.ndarray
+
+    def stage(self, name: str) -> StageResult | None:
+        """The stage of that name, or None when the train has none."""
+        return next((s for s in self.stages if s.name == name), None)
+
+
+def _dry_fraction(n: np.ndarray, species: str) -> np.ndarray:
+    dry = n.sum(axis=1) - n[:, _I["H2O"]]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(dry > 0, n[:, _I[species]] / dry, 0.0)
+
+
+def shift_equilibrium(gas_flow, temperature) -> np.ndarray:
+    """Gas after CO + H2O = CO2 + H2 reaches equilibrium, all else frozen [mol s-1].
+
+    Parameters
+    ----------
+    gas_flow : array_like (N, S)
+        Gas by species in GAS_SPECIES order [mol s-1].
+    temperature : array_like (N,)
+        Temperature of the equilibrium (stage temperature plus approach) [K].
+
+    Returns
+    -------
+    ndarray (N, S)
+        The shifted gas; only CO, H2O, CO2 and H2 change, by the extent x of the module
+        notes (K on any standard pressure: total moles do not change).
+    """
+    n = np.atleast_2d(np.asarray(gas_flow, dtype=float)).copy()
+    T = np.broadcast_to(np.asarray(temperature, dtype=float), (n.shape[0],))
+    K = np.exp(-delta_g_RT(SHIFT, T))
+    a, b = n[:, _I["CO"]], n[:, _I["H2O"]]
+    c, d = n[:, _I["CO2"]], n[:, _I["H2"]]
+    A = 1.0 - K
+    B = c + d + K * (a + b)
+    C = c * d - K * a * b
+    # Physical root: where g(x) = A x^2 + B x + C crosses zero upward, x = -2C / (B + sqrt D)
+    # (the cancellation-free form of (-B + sqrt D) / 2A).
+    D = np.maximum(B * B - 4.0 * A * C, 0.0)
+    den = B + np.sqrt(D)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        x = np.where(den > 0, -2.0 * C / den, 0.0)
+    x = np.clip(x, -np.minimum(c, d), np.minimum(a, b))
+    n[:, _I["CO"]] = a - x
+    n[:, _I["H2O"]] = b - x
+    n[:, _I["CO2"]] = c + x
+    n[:, _I["H2"]] = d + x
+    return n
+
+
+def adiabatic_equilibrium(gas_flow, inlet_enthalpy, pressure, approach=0.0,
+                          bounds=(350.0, 2800.0), max_iterations: int = 200):
+    """Outlet temperature and composition of adiabatic equilibrium stages, N at once.
+
+    Finds T with H_out(T) = H_in, where the outlet is the Gibbs equilibrium (graphite
+    allowed) at T - approach and its enthalpy is taken at T, by the Illinois variant of
+    regula falsi on every point together (bisection when it stalls).
+
+    Parameters
+    ----------
+    gas_flow : array_like (N, S)
+        Gas entering (all streams mixed) [mol s-1].
+    inlet_enthalpy : array_like (N,)
+        Enthalpy flow of the streams entering [W].
+    pressure : array_like (N,)
+        Absolute pressure [Pa].
+    approach : array_like (N,)
+        Approach to equilibrium [K].
+    bounds : (array_like, array_like)
+        Bracket of the outlet temperature [K].
+
+    Returns
+    -------
+    (T, result, ok)
+        Outlet temperature [K] (NaN where no root is bracketed), the
+        :class:`~thermo.equilibrium.EquilibriumResult` there, and the per-point success flag.
+    """
+    n = np.atleast_2d(np.asarray(gas_flow, dtype=float))
+    N = n.shape[0]
+    H_in = np.broadcast_to(np.asarray(inlet_enthalpy, dtype=float), (N,))
+    P = np.broadcast_to(np.asarray(pressure, dtype=float), (N,))
+    dT = np.broadcast_to(np.asarray(approach, dtype=float), (N,))
+    b_el = n @ formula_matrix()
+    lo = np.maximum(np.broadcast_to(np.asarray(bounds[0], dtype=float), (N,)), 300.0 + dT)
+    hi = np.broadcast_to(np.asarray(bounds[1], dtype=float), (N,)).astype(float)
+    # Tolerance on the enthalpy balance: relative to the inlet enthalpy flow's magnitude,
+    # with a floor of the sensible heat scale (n R T) for streams whose H_in is near 0.
+    tol = ADIABATIC_TOLERANCE * (np.abs(H_in) + n.sum(axis=1) * 8.314 * 1000.0)
+
+    def residual(T, idx, warm=None):
+        eq = equilibrate(T - dT[idx], P[idx], b_el[idx], warm_start=warm)
+        return outlet_enthalpy(eq.moles, eq.carbon, T, P[idx]) - H_in[idx], eq
+
+    all_idx = np.arange(N)
+    f_lo, _ = residual(lo, all_idx)
+    f_hi, eq_hi = residual(hi, all_idx)
+    ok = (f_lo <= 0) & (f_hi >= 0)  # H_out rises with T
+    a, fa, b, fb = lo.copy(), f_lo, hi.copy(), f_hi
+    side = np.zeros(N, dtype=int)
+    warm = eq_hi.element_potentials.copy()
+    T = np.where(ok, b, np.nan)
+    active = ok & (np.abs(fb) > tol)
+    for _ in range(max_iterations):
+        if not active.any():
+            break
+        idx = np.flatnonzero(active)
+        ai, bi, fai, fbi = a[idx], b[idx], fa[idx], fb[idx]
+        den = fbi - fai
+        with np.errstate(invalid="ignore", divide="ignore"):
+            c = np.where(den != 0, (ai * fbi - bi * fai) / den, 0.5 * (ai + bi))
+        # Bisect where the secant leaves the bracket or one end has been kept three times.
+        lo_b, hi_b = np.minimum(ai, bi), np.maximum(ai, bi)
+        bad = ~((c > lo_b) & (c < hi_b)) | (np.abs(side[idx]) >= 3)
+        c = np.where(bad, 0.5 * (ai + bi), c)
+        fc, eq = residual(c, idx, warm[idx])
+        warm[idx] = eq.element_potentials
+        # Keep the bracket [a, b] with fa <= 0 <= fb (a is the cold end).
+        neg = fc < 0
+        a[idx] = np.where(neg, c, ai)
+        fa[idx] = np.where(neg, fc, fai)
+        b[idx] = np.where(neg, bi, c)
+        fb[idx] = np.where(neg, fbi, fc)
+        # Illinois: halve the residual of the end kept twice in a row.
+        s = side[idx]
+        s = np.where(neg, np.where(s > 0, s + 1, 1), np.where(s < 0, s - 1, -1))
+        side[idx] = s
+        fb[idx] = np.where(neg & (s >= 2), fb[idx] / 2.0, fb[idx])
+        fa[idx] = np.where(~neg & (s <= -2), fa[idx] / 2.0, fa[idx])
+        T[idx] = c
+        done = (np.abs(fc) <= tol[idx]) | (np.abs(bi - ai) <= 1e-12 * c)
+        active[idx] = ~done
+    # Final state at the found temperatures (warm-started: a few iterations).
+    Tf = np.where(ok, T, 0.5 * (lo + hi))
+    eq = equilibrate(Tf - dT, P, b_el, warm_start=warm)
+    resid = outlet_enthalpy(eq.moles, eq.carbon, Tf, P) - H_in
+    ok = ok & eq.converged & (np.abs(resid) <= 100.0 * tol)
+    return np.where(ok, Tf, np.nan), eq, ok
+
+
+def _unique_rows(*arrays):
+    """Unique rows of the arrays side by side, and the inverse map to all rows."""
+    key = np.column_stack([np.atleast_2d(np.asarray(a, dtype=float).T).T for a in arrays])
+    uniq, inverse = np.unique(key, axis=0, return_inverse=True)
+    return uniq, inverse.reshape(-1)
+
+
+def _pre_reformer(feed, P, T_in, N):
+    """Adiabatic pre-reformer on the unique (feed, P, T_in) rows of a grid."""
+    uniq, inv = _unique_rows(feed, P, T_in)
+    S = len(GAS_SPECIES)
+    n_u, P_u, T_u = uniq[:, :S], uniq[:, S], uniq[:, S + 1]
+    H_u = enthalpy_flow(n_u, T_u)
+    Tout, eq, ok = adiabatic_equilibrium(n_u, H_u, P_u, 0.0,
+                                         bounds=(np.maximum(T_u - 250.0, 350.0), T_u + 400.0))
+    return (Tout[inv], eq.moles[inv], eq.carbon[inv], ok[inv], H_u[inv])
+
+
+def _secondary(sec: SecondaryReformer, gas, T_gas, P, hc_carbon):
+    """Adiabatic secondary reformer: the primary's gas at T plus the oxidant."""
+    N = gas.shape[0]
+    ox = sec.oxidant_flows(hc_carbon).T  # (N, S)
+    T_ox = np.full(N, sec.oxidant_temperature)
+    H_in = enthalpy_flow(gas, T_gas) + enthalpy_flow(ox, T_ox)
+    mixed = gas + ox
+    dT = np.full(N, sec.approach)
+    lo = np.maximum(np.minimum(T_gas, T_ox) - 400.0, 350.0)
+    T, eq, ok = adiabatic_equilibrium(mixed, H_in, P, dT, bounds=(lo, 3000.0))
+    return T, eq, ok, ox, H_in
+
+
+def train_balance(
+    train: Train,
+    inlet_flow,
+    temperature,
+    pressure,
+    inlet_temperature,
+    approach=0.0,
+    *,
+    row: int = 1,
+) -> TrainResult:
+    """Carry N points' feed through the train's stages.
+
+    Parameters
+    ----------
+    train : Train
+        The stages (an empty Train gives the primary reformer alone).
+    inlet_flow : array_like (N, S)
+        Fresh mixed feed (gas, steam, co-feeds) [mol s-1].
+    temperature : array_like (N,)
+        Primary reformer outlet temperature [K].
+    pressure : array_like (N,)
+        Absolute pressure of every stage [Pa].
+    inlet_temperature : array_like (N,)
+        Temperature of the gas entering the primary reformer [K].
+    approach : array_like (N,)
+        Primary reformer approach to equilibrium [K].
+    row : int
+        Warm-start rows of the primary's solve (thermo.equilibrium.equilibrate).
+
+    Returns
+    -------
+    TrainResult
+    """
+    feed = np.atleast_2d(np.asarray(inlet_flow, dtype=float))
+    N = feed.shape[0]
+    T = np.broadcast_to(np.asarray(temperature, dtype=float), (N,)).copy()
+    P = np.broadcast_to(np.asarray(pressure, dtype=float), (N,)).copy()
+    T_feed = np.broadcast_to(np.asarray(inlet_temperature, dtype=float), (N,)).copy()
+    hc = feed @ _HC_CARBON
+    zeros = np.zeros(N)
+    no_flow = np.zeros_like(feed)
+    stages: list[StageResult] = []
+    primary_in = feed
+    reheat = zeros
+    carbon = zeros.copy()
+    converged = np.ones(N, dtype=bool)
+    pre = train.pre_reformer
+    if pre is not None:
+        T_pre_in = np.full(N, pre.inlet_temperature)
+        T_pre, n_pre, c_pre, ok_pre, H_pre = _pre_reformer(feed, P, T_pre_in, N)
+        h_out = np.where(ok_pre, outlet_enthalpy(n_pre, c_pre, np.nan_to_num(T_pre, nan=T_pre_in),
+                                                 P), np.nan)
+        stages.append(StageResult("pre_reformer", feed, no_flow, T_pre_in, T_pre, T_pre, n_pre,
+                                  c_pre, zeros, h_out - H_pre, H_pre, h_out, ok_pre))
+        primary_in = n_pre
+        T_safe = np.where(ok_pre, T_pre, T_feed)
+        reheat = np.where(ok_pre, enthalpy_flow(n_pre, T_feed) - enthalpy_flow(n_pre, T_safe),
+                          np.nan)
+        carbon += c_pre
+        converged &= ok_pre
+    bal = reformer_balance(primary_in, T, P, T_feed, approach, row=row, hydrocarbon_carbon=hc)
+    stages.append(StageResult("primary_reformer", primary_in, no_flow, T_feed, T,
+                              bal.equilibrium_temperature, bal.outlet_flow, bal.carbon_deposit,
+                              reheat, bal.duty, bal.inlet_enthalpy, bal.outlet_enthalpy,
+                              bal.converged.copy()))
+    carbon += bal.carbon_deposit
+    converged &= bal.converged
+    gas, T_gas = bal.outlet_flow, T
+    slip = bal.methane_slip_dry
+    sec = train.secondary_reformer
+    if sec is not None:
+        T_sec, eq, ok, ox, H_in = _secondary(sec, gas, T_gas, P, hc)
+        T_eval = np.where(ok, T_sec, T_gas)
+        h_out = np.where(ok, outlet_enthalpy(eq.moles, eq.carbon, T_eval, P), np.nan)
+        stages.append(StageResult("secondary_reformer", gas + ox, ox, T_gas, T_sec,
+                                  T_sec - sec.approach, eq.moles, eq.carbon, zeros,
+                                  h_out - H_in, H_in, h_out, ok))
+        gas, T_gas = eq.moles, T_sec
+        carbon = carbon + eq.carbon
+        converged &= ok
+        slip = _dry_fraction(gas, "CH4")
+    removed = zeros.copy()
+    for name in ("high_temperature_shift", "low_temperature_shift"):
+        st = getattr(train, name)
+        if st is None:
+            continue
+        Ts = np.full(N, st.temperature)
+        T_prev = np.where(np.isfinite(T_gas), T_gas, Ts)
+        cool = enthalpy_flow(gas, Ts) - enthalpy_flow(gas, T_prev)
+        out = shift_equilibrium(gas, Ts + st.approach)
+        H_in = enthalpy_flow(gas, Ts)
+        H_out = enthalpy_flow(out, Ts)
+        ok = np.isfinite(T_gas)
+        stages.append(StageResult(name, gas, no_flow, Ts, Ts, Ts + st.approach, out, zeros,
+                                  cool, H_out - H_in, H_in, H_out, ok))
+        removed = removed + cool + (H_out - H_in)
+        gas, T_gas = out, Ts
+        converged &= ok
+    with np.errstate(invalid="ignore", divide="ignore"):
+        h2_product = gas[:, _I["H2"]] / hc
+    return TrainResult(
+        stages=stages,
+        primary=bal,
+        feed_flow=feed,
+        product_flow=gas,
+        product_temperature=T_gas,
+        h2_product=h2_product,
+        fired_duty=bal.duty + reheat,
+        heat_removed=removed,
+        carbon_deposit=carbon,
+        methane_slip_dry=slip,
+        converged=converged,
+    )
