@@ -50,7 +50,10 @@ from explorer.tables import (
     ENERGY_ROWS,
     REACTION_COLUMNS,
     SPECIES_COLUMNS,
+    STAGE_COLUMNS,
     SUMMARY_ROWS,
+    TRAIN_NOTE,
+    TRAIN_ROWS,
     balance_html,
 )
 from thermo.balances import enthalpy_flow
@@ -320,11 +323,66 @@ def _page_data(sc: Scenario, ds: xr.Dataset) -> dict:
         "equations": {"reforming": REFORMING.equation(), "shift": SHIFT.equation()},
         "conversions": {k: list(v) for k, v in CONVERSIONS.items()},
         "spec": {"summary": SUMMARY_ROWS, "energy": ENERGY_ROWS, "species": SPECIES_COLUMNS,
-                 "reactions": REACTION_COLUMNS},
+                 "reactions": REACTION_COLUMNS, "train": TRAIN_ROWS, "stage": STAGE_COLUMNS,
+                 "train_note": TRAIN_NOTE},
+        "train": _train_descriptor(sc),
     }
 
 
-def _points_source(ds: xr.Dataset):
+def _train_descriptor(sc: Scenario) -> dict | None:
+    """What the page's script needs to know of the train (None without one)."""
+    if sc.train.empty:
+        return None
+    from thermo.scenario import STAGE_NAMES
+
+    stages = [{"name": n, "label": STAGE_NAMES[n], "key": f"st{k}"}
+              for k, n in enumerate(sc.train.stages())]
+    pre = "st0" if sc.train.pre_reformer is not None else None
+    return {"stages": stages, "pre": pre}
+
+
+def _train_arrays(sc: Scenario, ds: xr.Dataset) -> dict[str, np.ndarray]:
+    """Per-point arrays of every stage besides the primary (flat grid order), from the core.
+
+    The Dataset holds the train's totals only; the stage-by-stage table of a clicked point
+    needs each stage's outlet, so the train is run once more over the grid here.
+    """
+    if sc.train.empty:
+        return {}
+    from thermo.train import train_balance
+
+    dims = list(ds["h2_yield"].dims)
+    shape = tuple(ds.sizes[d] for d in dims)
+    idx = np.unravel_index(np.arange(int(np.prod(shape))), shape)
+    T = ds.temperature.values[idx[dims.index("temperature")]]
+    P = ds.pressure.values[idx[dims.index("pressure")]]
+    ratio_dims = [d for d in dims if d in RATIO_AXES]
+    inlet = ds["inlet_flow"].transpose(*ratio_dims, "species").values
+    n_in = inlet[tuple(idx[dims.index(d)] for d in ratio_dims)]
+    tr = train_balance(sc.train, n_in, T, P, sc.feed.inlet_temperature, sc.approach,
+                       row=shape[-1])
+    out: dict[str, np.ndarray] = {}
+    for k, st in enumerate(tr.stages):
+        if st.name == "primary_reformer":
+            if sc.train.pre_reformer is not None:
+                out["primary_hin"] = st.inlet_enthalpy
+                out["primary_heat_before"] = st.heat_before
+            continue
+        key = f"st{k}"
+        for j, s in enumerate(GAS_SPECIES):
+            out[f"{key}_n_{s}"] = st.outlet_flow[:, j]
+        out[f"{key}_Tin"] = st.inlet_temperature
+        out[f"{key}_T"] = st.temperature
+        out[f"{key}_Teq"] = st.equilibrium_temperature
+        out[f"{key}_heat_before"] = st.heat_before
+        out[f"{key}_duty"] = st.duty
+        out[f"{key}_hin"] = st.inlet_enthalpy
+        out[f"{key}_hout"] = st.outlet_enthalpy
+        out[f"{key}_carbon"] = st.carbon_deposit
+    return {k: np.ascontiguousarray(np.asarray(v, dtype=float)) for k, v in out.items()}
+
+
+def _points_source(ds: xr.Dataset, sc: Scenario | None = None):
     from bokeh.models import ColumnDataSource
 
     dims = list(ds["h2_yield"].dims)
@@ -334,6 +392,8 @@ def _points_source(ds: xr.Dataset):
               "approach_shift"):
         data[k] = np.ascontiguousarray(ds[k].transpose(*dims).values.ravel().astype(float))
     data["converged"] = ds["converged"].transpose(*dims).values.ravel().astype(np.int8)
+    if sc is not None:
+        data.update(_train_arrays(sc, ds))
     return ColumnDataSource(data, name="points")
 
 
@@ -395,7 +455,7 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None)
     heading = Div(text="<p>Click a map to show the balance of the nearest grid point.</p>",
                   name="balance-heading", width=1150)
     balance = Div(text="", width=1150, stylesheets=[SHEET_CSS], name="balance-div")
-    pts = _points_source(ds)
+    pts = _points_source(ds, sc)
     hovers = [_hover(f) for f in figs]
     js_common = resources.files("explorer").joinpath("review.js").read_text("utf-8")
     args = dict(pts=pts, figs=figs, mappers=mappers, selects=selects, mode=mode,

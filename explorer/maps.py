@@ -35,6 +35,7 @@ from bokeh.palettes import Cividis256, Inferno256, Viridis256
 from bokeh.plotting import figure
 
 from thermo.species import GAS_SPECIES
+from thermo.sweep import LIMIT_VARIABLES
 
 #: Map orientations: x is always outlet temperature.
 MODES = {
@@ -83,6 +84,12 @@ def _variables() -> dict[str, Variable]:
         Variable("methane_conversion", "Methane conversion (hydrocarbon C)", "%", 100.0,
                  Cividis256, 2),
         Variable("h2_co_ratio", "H2/CO", "mol/mol", 1.0, Cividis256, 2),
+        Variable("h2_product", "H2 product after the train", "mol H2 / mol hydrocarbon C",
+                 1.0, Viridis256, 3),
+        Variable("train_duty", "Heat supplied to the train", "MW", 1e-6,
+                 tuple(reversed(Inferno256)), 2),
+        Variable("train_methane_slip_dry", "Methane slip after the last reformer, dry",
+                 "mol %", 100.0, tuple(reversed(Inferno256)), 2),
         Variable("duty", "Duty", "MW", 1e-6, tuple(reversed(Inferno256)), 2),
         Variable("duty_per_h2", "Duty per H2", "MJ/kmol H2", 1e-3,
                  tuple(reversed(Inferno256)), 1),
@@ -134,7 +141,7 @@ def variable_levels(ds: xr.Dataset, var: Variable) -> np.ndarray:
 
 #: Dataset variables the overlays read (limits, carbon boundary, nodes).
 OVERLAY_VARIABLES = ("h2_yield", "methane_slip_dry", "duty", "carbon_deposit",
-                     "carbon_activity", "converged", "feasible")
+                     "carbon_activity", "converged", "feasible", *LIMIT_VARIABLES.values())
 
 
 def slice_fields(ds: xr.Dataset, mode: str, fixed: dict[str, int]) -> xr.Dataset:
@@ -174,18 +181,28 @@ def infeasibility(s: xr.Dataset, limits) -> np.ndarray:
 
     The maximum over the active limits of the normalized excess (slip over its maximum,
     yield under its minimum, duty over its maximum, the carbon margin where carbon must be
-    absent); unconverged points count as infeasible.
+    absent), each on the variable thermo.sweep.LIMIT_VARIABLES names (the train's figures);
+    unconverged points count as infeasible.
     """
+    v = {k: (name if name in s else {"train_methane_slip_dry": "methane_slip_dry",
+                                      "h2_product": "h2_yield", "train_duty": "duty",
+                                      "train_carbon_deposit": "carbon_deposit"}[name])
+         for k, name in LIMIT_VARIABLES.items()}
     terms = []
     if limits.max_methane_slip_dry is not None:
-        terms.append((s["methane_slip_dry"] - limits.max_methane_slip_dry)
+        terms.append((s[v["max_methane_slip_dry"]] - limits.max_methane_slip_dry)
                      / max(limits.max_methane_slip_dry, 1e-12))
     if limits.min_h2_yield is not None:
-        terms.append((limits.min_h2_yield - s["h2_yield"]) / max(limits.min_h2_yield, 1e-12))
+        terms.append((limits.min_h2_yield - s[v["min_h2_yield"]])
+                     / max(limits.min_h2_yield, 1e-12))
     if limits.max_duty is not None:
-        terms.append((s["duty"] - limits.max_duty) / max(abs(limits.max_duty), 1.0))
+        terms.append((s[v["max_duty"]] - limits.max_duty) / max(abs(limits.max_duty), 1.0))
     if limits.carbon_free:
-        terms.append(carbon_margin(s))
+        margin = carbon_margin(s)
+        # Graphite in a pre- or secondary reformer where the primary has none.
+        other = s[v["carbon_free"]] - s["carbon_deposit"]
+        hc = float(s.attrs.get("hydrocarbon_carbon_mol_per_s", 1.0)) or 1.0
+        terms.append(xr.where(other > 0, np.maximum(margin, other / hc + 1e-9), margin))
     if not terms:
         field = xr.full_like(s["h2_yield"], -1.0)
     else:

@@ -51,7 +51,9 @@ function display(value, conv, decimals) {
   const [scale, offset] = R.conversions[conv];
   const v = value * scale + offset;
   if (decimals < 0) return pyG(v, -decimals);
-  return pyFixed(v, decimals);
+  const text = pyFixed(v, decimals);
+  // explorer.tables.display: a value that rounds to zero reads without a sign.
+  return text.startsWith("-") && /^-[0.,]*$/.test(text) ? text.slice(1) : text;
 }
 
 function lookup(d, path) {
@@ -110,7 +112,10 @@ function assemble(p) {
   const T = R.axes.temperature[idx.temperature];
   const Pa = R.axes.pressure[idx.pressure];
   const r = ratioIndex(idx);
-  const nin = R.inlet_flow.slice(r * NS, (r + 1) * NS);
+  const feed = R.inlet_flow.slice(r * NS, (r + 1) * NS);
+  // With a pre-reformer, the primary's inlet is its gas (embedded per point).
+  const pre = R.train && R.train.pre;
+  const nin = pre ? S.map((s) => P[`${pre}_n_${s}`][p]) : feed;
   const nout = [];
   for (let j = 0; j < NS; j++) nout.push(P["n_" + S[j]][p]);
   const carbon = P.carbon_deposit[p];
@@ -120,11 +125,11 @@ function assemble(p) {
   const x = nout.map((n) => n / tot);
   const xd = nout.map((n, j) => (j === iw ? 0 : n / dryTot));
   const hcC = (n) => n[S.indexOf("CH4")] + 2 * n[S.indexOf("C2H6")] + 3 * n[S.indexOf("C3H8")];
-  const cin = hcC(nin);
+  const cin = hcC(feed);
   const get = (n, s) => n[S.indexOf(s)];
   const h2 = get(nout, "H2"), co = get(nout, "CO");
   const duty = P.duty[p];
-  const hin = R.inlet_enthalpy[r];
+  const hin = pre ? P.primary_hin[p] : R.inlet_enthalpy[r];
   const lnP = Math.log(Pa / R.standard_pressure);
   const lx = (s) => Math.log(x[S.indexOf(s)]);
   const qRef = Math.exp(lx("CO") + 3 * lx("H2") - lx("CH4") - lx("H2O") + 2 * lnP);
@@ -142,7 +147,7 @@ function assemble(p) {
     if (k in idx) ratios[k] = R.axes[k][idx[k]];
     else if (k in R.fixed_ratios) ratios[k] = R.fixed_ratios[k];
   }
-  return {
+  const d = {
     temperature_K: T, pressure_Pa: Pa,
     equilibrium_temperature_K: T - R.approach_K,
     steam_to_carbon: ratios.steam_to_carbon, oxygen_to_carbon: ratios.oxygen_to_carbon,
@@ -174,6 +179,13 @@ function assemble(p) {
     },
     element_closure: closure,
   };
+  if (R.train) {
+    const heatBefore = pre ? P.primary_heat_before[p] : 0;
+    d.train = assembleTrain(p, d, cin, nout, carbon, T, R.inlet_temperature_K, duty, hin,
+                            heatBefore);
+    d.converged = d.train.converged;
+  }
+  return d;
 }
 
 function balanceHtml(d) {
@@ -182,14 +194,16 @@ function balanceHtml(d) {
     parts.push('<p class="rw-warn">The equilibrium solver did not converge at this point: ' +
                "its numbers are not reliable.</p>");
   }
-  parts.push("<h4>Outlet summary</h4>" + table(["quantity", "value", "unit"],
+  const many = d.train && d.train.stages && d.train.stages.length > 1;
+  const heading = (t) => (many ? "Primary reformer: " + t[0].toLowerCase() + t.slice(1) : t);
+  parts.push(`<h4>${heading("Outlet summary")}</h4>` + table(["quantity", "value", "unit"],
     R.spec.summary.map(([label, unit, key, conv, dec]) =>
       [label, display(lookup(d, key), conv, dec), unit])));
   const srows = S.map((s) => [s].concat(R.spec.species.map(([, key, conv, dec]) =>
     display(lookup(d, key.replace("{s}", s)), conv, dec))));
   srows.push(["C(gr)", "", "", display(d.carbon_deposit_mol_per_s, "kmolh", 3),
               display(d.carbon_deposit_mol_per_s * 12.011e-3, "kgh", 1), "", ""]);
-  parts.push("<h4>Inlet and outlet by species</h4>" +
+  parts.push(`<h4>${heading("Inlet and outlet by species")}</h4>` +
              table(["species"].concat(R.spec.species.map((c) => c[0])), srows));
   parts.push("<h4>Energy balance</h4>" + table(["quantity", "value", "unit"],
     R.spec.energy.map(([label, unit, key, conv, dec]) =>
@@ -203,5 +217,74 @@ function balanceHtml(d) {
              Object.entries(d.element_closure).map(([k, v]) =>
                `${k} ${v.toExponential(1).replace(/e([+-])(\d)$/, "e$10$2")}`).join(", ") +
              "</p>");
+  const t = trainHtml(d);
+  if (t) parts.push(t);
   return parts.join("\n");
+}
+
+function trainHtml(d) {
+  // explorer.tables.train_html
+  const stages = (d.train && d.train.stages) || [];
+  if (stages.length < 2) return "";
+  const parts = ["<h4>Reforming train</h4>" + table(["quantity", "value", "unit"],
+    R.spec.train.map(([label, unit, key, conv, dec]) =>
+      [label, display(lookup(d, key), conv, dec), unit]))];
+  parts.push(table(["stage"].concat(R.spec.stage.map((c) => c[0])), stages.map((st) =>
+    [st.label].concat(R.spec.stage.map(([, key, conv, dec]) =>
+      display(lookup(st, key), conv, dec))))));
+  const prod = d.train.product;
+  parts.push("<h4>Product gas after the last stage</h4>" + table(["species", "kmol/h",
+    "mol % dry"], S.map((s) => [s, display(prod.flow_mol_per_s[s], "kmolh", 3),
+                                 display(prod.mole_fraction_dry[s], "pct", 4)])));
+  parts.push(`<p class='rw-small'>${esc(R.spec.train_note).replace(/'/g, "&#x27;")}</p>`);
+  return parts.join("\n");
+}
+
+function dryFractions(n) {
+  const iw = S.indexOf("H2O");
+  const dry = n.reduce((a, b) => a + b, 0) - n[iw];
+  return n.map((v, j) => (j === iw ? 0 : v / dry));
+}
+
+function assembleTrain(p, primary, cin, nout, carbon, Tk, Tin, duty, hin, heatBefore) {
+  // The train of flat grid point p (PointResult.to_dict()["train"]) from the stage arrays
+  // embedded in pts (st<k>_...) and the primary's own numbers.
+  const P = pts.data;
+  const stages = [];
+  let carbonAll = 0, removed = 0, slip = null, product = null, productT = null;
+  let conv = P.converged[p] > 0;
+  for (const st of R.train.stages) {
+    let s;
+    if (st.name === "primary_reformer") {
+      s = {name: st.name, label: st.label, inlet_temperature_K: Tin, temperature_K: Tk,
+           equilibrium_temperature_K: Tk - R.approach_K, heat_before_W: heatBefore,
+           duty_W: duty, inlet_enthalpy_W: hin, outlet_enthalpy_W: hin + duty,
+           carbon_deposit_mol_per_s: carbon, converged: primary.converged,
+           inlet_flow_mol_per_s: primary.inlet.flow_mol_per_s,
+           outlet_flow_mol_per_s: byName(nout), outlet_mole_fraction_dry: byName(dryFractions(nout))};
+      product = nout;
+    } else {
+      const k = st.key;
+      const n = S.map((sp) => P[`${k}_n_${sp}`][p]);
+      s = {name: st.name, label: st.label, inlet_temperature_K: P[`${k}_Tin`][p],
+           temperature_K: P[`${k}_T`][p], equilibrium_temperature_K: P[`${k}_Teq`][p],
+           heat_before_W: P[`${k}_heat_before`][p], duty_W: P[`${k}_duty`][p],
+           inlet_enthalpy_W: P[`${k}_hin`][p], outlet_enthalpy_W: P[`${k}_hout`][p],
+           carbon_deposit_mol_per_s: P[`${k}_carbon`][p],
+           outlet_flow_mol_per_s: byName(n), outlet_mole_fraction_dry: byName(dryFractions(n))};
+      product = n;
+    }
+    productT = s.temperature_K;
+    carbonAll += s.carbon_deposit_mol_per_s;
+    if (st.name.endsWith("_shift")) removed += s.heat_before_W + s.duty_W;
+    else slip = s.outlet_mole_fraction_dry.CH4;
+    stages.push(s);
+  }
+  return {
+    stages: stages, h2_product: product[S.indexOf("H2")] / cin,
+    duty_W: duty + heatBefore, heat_removed_W: removed, methane_slip_dry: slip,
+    carbon_deposit_mol_per_s: carbonAll, converged: conv,
+    product: {temperature_K: productT, flow_mol_per_s: byName(product),
+              mole_fraction_dry: byName(dryFractions(product))},
+  };
 }

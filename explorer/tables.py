@@ -76,6 +76,39 @@ REACTION_COLUMNS: list[tuple[str, str, str, int]] = [
 ]
 
 
+#: Train totals, shown when the scenario has stages besides the primary reformer.
+TRAIN_ROWS: list[tuple[str, str, str, str, int]] = [
+    ("H2 product after the last stage", "mol H2 / mol hydrocarbon C", "train.h2_product", "", 4),
+    ("H2 product", "kmol/h", "train.product.flow_mol_per_s.H2", "kmolh", 2),
+    ("Heat supplied (primary + reheat of pre-reformed gas)", "MW", "train.duty_W", "MW", 3),
+    ("Heat removed (coolers and shift stages)", "MW", "train.heat_removed_W", "MW", 3),
+    ("Methane slip after the last reformer (dry)", "mol %", "train.methane_slip_dry", "pct", 3),
+    ("Graphite in the reforming stages", "kmol/h", "train.carbon_deposit_mol_per_s", "kmolh", 3),
+]
+
+#: One row per stage: (column title, key in the stage's dict, conversion, decimals).
+STAGE_COLUMNS: list[tuple[str, str, str, int]] = [
+    ("gas in degC", "inlet_temperature_K", "degC", 1),
+    ("out degC", "temperature_K", "degC", 1),
+    ("equilibrium at degC", "equilibrium_temperature_K", "degC", 1),
+    ("heat before MW", "heat_before_W", "MW", 3),
+    ("stage duty MW", "duty_W", "MW", 3),
+    ("H2 out kmol/h", "outlet_flow_mol_per_s.H2", "kmolh", 2),
+    ("CH4 dry %", "outlet_mole_fraction_dry.CH4", "pct", 3),
+    ("CO dry %", "outlet_mole_fraction_dry.CO", "pct", 3),
+    ("CO2 dry %", "outlet_mole_fraction_dry.CO2", "pct", 3),
+    ("graphite kmol/h", "carbon_deposit_mol_per_s", "kmolh", 3),
+]
+
+#: Notes printed under the stage table.
+TRAIN_NOTE = ("Every stage at the outlet pressure. Heat before: reheat of pre-reformed gas to "
+              "the primary inlet temperature (> 0), cooling to a shift stage's temperature "
+              "(< 0). Adiabatic stages have zero duty; a shift stage's duty is the heat of "
+              "shift removed to hold its temperature. Shift stages move CO + H2O = CO2 + H2 "
+              "only (CH4 and carbon frozen), at equilibrium at their temperature plus the "
+              "approach.")
+
+
 def lookup(d: dict, path: str):
     """Value at a dotted key path of a nested dict (None if absent)."""
     cur = d
@@ -94,7 +127,9 @@ def display(value, conversion: str, decimals: int) -> str:
     v = value * scale + offset
     if decimals < 0:
         return f"{v:.{-decimals}g}"
-    return f"{v:,.{decimals}f}"
+    text = f"{v:,.{decimals}f}"
+    # A value that rounds to zero reads as zero, without a sign (an adiabatic stage's duty).
+    return text[1:] if text.startswith("-") and not text.strip("-0.,") else text
 
 
 def _table(head: list[str], rows: list[list[str]], cls: str) -> str:
@@ -102,6 +137,12 @@ def _table(head: list[str], rows: list[list[str]], cls: str) -> str:
     body = "".join("<tr>" + "".join(f"<td>{html.escape(c)}</td>" for c in r) + "</tr>"
                    for r in rows)
     return f'<table class="{cls}"><thead><tr>{th}</tr></thead><tbody>{body}</tbody></table>'
+
+
+def _heading(d: dict, text: str) -> str:
+    """A section heading, naming the primary reformer when the point has a train."""
+    stages = (d.get("train") or {}).get("stages") or []
+    return f"Primary reformer: {text[0].lower()}{text[1:]}" if len(stages) > 1 else text
 
 
 def balance_html(d: dict) -> str:
@@ -112,8 +153,8 @@ def balance_html(d: dict) -> str:
                      "point: its numbers are not reliable.</p>")
     rows = [[label, display(lookup(d, key), conv, dec), unit]
             for label, unit, key, conv, dec in SUMMARY_ROWS]
-    parts.append("<h4>Outlet summary</h4>" + _table(["quantity", "value", "unit"], rows,
-                                                     "rw-table"))
+    parts.append(f"<h4>{_heading(d, 'Outlet summary')}</h4>"
+                 + _table(["quantity", "value", "unit"], rows, "rw-table"))
     srows = []
     for s in GAS_SPECIES:
         srows.append([s] + [display(lookup(d, key.format(s=s)), conv, dec)
@@ -121,7 +162,7 @@ def balance_html(d: dict) -> str:
     srows.append(["C(gr)", "", "", display(d.get("carbon_deposit_mol_per_s"), "kmolh", 3),
                   display((d.get("carbon_deposit_mol_per_s") or 0.0) * 12.011e-3, "kgh", 1),
                   "", ""])
-    parts.append("<h4>Inlet and outlet by species</h4>"
+    parts.append(f"<h4>{_heading(d, 'Inlet and outlet by species')}</h4>"
                  + _table(["species"] + [c[0] for c in SPECIES_COLUMNS], srows, "rw-table"))
     erows = [[label, display(lookup(d, key), conv, dec), unit]
              for label, unit, key, conv, dec in ENERGY_ROWS]
@@ -137,6 +178,30 @@ def balance_html(d: dict) -> str:
     cl = d.get("element_closure", {})
     parts.append("<p class='rw-small'>Element closure |out - in| / in: "
                  + ", ".join(f"{k} {v:.1e}" for k, v in cl.items()) + "</p>")
+    parts.append(train_html(d))
+    return "\n".join(parts)
+
+
+def train_html(d: dict) -> str:
+    """The reforming train of one point: totals, stage by stage, and the product gas
+    (empty text when the scenario has no stage besides the primary reformer)."""
+    train = d.get("train") or {}
+    stages = train.get("stages") or []
+    if len(stages) < 2:
+        return ""
+    parts = ["<h4>Reforming train</h4>" + _table(
+        ["quantity", "value", "unit"],
+        [[label, display(lookup(d, key), conv, dec), unit]
+         for label, unit, key, conv, dec in TRAIN_ROWS], "rw-table")]
+    rows = [[st["label"]] + [display(lookup(st, key), conv, dec)
+                             for _, key, conv, dec in STAGE_COLUMNS] for st in stages]
+    parts.append(_table(["stage"] + [c[0] for c in STAGE_COLUMNS], rows, "rw-table"))
+    prod = train.get("product", {})
+    prows = [[s, display(lookup(prod, f"flow_mol_per_s.{s}"), "kmolh", 3),
+              display(lookup(prod, f"mole_fraction_dry.{s}"), "pct", 4)] for s in GAS_SPECIES]
+    parts.append("<h4>Product gas after the last stage</h4>"
+                 + _table(["species", "kmol/h", "mol % dry"], prows, "rw-table"))
+    parts.append(f"<p class='rw-small'>{html.escape(TRAIN_NOTE)}</p>")
     return "\n".join(parts)
 
 
@@ -159,6 +224,16 @@ def balance_csv(d: dict) -> str:
             w.writerow(["reaction", f"{r} {title}", val.replace(",", ""), ""])
     for k, v in d.get("element_closure", {}).items():
         w.writerow(["closure", f"element {k}", f"{v:.3e}", "1"])
+    stages = (d.get("train") or {}).get("stages") or []
+    if len(stages) > 1:
+        for label, unit, key, conv, dec in TRAIN_ROWS:
+            w.writerow(["train", label,
+                        display(lookup(d, key), conv, max(dec, 6)).replace(",", ""), unit])
+        for st in stages:
+            for title, key, conv, dec in STAGE_COLUMNS:
+                w.writerow(["stage", f"{st['label']}: {title}",
+                            display(lookup(st, key), conv, max(dec, 6)).replace(",", ""),
+                            title.rsplit(" ", 1)[-1]])
     return buf.getvalue()
 
 

@@ -13,7 +13,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from thermo import units
-from thermo.balances import Balance, adiabatic_temperature, reformer_balance
+from thermo.balances import Balance, adiabatic_temperature
 from thermo.constants import P_REF
 from thermo.errors import InputError
 from thermo.extent import REFORMING, SHIFT
@@ -28,6 +28,7 @@ from thermo.scenario import (
     parse_composition,
 )
 from thermo.species import GAS_SPECIES
+from thermo.train import TrainResult, train_balance
 
 
 @dataclass(frozen=True)
@@ -47,7 +48,10 @@ class PointResult:
     adiabatic : bool
         Whether `temperature` was solved for zero duty.
     balance : Balance
-        The balance arrays, one point long.
+        The primary reformer's balance arrays, one point long.
+    train : TrainResult
+        Every stage of the scenario's train (the primary alone if it names none), one point
+        long.
     """
 
     scenario: Scenario
@@ -56,6 +60,7 @@ class PointResult:
     approach: float
     adiabatic: bool
     balance: Balance
+    train: TrainResult
 
     def __getattr__(self, name: str):
         # Scalar view of the one-point balance: pt.h2_yield, pt.duty, ...
@@ -153,8 +158,50 @@ class PointResult:
                 },
             },
             "element_closure": {k: float(v[0]) for k, v in b.element_closure.items()},
+            "train": self._train_dict(),
         }
+        out["converged"] = bool(self.train.converged[0])
         return _strict(out)
+
+    def _train_dict(self) -> dict:
+        tr = self.train
+        stages = []
+        for st in tr.stages:
+            dry = st.outlet_flow[0].copy()
+            dry[GAS_SPECIES.index("H2O")] = 0.0
+            stages.append({
+                "name": st.name,
+                "label": st.label,
+                "inlet_temperature_K": float(st.inlet_temperature[0]),
+                "temperature_K": float(st.temperature[0]),
+                "equilibrium_temperature_K": float(st.equilibrium_temperature[0]),
+                "heat_before_W": float(st.heat_before[0]),
+                "duty_W": float(st.duty[0]),
+                "inlet_enthalpy_W": float(st.inlet_enthalpy[0]),
+                "outlet_enthalpy_W": float(st.outlet_enthalpy[0]),
+                "carbon_deposit_mol_per_s": float(st.carbon_deposit[0]),
+                "converged": bool(st.converged[0]),
+                "inlet_flow_mol_per_s": self.species(st.inlet_flow),
+                "added_flow_mol_per_s": self.species(st.added_flow),
+                "outlet_flow_mol_per_s": self.species(st.outlet_flow),
+                "outlet_mole_fraction_dry": self.species(dry[None, :] / dry.sum()),
+            })
+        dry = tr.product_flow[0].copy()
+        dry[GAS_SPECIES.index("H2O")] = 0.0
+        return {
+            "stages": stages,
+            "h2_product": float(tr.h2_product[0]),
+            "duty_W": float(tr.fired_duty[0]),
+            "heat_removed_W": float(tr.heat_removed[0]),
+            "methane_slip_dry": float(tr.methane_slip_dry[0]),
+            "carbon_deposit_mol_per_s": float(tr.carbon_deposit[0]),
+            "converged": bool(tr.converged[0]),
+            "product": {
+                "temperature_K": float(tr.product_temperature[0]),
+                "flow_mol_per_s": self.species(tr.product_flow),
+                "mole_fraction_dry": self.species(dry[None, :] / dry.sum()),
+            },
+        }
 
 
 def _strict(obj):
@@ -258,8 +305,13 @@ def point(
     sc = replace(sc, feed=f, temperature=T, pressure=P, approach=dT)
     n_in = f.inlet_flows()
     if adiabatic:
+        # The primary's own inlet: the pre-reformed gas when there is a pre-reformer (its
+        # outlet does not depend on the primary's temperature).
+        primary_in = train_balance(sc.train, n_in[None, :], max(T, 300.0 + dT), P,
+                                   f.inlet_temperature, dT).stages
+        primary_in = next(s for s in primary_in if s.name == "primary_reformer").inlet_flow[0]
         try:
-            T = adiabatic_temperature(n_in, P, f.inlet_temperature, dT)
+            T = adiabatic_temperature(primary_in, P, f.inlet_temperature, dT)
         except ValueError as err:
             raise InputError(
                 "adiabatic", True, f"a feed that can run adiabatically ({err})"
@@ -268,5 +320,5 @@ def point(
     if T - dT < 300.0:
         raise InputError("approach", f"{dT:g} K",
                          f"an approach that keeps T - approach at or above 300 K (T = {T:.2f} K)")
-    bal = reformer_balance(n_in[None, :], T, P, f.inlet_temperature, dT)
-    return PointResult(sc, float(T), float(P), float(dT), adiabatic, bal)
+    tr = train_balance(sc.train, n_in[None, :], T, P, f.inlet_temperature, dT)
+    return PointResult(sc, float(T), float(P), float(dT), adiabatic, tr.primary, tr)

@@ -26,13 +26,13 @@ from importlib import resources
 import numpy as np
 import xarray as xr
 
-from thermo.balances import reformer_balance
 from thermo.constants import P_REF
 from thermo.scenario import Limits, Scenario
 from thermo.species import GAS_SPECIES
+from thermo.train import train_balance
 
 #: Version of the Dataset layout; io.load refuses files of another version.
-SCHEMA_VERSION = "1"
+SCHEMA_VERSION = "2"
 #: Points solved per chunk (memory stays near 200 MB per chunk in flight).
 CHUNK_POINTS = 65_536
 
@@ -59,7 +59,17 @@ _VARIABLES: dict[str, tuple[str, str]] = {
     "K_reforming": ("1", "equilibrium constant of CH4 + H2O = CO + 3 H2 at T, 1 bar basis"),
     "approach_reforming": ("K", "T minus the temperature where K of reforming equals its Q"),
     "approach_shift": ("K", "temperature where K of shift equals its Q, minus T"),
-    "converged": ("1", "equilibrium solver converged"),
+    "h2_product": ("1", "H2 after the last stage of the train per hydrocarbon carbon fed "
+                   "(mol per mol)"),
+    "train_duty": ("W", "heat supplied to the train: primary reformer duty plus reheat of "
+                   "pre-reformed gas"),
+    "train_heat_removed": ("W", "heat removed by the coolers and shift stages (negative)"),
+    "train_methane_slip_dry": ("1", "methane slip after the last reforming stage, dry basis"),
+    "train_carbon_deposit": ("mol s-1", "graphite formed in all reforming stages"),
+    "product_flow": ("mol s-1", "gas after the last stage of the train"),
+    "prereformer_temperature": ("K", "adiabatic pre-reformer outlet temperature"),
+    "secondary_temperature": ("K", "adiabatic secondary reformer outlet temperature"),
+    "converged": ("1", "equilibrium solver converged (every stage of the train)"),
     "iterations": ("1", "equilibrium solver iterations"),
 }
 
@@ -68,7 +78,7 @@ _SCALARS = ("carbon_deposit", "carbon_activity", "h2_yield", "h2_potential",
             "methane_slip_dry", "methane_conversion", "h2_co_ratio", "duty",
             "extent_reforming", "extent_shift", "Q_reforming", "K_reforming",
             "approach_reforming", "approach_shift", "converged", "iterations")
-_PER_SPECIES = ("mole_fraction", "mole_fraction_dry", "outlet_flow")
+_PER_SPECIES = ("mole_fraction", "mole_fraction_dry", "outlet_flow", "product_flow")
 
 
 def window_axes(scenario: Scenario) -> dict[str, np.ndarray]:
@@ -103,12 +113,31 @@ def solve_chunk(scenario: Scenario, start: int, stop: int) -> dict[str, np.ndarr
     ratio_idx = tuple(idx[names.index(d)] for d in names if d in RATIO_AXES)
     n_in = inlet[ratio_idx]
     row = shape[-1] if start % shape[-1] == 0 else 1
-    bal = reformer_balance(n_in, T, P, scenario.feed.inlet_temperature, scenario.approach,
-                           row=row)
-    out = {k: getattr(bal, k) for k in _SCALARS + _PER_SPECIES}
+    return train_results(scenario, n_in, T, P, row=row)
+
+
+def train_results(scenario: Scenario, n_in, T, P, row: int = 1) -> dict[str, np.ndarray]:
+    """The Dataset's per-point variables at N points of a scenario (its feed temperature,
+    approach and train), flat arrays over the points; :func:`thermo.point` uses the same."""
+    tr = train_balance(scenario.train, n_in, T, P, scenario.feed.inlet_temperature,
+                       scenario.approach, row=row)
+    bal = tr.primary
+    out = {k: getattr(bal, k) for k in _SCALARS + _PER_SPECIES if k != "product_flow"}
     h2 = bal.outlet_flow[:, GAS_SPECIES.index("H2")]
     with np.errstate(divide="ignore", invalid="ignore"):
         out["duty_per_h2"] = np.where(h2 > 0, bal.duty / h2, np.nan)
+    out["converged"] = tr.converged
+    out["h2_product"] = tr.h2_product
+    out["train_duty"] = tr.fired_duty
+    out["train_heat_removed"] = tr.heat_removed
+    out["train_methane_slip_dry"] = tr.methane_slip_dry
+    out["train_carbon_deposit"] = tr.carbon_deposit
+    out["product_flow"] = tr.product_flow
+    for name, key in (("pre_reformer", "prereformer_temperature"),
+                      ("secondary_reformer", "secondary_temperature")):
+        st = tr.stage(name)
+        if st is not None:
+            out[key] = st.temperature
     return out
 
 
@@ -123,17 +152,30 @@ def _sources() -> str:
                      if k in ("GRI30", "TM4513", "IUPAC2021", "CODATA2018"))
 
 
+#: What each review limit is checked on: the train's figures (slip after the last reforming
+#: stage, H2 after the last stage, the heat supplied, graphite in any reforming stage). With
+#: no stages around the primary reformer they equal the primary's own.
+LIMIT_VARIABLES = {
+    "max_methane_slip_dry": "train_methane_slip_dry",
+    "min_h2_yield": "h2_product",
+    "max_duty": "train_duty",
+    "carbon_free": "train_carbon_deposit",
+}
+
+
 def feasible_mask(ds: xr.Dataset, limits) -> xr.DataArray:
-    """Points meeting every review limit of `limits` (a thermo.scenario.Limits)."""
+    """Points meeting every review limit of `limits` (a thermo.scenario.Limits), checked on
+    the variables of :data:`LIMIT_VARIABLES`."""
+    v = LIMIT_VARIABLES
     ok = ds["converged"].astype(bool)
     if limits.max_methane_slip_dry is not None:
-        ok = ok & (ds["methane_slip_dry"] <= limits.max_methane_slip_dry)
+        ok = ok & (ds[v["max_methane_slip_dry"]] <= limits.max_methane_slip_dry)
     if limits.carbon_free:
-        ok = ok & (ds["carbon_deposit"] <= 0.0)
+        ok = ok & (ds[v["carbon_free"]] <= 0.0)
     if limits.min_h2_yield is not None:
-        ok = ok & (ds["h2_yield"] >= limits.min_h2_yield)
+        ok = ok & (ds[v["min_h2_yield"]] >= limits.min_h2_yield)
     if limits.max_duty is not None:
-        ok = ok & (ds["duty"] <= limits.max_duty)
+        ok = ok & (ds[v["max_duty"]] <= limits.max_duty)
     ok.attrs = {"units": "1", "long_name": "all review limits met"}
     return ok
 
@@ -231,7 +273,8 @@ def assemble(scenario: Scenario, results: list[dict[str, np.ndarray]]) -> xr.Dat
     coords["species"] = np.array(GAS_SPECIES, dtype=object)
     ds = xr.Dataset(data_vars, coords=coords)
     for k, (u, ln) in _VARIABLES.items():
-        ds[k].attrs = {"units": u, "long_name": ln}
+        if k in ds:
+            ds[k].attrs = {"units": u, "long_name": ln}
     ds["converged"] = ds["converged"].astype(bool)
     ds["converged"].attrs = {"units": "1", "long_name": _VARIABLES["converged"][1]}
     coord_attrs = {
@@ -260,6 +303,7 @@ def assemble(scenario: Scenario, results: list[dict[str, np.ndarray]]) -> xr.Dat
         "hydrocarbon_carbon_mol_per_s": scenario.feed.carbon_flow(),
         "model": "ideal gas + pure graphite, Gibbs energy minimization (element potentials); "
                  "composition at T - approach, enthalpy at T",
+        "train": ", ".join(scenario.train.stages()),
         "created": datetime.now(UTC).isoformat(timespec="seconds"),
         "converged_fraction": float(ds["converged"].mean()),
     }

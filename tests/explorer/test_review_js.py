@@ -60,3 +60,43 @@ def test_general_formatting_matches_python(precision):
     want = [f"{v:.{precision}g}" for v in vals]
     bad = [(v, o, w) for v, o, w in zip(vals, out, want, strict=True) if o != w]
     assert not bad, bad[:5]
+
+
+@pytest.mark.skipif(NODE is None, reason="Node.js is not installed")
+def test_page_assembles_a_train_balance_as_the_core_does(tmp_path):
+    """The review file's script builds a clicked point's balance, the reforming train
+    included, from the embedded arrays; its tables equal the app's (thermo.point)."""
+    import thermo
+    from explorer import export
+    from explorer.tables import balance_html
+    from tests.explorer.helpers import table_cells
+    from tests.thermo.test_train import FULL_TRAIN
+    from thermo.scenario import parse_scenario
+
+    sc = parse_scenario(thermo.load_scenario().text + FULL_TRAIN).with_window(
+        temperature=("760 degC", "940 degC", 4), pressure=("15 bar", "35 bar", 3),
+        steam_to_carbon=(2.0, 4.0, 3))
+    ds = thermo.sweep(sc)
+    R = export._page_data(sc, ds)
+    data = {k: np.asarray(v).tolist() for k, v in export._points_source(ds, sc).data.items()}
+    flat = [0, 7, 20, 35]
+    js = resources.files("explorer").joinpath("review.js").read_text("utf-8")
+    script = (f"globalThis.window = {{__rwData: {json.dumps(R)}}};\n"
+              f"const pts = {{data: {json.dumps(data)}}};\n{js}\n"
+              f"console.log(JSON.stringify({json.dumps(flat)}.map((p) => "
+              "balanceHtml(assemble(p)))));")
+    file = tmp_path / "assemble.js"
+    file.write_text(script, "utf-8")
+    out = json.loads(subprocess.run([NODE, str(file)], capture_output=True, text=True,
+                                    timeout=60, check=True).stdout)
+    dims = list(ds["h2_yield"].dims)
+    shape = ds["h2_yield"].shape
+    for p, shown in zip(flat, out, strict=True):
+        g = ds.isel(dict(zip(dims, np.unravel_index(p, shape), strict=True)))
+        pt = thermo.point(sc, temperature=f"{float(g.temperature)!r} K",
+                          pressure=f"{float(g.pressure)!r} Pa",
+                          steam_to_carbon=float(g.steam_to_carbon))
+        want = table_cells(balance_html(pt.to_dict()))
+        got = table_cells(shown)
+        assert "Reforming train" in shown and "Low-temperature shift" in shown
+        assert got == want, p

@@ -292,3 +292,61 @@ def test_bad_train_keys_name_the_field(edit, field):
 
 def test_shift_stage_dataclass_defaults():
     assert ShiftStage(500.0).approach == 0.0
+
+
+# ------------------------------------------------------------------------------ train sweep
+
+@pytest.fixture(scope="module")
+def train_ds(full):
+    win = full.with_window(temperature=("750 degC", "950 degC", 5),
+                           pressure=("15 bar", "35 bar", 3), steam_to_carbon=(2.0, 4.5, 4))
+    return win, thermo.sweep(win)
+
+
+def test_train_grid_equals_point(train_ds):
+    """DESIGN.md: grid values equal point() at the same coordinates to 1e-9 relative."""
+    win, ds = train_ds
+    assert ds.attrs["train"] == ", ".join(win.train.stages())
+    rng = np.random.default_rng(7)
+    shape = ds["h2_product"].shape
+    for flat in rng.choice(int(np.prod(shape)), size=6, replace=False):
+        idx = dict(zip(ds["h2_product"].dims, np.unravel_index(int(flat), shape), strict=True))
+        g = ds.isel(idx)
+        pt = thermo.point(win, temperature=f"{float(g.temperature)!r} K",
+                          pressure=f"{float(g.pressure)!r} Pa",
+                          steam_to_carbon=float(g.steam_to_carbon))
+        d = pt.to_dict()["train"]
+        for var, got in (("h2_product", d["h2_product"]), ("train_duty", d["duty_W"]),
+                         ("train_heat_removed", d["heat_removed_W"]),
+                         ("train_methane_slip_dry", d["methane_slip_dry"]),
+                         ("secondary_temperature", d["stages"][2]["temperature_K"]),
+                         ("prereformer_temperature", d["stages"][0]["temperature_K"])):
+            np.testing.assert_allclose(float(g[var]), got, rtol=1e-9, err_msg=var)
+        np.testing.assert_allclose(g["product_flow"].values,
+                                   list(d["product"]["flow_mol_per_s"].values()), rtol=1e-9)
+
+
+def test_limits_apply_to_the_train(train_ds):
+    win, ds = train_ds
+    lim = win.limits
+    want = (ds["converged"] & (ds["train_methane_slip_dry"] <= lim.max_methane_slip_dry)
+            & (ds["train_carbon_deposit"] <= 0) & (ds["h2_product"] >= lim.min_h2_yield)
+            & (ds["train_duty"] <= lim.max_duty))
+    assert (ds["feasible"] == want).all()
+    # The secondary reformer burns down the primary's methane: slip after it is lower.
+    assert (ds["train_methane_slip_dry"] < ds["methane_slip_dry"]).all()
+    for var in ("h2_product", "train_duty", "product_flow", "secondary_temperature"):
+        assert ds[var].attrs["units"] and ds[var].attrs["long_name"]
+
+
+def test_no_train_gives_the_primary_figures():
+    sc = thermo.load_scenario().with_window(temperature=("800 degC", "900 degC", 3),
+                                            pressure=("20 bar", "30 bar", 2),
+                                            steam_to_carbon=(2.5, 3.5, 2))
+    ds = thermo.sweep(sc)
+    for a, b in (("h2_product", "h2_yield"), ("train_duty", "duty"),
+                 ("train_methane_slip_dry", "methane_slip_dry"),
+                 ("train_carbon_deposit", "carbon_deposit")):
+        np.testing.assert_array_equal(ds[a].values, ds[b].values)
+    np.testing.assert_array_equal(ds["product_flow"].values, ds["outlet_flow"].values)
+    assert "secondary_temperature" not in ds
