@@ -92,22 +92,42 @@ def _cmd_grid(args: argparse.Namespace) -> int:
     return 0
 
 
+def _load_proposal(path: str | None, base):
+    """The --compare scenario, moved onto the base's window (errors name --compare)."""
+    if path is None:
+        return None
+    import thermo
+    from thermo.compare import on_base_window
+
+    try:
+        return on_base_window(base, thermo.load_scenario(path))
+    except InputError as err:
+        raise InputError(f"--compare {path}: {err.field}", err.value, err.allowed) from None
+
+
 def _cmd_export(args: argparse.Namespace) -> int:
     import thermo
     from explorer.export import write_review
     from thermo.sweep import sweep
 
     sc = thermo.load_scenario(args.scenario)
+    proposal = _load_proposal(args.compare, sc)
     out = _output_path(args.output, ".html")
     _kernel_notice()
-    bar = _progress_bar(sc.window.size(), "solving window")
-    try:
-        ds = sweep(sc, progress=lambda done, total: bar.update(done - bar.n))
-    finally:
-        bar.close()
-    write_review(sc, out, ds)
+    runs = [("base" if proposal else "window", sc)] + ([("proposal", proposal)]
+                                                      if proposal else [])
+    grids = []
+    for what, scenario in runs:
+        bar = _progress_bar(scenario.window.size(), f"solving {what}")
+        try:
+            grids.append(sweep(scenario, progress=lambda done, total, b=bar: b.update(done - b.n)))
+        finally:
+            bar.close()
+    write_review(sc, out, grids[0], proposal=proposal,
+                 proposal_ds=grids[1] if proposal else None)
     size = out.stat().st_size / 1e6
-    print(f"wrote {out}: review file for {sc.window.size()} grid points, {size:.1f} MB, "
+    what = f"comparison with {args.compare}" if proposal else "review file"
+    print(f"wrote {out}: {what} for {sc.window.size()} grid points, {size:.1f} MB, "
           "works offline")
     return 0
 
@@ -136,8 +156,9 @@ def _cmd_serve(args: argparse.Namespace) -> int:
     import thermo
     from explorer.state import check_window_size
 
-    # Errors in the file show here, before serving.
+    # Errors in the files show here, before serving.
     sc = check_window_size(thermo.load_scenario(args.scenario))
+    proposal = _load_proposal(args.compare, sc)
     if not 1 <= args.port <= 65535:
         raise InputError("--port", args.port, "a port number from 1 to 65535")
     try:
@@ -158,7 +179,7 @@ def _cmd_serve(args: argparse.Namespace) -> int:
         origin.append(f"localhost:{args.port}")
     print(f"explorer: serving {sc.title!r} at http://{args.address}:{args.port}/ "
           "(Ctrl+C to stop)", file=sys.stderr, flush=True)
-    pn.serve({"/": lambda: build_app(sc)}, port=args.port, address=args.address,
+    pn.serve({"/": lambda: build_app(sc, proposal=proposal)}, port=args.port, address=args.address,
              websocket_origin=origin, show=False, title="Reformer window explorer",
              verbose=False)
     return 0
@@ -217,6 +238,9 @@ def build_parser() -> argparse.ArgumentParser:
     ex.add_argument("scenario", nargs="?", default=None,
                     help="scenario TOML file (default: the shipped demo)")
     ex.add_argument("-o", "--output", required=True, help="HTML file to write, e.g. review.html")
+    ex.add_argument("--compare", default=None, metavar="PROPOSAL",
+                    help="a proposal scenario to compare with SCENARIO (the base): maps of "
+                         "both and of the change, over the base's window")
     ex.set_defaults(func=_cmd_export)
 
     sv = sub.add_parser("serve", help="open the explorer in a browser (local server)")
@@ -225,6 +249,8 @@ def build_parser() -> argparse.ArgumentParser:
     sv.add_argument("--port", type=int, default=5006, help="port (default 5006)")
     sv.add_argument("--address", default="127.0.0.1",
                     help="address to bind (default 127.0.0.1: this machine only)")
+    sv.add_argument("--compare", default=None, metavar="PROPOSAL",
+                    help="open with a proposal scenario loaded for comparison")
     sv.set_defaults(func=_cmd_serve)
     return p
 

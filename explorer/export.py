@@ -38,8 +38,10 @@ from explorer.maps import (
     MODES,
     VARIABLES,
     axis_label,
+    change_variable,
     combine,
     map_figure,
+    nice_levels,
     slice_fields,
     variable_layers,
     variable_levels,
@@ -55,6 +57,7 @@ from explorer.tables import (
     TRAIN_NOTE,
     TRAIN_ROWS,
     balance_html,
+    compare_rows,
 )
 from thermo.balances import enthalpy_flow
 from thermo.constants import ELEMENTS, P_REF, T_REF, V_NORMAL
@@ -324,15 +327,13 @@ def _page_data(sc: Scenario, ds: xr.Dataset) -> dict:
         "conversions": {k: list(v) for k, v in CONVERSIONS.items()},
         "spec": {"summary": SUMMARY_ROWS, "energy": ENERGY_ROWS, "species": SPECIES_COLUMNS,
                  "reactions": REACTION_COLUMNS, "train": TRAIN_ROWS, "stage": STAGE_COLUMNS,
-                 "train_note": TRAIN_NOTE},
+                 "train_note": TRAIN_NOTE, "compare": compare_rows()},
         "train": _train_descriptor(sc),
     }
 
 
-def _train_descriptor(sc: Scenario) -> dict | None:
-    """What the page's script needs to know of the train (None without one)."""
-    if sc.train.empty:
-        return None
+def _train_descriptor(sc: Scenario) -> dict:
+    """What the page's script needs to know of the train (the primary alone without one)."""
     from thermo.scenario import STAGE_NAMES
 
     stages = [{"name": n, "label": STAGE_NAMES[n], "key": f"st{k}"}
@@ -397,50 +398,24 @@ def _points_source(ds: xr.Dataset, sc: Scenario | None = None):
     return ColumnDataSource(data, name="points")
 
 
-def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None) -> str:
-    """The review page as HTML text (see the module docstring)."""
-    pinned = list(pinned or [])
-    R = _page_data(sc, ds)
-    layers, common = all_layers(ds, sc.limits)
-    R["layers"] = layers
-    R["common"] = common
-    R["titles"] = {v: VARIABLES[v].title for v in EXPORT_VARIABLES}
-    dims = R["dims"]
+#: Variables of a comparison review file (base, proposal and change maps for each).
+COMPARE_VARIABLES = ("h2_product", "h2_yield", "train_methane_slip_dry", "methane_slip_dry",
+                     "train_duty", "carbon_activity", "dry:CO")
+
+
+def _fixed0(sc: Scenario, ds: xr.Dataset) -> dict[str, int]:
     fixed0 = {}
-    for d in dims:
+    for d in ds["h2_yield"].dims:
         if d == "temperature":
             continue
         target = sc.pressure if d == "pressure" else getattr(sc.feed, d)
         fixed0[d] = int(np.argmin(np.abs(ds[d].values - target)))
-    mode0 = "pressure"
-    x = ds.temperature.values - 273.15
-    figs, srcs, mappers = [], [], []
-    for i, v in enumerate(("h2_yield", "methane_slip_dry")):
-        var = VARIABLES[v]
-        levels = variable_levels(ds, var)
-        key = _key_text({d: j for d, j in fixed0.items() if d != mode0})
-        y = ds[mode0].values / 1e5
-        start = combine(layers[v][mode0][key], common[mode0][key])
-        fig, src, mapper = map_figure(var, mode0, levels, start, f"map-{i}",
-                                      (float(x.min()), float(x.max())),
-                                      (float(y.min()), float(y.max())), width=580, height=440)
-        figs.append(fig)
-        srcs.append(src)
-        mappers.append(mapper)
-    R["palettes"] = {v: mappers_palette(v, ds) for v in EXPORT_VARIABLES}
-    R["ranges"] = {
-        "pressure": [float(ds.pressure.min()) / 1e5, float(ds.pressure.max()) / 1e5],
-        "steam_to_carbon": [float(ds.steam_to_carbon.min()), float(ds.steam_to_carbon.max())],
-    }
-    R["axis_labels"] = {m: axis_label(m) for m in MODES}
-    R["hover"] = {v: [VARIABLES[v].label, VARIABLES[v].unit, VARIABLES[v].digits]
-                  for v in EXPORT_VARIABLES}
-    options = [(v, VARIABLES[v].title) for v in EXPORT_VARIABLES]
-    selects = [Select(title="Left map", value="h2_yield", options=options, width=280),
-               Select(title="Right map", value="methane_slip_dry", options=options, width=280)]
-    mode = RadioButtonGroup(labels=[MODES[m] for m in MODES], active=0)
+    return fixed0
+
+
+def _sliders(ds: xr.Dataset, fixed0: dict[str, int], mode0: str) -> dict[str, Slider]:
     sliders = {}
-    for d in dims:
+    for d in ds["h2_yield"].dims:
         if d == "temperature":
             continue
         n = ds.sizes[d]
@@ -452,6 +427,90 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None)
         sliders[d] = Slider(start=0, end=max(n - 1, 1), step=1, value=fixed0[d],
                             title=_AXIS_NAMES[d], format=fmt, width=330,
                             visible=(d != mode0), disabled=n < 2)
+    return sliders
+
+
+def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
+                 compare: tuple[Scenario, xr.Dataset] | None = None) -> str:
+    """The review page as HTML text (see the module docstring).
+
+    Parameters
+    ----------
+    sc, ds : Scenario, xarray.Dataset
+        The scenario (the base case when comparing) and its sweep.
+    pinned : list of dict, optional
+        Pinned points (PointResult.to_dict()).
+    compare : (Scenario, xarray.Dataset), optional
+        A proposal and its sweep over the same window (thermo.compare.on_base_window): the
+        page then maps base, proposal and their change side by side, and a click shows both
+        balances with the changes.
+    """
+    pinned = list(pinned or [])
+    R = _page_data(sc, ds)
+    fixed0 = _fixed0(sc, ds)
+    mode0 = "pressure"
+    key0 = _key_text({d: j for d, j in fixed0.items() if d != mode0})
+    x = ds.temperature.values - 273.15
+    y = ds[mode0].values / 1e5
+    x_range, y_range = (float(x.min()), float(x.max())), (float(y.min()), float(y.max()))
+    R["ranges"] = {
+        "pressure": [float(ds.pressure.min()) / 1e5, float(ds.pressure.max()) / 1e5],
+        "steam_to_carbon": [float(ds.steam_to_carbon.min()), float(ds.steam_to_carbon.max())],
+    }
+    R["axis_labels"] = {m: axis_label(m) for m in MODES}
+    figs, srcs, mappers = [], [], []
+    if compare is None:
+        variables = EXPORT_VARIABLES
+        layers, common = all_layers(ds, sc.limits)
+        R["layers"], R["common"] = layers, common
+        R["titles"] = {v: VARIABLES[v].title for v in variables}
+        R["palettes"] = {v: mappers_palette(v, ds) for v in variables}
+        for i, v in enumerate(("h2_yield", "methane_slip_dry")):
+            var = VARIABLES[v]
+            start = combine(layers[v][mode0][key0], common[mode0][key0])
+            fig, src, mapper = map_figure(var, mode0, variable_levels(ds, var), start,
+                                          f"map-{i}", x_range, y_range, width=580, height=440)
+            figs.append(fig)
+            srcs.append(src)
+            mappers.append(mapper)
+        options = [(v, VARIABLES[v].title) for v in variables]
+        selects = [Select(title="Left map", value="h2_yield", options=options, width=280),
+                   Select(title="Right map", value="methane_slip_dry", options=options,
+                          width=280)]
+        update_js, tap_js = _UPDATE_JS, _TAP_JS
+    else:
+        prop_sc, prop_ds = compare
+        variables = COMPARE_VARIABLES
+        panels = _comparison_layers(sc, ds, prop_sc, prop_ds, variables)
+        R["layers"], R["common"] = panels["base"], panels["base_common"]
+        R["cmp"] = {"layers": panels["proposal"], "common": panels["proposal_common"],
+                    "diff": panels["change"], "palettes": panels["palettes"],
+                    "diff_palettes": panels["change_palettes"]}
+        R["titles"] = {v: VARIABLES[v].title for v in variables}
+        R["proposal"] = _page_data(prop_sc, prop_ds)
+        prefixes = ["Base: ", "Proposal: ", "Change (proposal - base): "]
+        R["prefixes"] = prefixes
+        v0 = variables[0]
+        sets = [(panels["base"], panels["base_common"], panels["levels"][v0], VARIABLES[v0]),
+                (panels["proposal"], panels["proposal_common"], panels["levels"][v0],
+                 VARIABLES[v0]),
+                (panels["change"], panels["proposal_common"], panels["change_levels"][v0],
+                 change_variable(VARIABLES[v0]))]
+        for i, (lay, com, levels, var) in enumerate(sets):
+            start = combine(lay[v0][mode0][key0], com[mode0][key0])
+            fig, src, mapper = map_figure(var, mode0, levels, start, f"map-{i}", x_range,
+                                          y_range, width=580 if i < 2 else 620, height=420)
+            fig.title.text = prefixes[i] + var.title
+            figs.append(fig)
+            srcs.append(src)
+            mappers.append(mapper)
+        options = [(v, VARIABLES[v].title) for v in variables]
+        selects = [Select(title="Variable", value=v0, options=options, width=340)]
+        update_js, tap_js = _UPDATE_CMP_JS, _TAP_CMP_JS
+    R["hover"] = {v: [VARIABLES[v].label, VARIABLES[v].unit, VARIABLES[v].digits]
+                  for v in variables}
+    mode = RadioButtonGroup(labels=[MODES[m] for m in MODES], active=0)
+    sliders = _sliders(ds, fixed0, mode0)
     heading = Div(text="<p>Click a map to show the balance of the nearest grid point.</p>",
                   name="balance-heading", width=1150)
     balance = Div(text="", width=1150, stylesheets=[SHEET_CSS], name="balance-div")
@@ -459,9 +518,10 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None)
     hovers = [_hover(f) for f in figs]
     js_common = resources.files("explorer").joinpath("review.js").read_text("utf-8")
     args = dict(pts=pts, figs=figs, mappers=mappers, selects=selects, mode=mode,
-                sliders=sliders, hovers=hovers,
-                srcs=srcs)
-    update = CustomJS(args=args, code=js_common + _UPDATE_JS)
+                sliders=sliders, hovers=hovers, srcs=srcs)
+    if compare is not None:
+        args["pts2"] = _points_source(compare[1], compare[0])
+    update = CustomJS(args=args, code=js_common + update_js)
     for s in selects:
         s.js_on_change("value", update)
     mode.js_on_change("active", update)
@@ -469,22 +529,134 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None)
         s.js_on_change("value", update)
     for i, f in enumerate(figs):
         tap = CustomJS(args=dict(args, which=i, heading=heading, balance=balance),
-                       code=js_common + _TAP_JS)
+                       code=js_common + tap_js)
         f.js_on_event("tap", tap)
     controls = column(mode, row(*selects, *sliders.values()))
-    maps = column(controls, row(*figs), name="maps")
+    if compare is None:
+        maps = column(controls, row(*figs), name="maps")
+    else:
+        maps = column(controls, row(*figs[:2]), row(figs[2]), name="maps")
     bal = column(heading, balance, name="balance")
     now = datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC")
+    sheet = review_sheet_html(sc, ds, pinned)
+    title = sc.title
+    if compare is not None:
+        sheet = comparison_sheet_html(sc, ds, *compare) + sheet
+        title = f"{sc.title} compared with {compare[0].title}"
     return file_html(
-        [maps, bal], resources=INLINE, title=f"Review: {sc.title}", template=TEMPLATE,
+        [maps, bal], resources=INLINE, title=f"Review: {title}", template=TEMPLATE,
         template_variables={
-            "title": html.escape(sc.title), "description": html.escape(sc.description),
+            "title": html.escape(title), "description": html.escape(sc.description),
             "caution": html.escape(CAUTION), "created": now, "version": thermo.__version__,
-            "sheet": review_sheet_html(sc, ds, pinned), "sheet_css": SHEET_CSS,
+            "sheet": sheet, "sheet_css": SHEET_CSS,
             "data_json": json.dumps(R, separators=(",", ":"), allow_nan=False)
             .replace("</", "<\\/"),
         },
     )
+
+
+def shared_levels(datasets, var) -> np.ndarray:
+    """Contour levels of `var` spanning several Datasets (one colour, one value on all)."""
+    vals = np.concatenate([np.asarray(var.values(d), dtype=float).ravel() for d in datasets])
+    vals = vals[np.isfinite(vals)]
+    if vals.size == 0:
+        return np.array([0.0, 1.0])
+    return nice_levels(float(vals.min()), float(vals.max()))
+
+
+def change_levels(diff: xr.Dataset, var) -> np.ndarray:
+    """Levels of a change map, symmetric about zero (display units)."""
+    vals = np.asarray(var.values(diff), dtype=float)
+    vals = vals[np.isfinite(vals)]
+    m = float(np.abs(vals).max()) if vals.size else 0.0
+    # No change (or round-off only): a band of +-1e-6 display units, wide enough for the
+    # levels' 12-decimal rounding.
+    return nice_levels(-max(m, 1e-6), max(m, 1e-6), 10)
+
+
+def _comparison_layers(sc, ds, prop_sc, prop_ds, variables) -> dict:
+    """Every slice's layers of the base, the proposal and the change (proposal - base)."""
+    from thermo.compare import difference
+
+    diff = difference(ds, prop_ds)
+    levels = {v: shared_levels((ds, prop_ds), VARIABLES[v]) for v in variables}
+    ch_levels = {v: change_levels(diff, VARIABLES[v]) for v in variables}
+    out = {"base": {}, "proposal": {}, "change": {}, "base_common": {m: {} for m in MODES},
+           "proposal_common": {m: {} for m in MODES}, "levels": levels,
+           "change_levels": ch_levels}
+    for name in ("base", "proposal", "change"):
+        out[name] = {v: {m: {} for m in MODES} for v in variables}
+    for mode in MODES:
+        for fixed in _slice_keys(ds, mode):
+            key = _key_text(fixed)
+            sb = slice_fields(ds, mode, fixed)
+            sp = slice_fields(prop_ds, mode, fixed)
+            sd = _diff_slice(diff, mode, fixed)
+            out["base_common"][mode][key] = _round(window_layers(sb, mode, sc.limits), 4)
+            out["proposal_common"][mode][key] = _round(window_layers(sp, mode, prop_sc.limits),
+                                                       4)
+            for v in variables:
+                var = VARIABLES[v]
+                out["base"][v][mode][key] = _round(variable_layers(sb, var, mode, levels[v]), 4)
+                out["proposal"][v][mode][key] = _round(
+                    variable_layers(sp, var, mode, levels[v]), 4)
+                out["change"][v][mode][key] = _round(
+                    variable_layers(sd, change_variable(var), mode, ch_levels[v]), 4)
+    out["palettes"] = {v: _palette_of(VARIABLES[v], levels[v]) for v in variables}
+    out["change_palettes"] = {v: _palette_of(change_variable(VARIABLES[v]), ch_levels[v])
+                              for v in variables}
+    return out
+
+
+def _diff_slice(diff: xr.Dataset, mode: str, fixed: dict[str, int]) -> xr.Dataset:
+    sel = {d: i for d, i in fixed.items() if d in diff.dims and d not in (mode, "temperature")}
+    return diff.isel(sel).transpose(mode, "temperature", ...)
+
+
+def _palette_of(var, levels) -> dict:
+    from explorer.maps import _band_colours
+
+    return {"palette": _band_colours(var, len(levels) - 1), "low": float(levels[0]),
+            "high": float(levels[-1])}
+
+
+def comparison_sheet_html(sc: Scenario, ds: xr.Dataset, prop_sc: Scenario,
+                          prop_ds: xr.Dataset) -> str:
+    """What changes from the base to the proposal: both scenarios, their windows, and both
+    at the base's design point."""
+    from explorer.tables import compare_point_html
+
+    fb, fp = int(ds["feasible"].sum()), int(prop_ds["feasible"].sum())
+    size = ds["feasible"].size
+    kw = {"temperature": f"{sc.temperature!r} K", "pressure": f"{sc.pressure!r} Pa",
+          "steam_to_carbon": sc.feed.steam_to_carbon}
+    for d in ("oxygen_to_carbon", "co2_to_carbon"):
+        if d in ds.dims:
+            kw[d] = getattr(sc.feed, d)
+    a = thermo.point(sc, **kw).to_dict()
+    b = thermo.point(prop_sc, **kw).to_dict()
+    return "\n".join([
+        "<h2>Comparison: base and proposal</h2>",
+        f"<p><b>Base:</b> {html.escape(sc.title)}<br><b>Proposal:</b> "
+        f"{html.escape(prop_sc.title)}</p>",
+        "<p>The proposal is solved over the base's window, so every grid point has both "
+        "answers; change maps show proposal minus base, in the variable's unit. Each map "
+        "shows its own scenario's carbon boundary and feasible window (the change map, the "
+        "proposal's).</p>",
+        f"<p>Grid points within every review limit: base {fb:,} of {size:,}, proposal "
+        f"{fp:,} of {size:,} (each against its own limits).</p>",
+        f"<h3>Both at the base design point ({sc.temperature - 273.15:.1f} degC, "
+        f"{sc.pressure / 1e5:.3f} bar abs, S/C {sc.feed.steam_to_carbon:g})</h3>",
+        compare_point_html(a, b),
+        "<h3>Proposal: resulting window</h3>",
+        "<p>Feasible outlet temperatures [degC] of the proposal at each pressure and "
+        "steam-to-carbon:</p>",
+        feasible_ranges_html(prop_ds),
+        "<h3>Proposal: review limits</h3>", _pairs_table(_limits_text(prop_sc)),
+        "<h3>Proposal: scenario file</h3>",
+        f'<pre class="rw-notes">{html.escape(prop_sc.to_toml())}</pre>',
+        "<h2>Base case</h2>",
+    ])
 
 
 def _hover(fig):
@@ -561,6 +733,72 @@ for (let f = 0; f < 2; f++) srcs[f].selected.data = {x: [T[i]], y: [Y[j]], alpha
 """
 
 
+_UPDATE_CMP_JS = """
+const m = mode.active === 0 ? "pressure" : "steam_to_carbon";
+const key = [];
+for (const d of R.dims) {
+  if (d === "temperature" || !(d in sliders)) continue;
+  const s = sliders[d];
+  s.visible = d !== m;
+  if (d !== m) key.push(`${d}=${s.value}`);
+}
+const k = key.join("|");
+const v = selects[0].value;
+const sets = [[R.layers, R.common, R.cmp.palettes], [R.cmp.layers, R.cmp.common, R.cmp.palettes],
+              [R.cmp.diff, R.cmp.common, R.cmp.diff_palettes]];
+for (let i = 0; i < 3; i++) {
+  const [layers, common, palettes] = sets[i];
+  const L = layers[v][m][k];
+  const C = common[m][k];
+  for (const name of ["bands", "lines", "labels"]) srcs[i][name].data = L[name];
+  for (const name of ["carbon", "infeasible", "edge"]) srcs[i][name].data = C[name];
+  srcs[i].nodes.data = Object.assign({}, C.nodes, {value: L.values});
+  const pal = palettes[v];
+  mappers[i].palette = pal.palette;
+  mappers[i].low = pal.low;
+  mappers[i].high = pal.high;
+  figs[i].title.text = R.prefixes[i] + R.titles[v];
+  figs[i].y_range.start = R.ranges[m][0];
+  figs[i].y_range.end = R.ranges[m][1];
+  figs[i].yaxis[0].axis_label = R.axis_labels[m];
+  const [label, unit, digits] = R.hover[v];
+  const dg = digits + (i === 2 ? 1 : 0);
+  hovers[i].tooltips = [["temperature", "@x{0.0} degC"],
+    m === "pressure" ? ["pressure", "@y{0.00} bar abs"] : ["steam-to-carbon", "@y{0.00}"],
+    [(i === 2 ? "change in " : "") + label,
+     "@value{0." + "0".repeat(Math.max(dg, 1)) + "} " + unit],
+    ["within all limits", "@feasible"], ["carbon at equilibrium", "@carbon"]];
+  srcs[i].selected.data = {x: [], y: [], alpha: []};
+}
+"""
+
+_TAP_CMP_JS = """
+const m = mode.active === 0 ? "pressure" : "steam_to_carbon";
+const x = cb_obj.x, y = cb_obj.y;
+const T = R.axes.temperature.map((t) => t - 273.15);
+const Y = R.axes[m].map((v) => (m === "pressure" ? v / 1e5 : v));
+let i = 0, j = 0;
+for (let a = 0; a < T.length; a++) if (Math.abs(T[a] - x) < Math.abs(T[i] - x)) i = a;
+for (let b = 0; b < Y.length; b++) if (Math.abs(Y[b] - y) < Math.abs(Y[j] - y)) j = b;
+const idx = {};
+for (const d of R.dims) if (d in sliders) idx[d] = sliders[d].value;
+idx.temperature = i;
+idx[m] = j;
+const p = flatIndex(idx);
+const a = assemble(p);
+const b = assemble(p, R.proposal, pts2);
+let head = `<p><b>${pyFixed(a.temperature_K - 273.15, 1)} degC, ` +
+  `${pyFixed(a.pressure_Pa / 1e5, 3)} bar abs, S/C ${pyG(a.steam_to_carbon, 3)}</b>`;
+if (a.oxygen_to_carbon) head += `, O2/C ${pyG(a.oxygen_to_carbon, 3)}`;
+if (a.co2_to_carbon) head += `, CO2/C ${pyG(a.co2_to_carbon, 3)}`;
+head += ` (grid point ${p}): base, proposal and the change</p>`;
+heading.text = head;
+balance.text = compareHtml(a, b) + "<h3>Base case</h3>" + balanceHtml(a) +
+  "<h3>Proposal</h3>" + balanceHtml(b);
+for (let f = 0; f < 3; f++) srcs[f].selected.data = {x: [T[i]], y: [Y[j]], alpha: [1.0]};
+"""
+
+
 class _LinkFinder(HTMLParser):
     """Collects src/href attributes of tags (script and style contents are raw text)."""
 
@@ -589,7 +827,8 @@ def check_offline(text: str) -> None:
 
 
 def write_review(sc: Scenario, path: str | os.PathLike, ds: xr.Dataset | None = None,
-                 pinned: list[dict] | None = None) -> Path:
+                 pinned: list[dict] | None = None, proposal: Scenario | None = None,
+                 proposal_ds: xr.Dataset | None = None) -> Path:
     """Write the review file atomically (temporary name, then rename).
 
     Parameters
@@ -602,13 +841,25 @@ def write_review(sc: Scenario, path: str | os.PathLike, ds: xr.Dataset | None = 
         Its sweep; computed if None.
     pinned : list of dict, optional
         Pinned points (PointResult.to_dict()) to list with their balances.
+    proposal : Scenario, optional
+        A proposal to compare with `sc` (the base); it is solved over the base's window.
+    proposal_ds : xarray.Dataset, optional
+        Its sweep over the base's window; computed if None.
     """
     path = Path(path)
     if not path.parent.is_dir():
         raise InputError("-o", str(path), "a file in an existing folder")
     if ds is None:
         ds = thermo.sweep(sc)
-    text = build_review(sc, ds, pinned)
+    compare = None
+    if proposal is not None:
+        from thermo.compare import on_base_window
+
+        proposal = on_base_window(sc, proposal)
+        if proposal_ds is None:
+            proposal_ds = thermo.sweep(proposal)
+        compare = (proposal, proposal_ds)
+    text = build_review(sc, ds, pinned, compare)
     check_offline(text)
     with atomic_target(path, "-o") as tmp:
         tmp.write_text(text, encoding="utf-8")
@@ -616,7 +867,8 @@ def write_review(sc: Scenario, path: str | os.PathLike, ds: xr.Dataset | None = 
 
 
 def main(argv: list[str] | None = None) -> int:
-    """``python -m explorer.export --scenario S.toml [--grid G.nc] [--pinned P.json] -o F``.
+    """``python -m explorer.export --scenario S.toml [--grid G.nc] [--pinned P.json]
+    [--compare PROPOSAL.toml [--compare-grid G2.nc]] -o F``.
 
     The app's export button runs this in a fresh process (see the module docstring).
     """
@@ -624,17 +876,19 @@ def main(argv: list[str] | None = None) -> int:
     p.add_argument("--scenario", required=True)
     p.add_argument("--grid", default=None)
     p.add_argument("--pinned", default=None)
+    p.add_argument("--compare", default=None, help="proposal scenario file")
+    p.add_argument("--compare-grid", default=None, help="its sweep over the base window")
     p.add_argument("-o", "--output", required=True)
     a = p.parse_args(argv)
     try:
-        sc = thermo.load_scenario(a.scenario)
-        ds = None
-        if a.grid:
-            from thermo import io
+        from thermo import io
 
-            ds = io.load(a.grid)
+        sc = thermo.load_scenario(a.scenario)
+        ds = io.load(a.grid) if a.grid else None
         pinned = json.loads(Path(a.pinned).read_text("utf-8")) if a.pinned else []
-        write_review(sc, a.output, ds, pinned)
+        proposal = thermo.load_scenario(a.compare) if a.compare else None
+        proposal_ds = io.load(a.compare_grid) if a.compare_grid else None
+        write_review(sc, a.output, ds, pinned, proposal, proposal_ds)
     except InputError as err:
         print(f"explorer: error: {err}", file=sys.stderr)
         return 2

@@ -31,7 +31,7 @@ from bokeh.models import (
     LegendItem,
     LinearColorMapper,
 )
-from bokeh.palettes import Cividis256, Inferno256, Viridis256
+from bokeh.palettes import Cividis256, Inferno256, RdBu11, Viridis256, interp_palette
 from bokeh.plotting import figure
 
 from thermo.species import GAS_SPECIES
@@ -103,6 +103,16 @@ def _variables() -> dict[str, Variable]:
 
 
 VARIABLES: dict[str, Variable] = _variables()
+
+#: Diverging colours of change maps: red where the proposal is lower, blue where higher.
+CHANGE_PALETTE = tuple(interp_palette(tuple(reversed(RdBu11)), 256))
+
+
+def change_variable(var: Variable) -> Variable:
+    """The change (proposal - base) of a map variable: same key, label and unit, a
+    diverging palette, and one more decimal."""
+    return Variable(var.key, var.label, var.unit,
+                    var.scale, CHANGE_PALETTE, var.digits + 1)
 
 
 def nice_levels(lo: float, hi: float, n: int = 10) -> np.ndarray:

@@ -101,6 +101,38 @@ def point_report(pt: PointResult) -> str:
     add("")
     cl = d["element_closure"]
     add("Element closure |out - in| / in:  " + "  ".join(f"{k} {v:.1e}" for k, v in cl.items()))
+    lines += _train_lines(d)
     add("")
     add("Caution: " + CAUTION)
     return "\n".join(lines)
+
+
+def _train_lines(d: dict) -> list[str]:
+    """The reforming train, stage by stage (nothing when the scenario names no stage)."""
+    tr = d.get("train") or {}
+    stages = tr.get("stages") or []
+    if len(stages) < 2:
+        return []
+    mw = units.MW_from_W
+    kmolh = units.kmol_per_h_from_mol_per_s
+    out = ["", "Reforming train (every stage at the outlet pressure)"]
+    head = (f"  {'stage':<32}{'gas in degC':>12}{'out degC':>10}{'heat before MW':>16}"
+            f"{'duty MW':>10}{'H2 kmol/h':>12}{'CH4 dry%':>10}{'CO dry%':>10}")
+    out.append(head)
+    for st in stages:
+        xd = st["outlet_mole_fraction_dry"]
+        duty = mw(st["duty_W"])
+        out.append(
+            f"  {st['label']:<32}{units.degC_from_K(st['inlet_temperature_K']):>12.1f}"
+            f"{_num(units.degC_from_K(st['temperature_K']), '.1f'):>10}"
+            f"{mw(st['heat_before_W']):>16.3f}{0.0 if abs(duty) < 5e-4 else duty:>10.3f}"
+            f"{kmolh(st['outlet_flow_mol_per_s']['H2']):>12.2f}"
+            f"{100 * xd['CH4']:>10.3f}{100 * xd['CO']:>10.3f}")
+    out.append(f"  H2 product            {tr['h2_product']:.4f} mol H2 per mol hydrocarbon C "
+               f"({kmolh(tr['product']['flow_mol_per_s']['H2']):.2f} kmol/h)")
+    out.append(f"  heat supplied         {mw(tr['duty_W']):.3f} MW (primary + reheat of "
+               "pre-reformed gas)")
+    out.append(f"  heat removed          {mw(tr['heat_removed_W']):.3f} MW (coolers and shift)")
+    out.append(f"  methane slip          {100 * tr['methane_slip_dry']:.3f} mol% dry after the "
+               "last reformer")
+    return out

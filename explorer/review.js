@@ -105,16 +105,17 @@ function ratioIndex(idx) {
   return r;
 }
 
-function assemble(p) {
+function assemble(p, D = R, Q = pts) {
+  // D: the page data of a scenario (R, or D.proposal); Q: its points source.
   // The balance of flat grid point p, with the key paths of PointResult.to_dict().
-  const P = pts.data;
+  const P = Q.data;
   const idx = unravel(p);
-  const T = R.axes.temperature[idx.temperature];
-  const Pa = R.axes.pressure[idx.pressure];
+  const T = D.axes.temperature[idx.temperature];
+  const Pa = D.axes.pressure[idx.pressure];
   const r = ratioIndex(idx);
-  const feed = R.inlet_flow.slice(r * NS, (r + 1) * NS);
+  const feed = D.inlet_flow.slice(r * NS, (r + 1) * NS);
   // With a pre-reformer, the primary's inlet is its gas (embedded per point).
-  const pre = R.train && R.train.pre;
+  const pre = D.train && D.train.pre;
   const nin = pre ? S.map((s) => P[`${pre}_n_${s}`][p]) : feed;
   const nout = [];
   for (let j = 0; j < NS; j++) nout.push(P["n_" + S[j]][p]);
@@ -129,12 +130,12 @@ function assemble(p) {
   const get = (n, s) => n[S.indexOf(s)];
   const h2 = get(nout, "H2"), co = get(nout, "CO");
   const duty = P.duty[p];
-  const hin = pre ? P.primary_hin[p] : R.inlet_enthalpy[r];
-  const lnP = Math.log(Pa / R.standard_pressure);
+  const hin = pre ? P.primary_hin[p] : D.inlet_enthalpy[r];
+  const lnP = Math.log(Pa / D.standard_pressure);
   const lx = (s) => Math.log(x[S.indexOf(s)]);
   const qRef = Math.exp(lx("CO") + 3 * lx("H2") - lx("CH4") - lx("H2O") + 2 * lnP);
   const qShift = Math.exp(lx("CO2") + lx("H2") - lx("CO") - lx("H2O"));
-  const elem = R.elements;  // {C: [atoms per species], ...}
+  const elem = D.elements;  // {C: [atoms per species], ...}
   const closure = {};
   for (const e of ["C", "H", "O", "N"]) {
     let bi = 0, bo = 0;
@@ -144,16 +145,16 @@ function assemble(p) {
   }
   const ratios = {steam_to_carbon: null, oxygen_to_carbon: 0, co2_to_carbon: 0};
   for (const k of Object.keys(ratios)) {
-    if (k in idx) ratios[k] = R.axes[k][idx[k]];
-    else if (k in R.fixed_ratios) ratios[k] = R.fixed_ratios[k];
+    if (k in idx) ratios[k] = D.axes[k][idx[k]];
+    else if (k in D.fixed_ratios) ratios[k] = D.fixed_ratios[k];
   }
   const d = {
     temperature_K: T, pressure_Pa: Pa,
-    equilibrium_temperature_K: T - R.approach_K,
+    equilibrium_temperature_K: T - D.approach_K,
     steam_to_carbon: ratios.steam_to_carbon, oxygen_to_carbon: ratios.oxygen_to_carbon,
-    co2_to_carbon: ratios.co2_to_carbon, approach_K: R.approach_K,
+    co2_to_carbon: ratios.co2_to_carbon, approach_K: D.approach_K,
     converged: P.converged[p] > 0,
-    inlet: {temperature_K: R.inlet_temperature_K, flow_mol_per_s: byName(nin),
+    inlet: {temperature_K: D.inlet_temperature_K, flow_mol_per_s: byName(nin),
             mass_flow_kg_per_s: byName(nin.map((n, j) => n * MW[j])), enthalpy_W: hin},
     outlet: {temperature_K: T, flow_mol_per_s: byName(nout),
              mass_flow_kg_per_s: byName(nout.map((n, j) => n * MW[j])),
@@ -170,19 +171,19 @@ function assemble(p) {
       shift: get(nout, "CO2") - get(nin, "CO2"),
     },
     reactions: {
-      reforming: {equation: R.equations.reforming, K: R.K_reforming[idx.temperature], Q: qRef,
-                  approach_K: P.approach_reforming[p], heat_298_J_per_mol: R.heat_298.reforming,
-                  heat_J_per_mol: R.heat_T.reforming[idx.temperature]},
-      shift: {equation: R.equations.shift, K: R.K_shift[idx.temperature], Q: qShift,
-              approach_K: P.approach_shift[p], heat_298_J_per_mol: R.heat_298.shift,
-              heat_J_per_mol: R.heat_T.shift[idx.temperature]},
+      reforming: {equation: D.equations.reforming, K: D.K_reforming[idx.temperature], Q: qRef,
+                  approach_K: P.approach_reforming[p], heat_298_J_per_mol: D.heat_298.reforming,
+                  heat_J_per_mol: D.heat_T.reforming[idx.temperature]},
+      shift: {equation: D.equations.shift, K: D.K_shift[idx.temperature], Q: qShift,
+              approach_K: P.approach_shift[p], heat_298_J_per_mol: D.heat_298.shift,
+              heat_J_per_mol: D.heat_T.shift[idx.temperature]},
     },
     element_closure: closure,
   };
-  if (R.train) {
+  if (D.train) {
     const heatBefore = pre ? P.primary_heat_before[p] : 0;
-    d.train = assembleTrain(p, d, cin, nout, carbon, T, R.inlet_temperature_K, duty, hin,
-                            heatBefore);
+    d.train = assembleTrain(p, d, cin, nout, carbon, T, D.inlet_temperature_K, duty, hin,
+                            heatBefore, D, Q);
     d.converged = d.train.converged;
   }
   return d;
@@ -246,18 +247,19 @@ function dryFractions(n) {
   return n.map((v, j) => (j === iw ? 0 : v / dry));
 }
 
-function assembleTrain(p, primary, cin, nout, carbon, Tk, Tin, duty, hin, heatBefore) {
+function assembleTrain(p, primary, cin, nout, carbon, Tk, Tin, duty, hin, heatBefore,
+                       D, Q) {
   // The train of flat grid point p (PointResult.to_dict()["train"]) from the stage arrays
   // embedded in pts (st<k>_...) and the primary's own numbers.
-  const P = pts.data;
+  const P = Q.data;
   const stages = [];
   let carbonAll = 0, removed = 0, slip = null, product = null, productT = null;
   let conv = P.converged[p] > 0;
-  for (const st of R.train.stages) {
+  for (const st of D.train.stages) {
     let s;
     if (st.name === "primary_reformer") {
       s = {name: st.name, label: st.label, inlet_temperature_K: Tin, temperature_K: Tk,
-           equilibrium_temperature_K: Tk - R.approach_K, heat_before_W: heatBefore,
+           equilibrium_temperature_K: Tk - D.approach_K, heat_before_W: heatBefore,
            duty_W: duty, inlet_enthalpy_W: hin, outlet_enthalpy_W: hin + duty,
            carbon_deposit_mol_per_s: carbon, converged: primary.converged,
            inlet_flow_mol_per_s: primary.inlet.flow_mol_per_s,
@@ -287,4 +289,41 @@ function assembleTrain(p, primary, cin, nout, carbon, Tk, Tin, duty, hin, heatBe
     product: {temperature_K: productT, flow_mol_per_s: byName(product),
               mole_fraction_dry: byName(dryFractions(product))},
   };
+}
+
+function changeText(a, b, conv, decimals) {
+  // explorer.tables.change: b - a in display units (scale only, no offset).
+  if (a === null || a === undefined || b === null || b === undefined ||
+      !Number.isFinite(a) || !Number.isFinite(b)) return "-";
+  const v = (b - a) * R.conversions[conv][0];
+  if (decimals < 0) {
+    const t = pyG(v, -decimals);
+    return t.startsWith("-") ? t : "+" + t;
+  }
+  let t = pyFixed(v, decimals);
+  if (/^-?[0.,]*$/.test(t)) return t.replace(/^-/, "");
+  return t.startsWith("-") ? t : "+" + t;
+}
+
+function compareHtml(a, b) {
+  // explorer.tables.compare_point_html
+  const rows = [];
+  for (const [label, unit, key, conv, dec] of R.spec.compare) {
+    const x = lookup(a, key), y = lookup(b, key);
+    if (x === null && y === null) continue;
+    rows.push([label, unit, display(x, conv, dec), display(y, conv, dec),
+               changeText(x, y, conv, dec)]);
+  }
+  for (const s of ["H2", "CO", "CO2", "CH4"]) {
+    const key = `train.product.flow_mol_per_s.${s}`;
+    const x = lookup(a, key), y = lookup(b, key);
+    rows.push([`${s} in the product gas`, "kmol/h", display(x, "kmolh", 2),
+               display(y, "kmolh", 2), changeText(x, y, "kmolh", 2)]);
+  }
+  let warn = "";
+  if (!(a.converged && b.converged)) {
+    warn = '<p class="rw-warn">One of the two did not converge at this point: the change ' +
+           "is not reliable.</p>";
+  }
+  return warn + table(["quantity", "unit", "base", "proposal", "change"], rows);
 }

@@ -237,6 +237,46 @@ def balance_csv(d: dict) -> str:
     return buf.getvalue()
 
 
+#: Rows of the base-versus-proposal table at one point.
+def compare_rows() -> list[tuple[str, str, str, str, int]]:
+    """Rows of the base-versus-proposal table: summary, energy and train rows."""
+    return SUMMARY_ROWS + ENERGY_ROWS[2:] + TRAIN_ROWS
+
+
+def change(a, b, conversion: str, decimals: int) -> str:
+    """b - a in display units (a scale, never an offset: a change of degC is in K)."""
+    if a is None or b is None or not (math.isfinite(a) and math.isfinite(b)):
+        return "-"
+    scale, _ = CONVERSIONS[conversion]
+    v = (b - a) * scale
+    if decimals < 0:
+        return f"{v:+.{-decimals}g}"
+    text = f"{v:+,.{decimals}f}"
+    return "0" + text[2:] if not text.strip("+-0.,") else text
+
+
+def compare_point_html(base: dict, proposal: dict) -> str:
+    """Base and proposal at one point side by side, with the change (proposal - base)."""
+    rows = []
+    for label, unit, key, conv, dec in compare_rows():
+        a, b = lookup(base, key), lookup(proposal, key)
+        if a is None and b is None:
+            continue
+        rows.append([label, unit, display(a, conv, dec), display(b, conv, dec),
+                     change(a, b, conv, dec)])
+    for s in ("H2", "CO", "CO2", "CH4"):
+        key = f"train.product.flow_mol_per_s.{s}"
+        a, b = lookup(base, key), lookup(proposal, key)
+        rows.append([f"{s} in the product gas", "kmol/h", display(a, "kmolh", 2),
+                     display(b, "kmolh", 2), change(a, b, "kmolh", 2)])
+    warn = ""
+    if not (base.get("converged", True) and proposal.get("converged", True)):
+        warn = ('<p class="rw-warn">One of the two did not converge at this point: the '
+                "change is not reliable.</p>")
+    return warn + _table(["quantity", "unit", "base", "proposal", "change"], rows,
+                         "rw-table rw-compare")
+
+
 def comparison_html(points: list[dict]) -> str:
     """Pinned points side by side: one column per point, the summary and energy rows."""
     if not points:

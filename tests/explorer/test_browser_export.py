@@ -7,6 +7,7 @@ import subprocess
 import sys
 import time
 
+import numpy as np
 import pytest
 
 import thermo
@@ -121,3 +122,66 @@ def test_review_sheet_carries_inputs_notes_limits_and_cautions(review):
                    "Reviewed with the process safety lead", "toxic carbon monoxide",
                    "licensed engineering practice", "GRI-Mech 3.0", "ideal-gas mixture"):
         assert needle in text, needle
+
+
+@pytest.fixture(scope="module")
+def comparison(tmp_path_factory):
+    """A comparison review file written as the CLI writes it (fresh process): the small
+    demo window as the base, and a proposal that adds the whole reforming train."""
+    from tests.thermo.test_train import FULL_TRAIN
+    from thermo.scenario import parse_scenario
+
+    base = small_scenario()
+    proposal = parse_scenario(thermo.load_scenario().text.replace(
+        'title = "', 'title = "Proposal with train: ') + FULL_TRAIN)
+    folder = tmp_path_factory.mktemp("compare")
+    (folder / "base.toml").write_text(base.to_toml(), "utf-8")
+    (folder / "proposal.toml").write_text(proposal.to_toml(), "utf-8")
+    path = folder / "compare.html"
+    proc = subprocess.run([sys.executable, "-m", "explorer.export", "--scenario",
+                           str(folder / "base.toml"), "--compare", str(folder / "proposal.toml"),
+                           "-o", str(path)], capture_output=True, text=True, timeout=300)
+    assert proc.returncode == 0, proc.stderr
+    from thermo.compare import on_base_window
+
+    return base, on_base_window(base, proposal), path
+
+
+def test_comparison_file_maps_base_proposal_and_change_and_click_shows_both(page,
+                                                                            comparison,
+                                                                            artifacts):
+    from explorer.tables import compare_point_html
+
+    base, proposal, path = comparison
+    requests, errors = _open(page, path)
+    assert requests == []
+    titles = [page.evaluate(f"() => Bokeh.documents[0].get_model_by_name('map-{i}')"
+                            ".title.text") for i in range(3)]
+    assert titles[0].startswith("Base: H2 product")
+    assert titles[1].startswith("Proposal: H2 product")
+    assert titles[2].startswith("Change (proposal - base): H2 product")
+    _click(page, "map-2", 850.0, 20.0)
+    page.wait_for_function("() => Bokeh.documents[0].get_model_by_name('balance-div')"
+                           ".text.includes('Proposal')", timeout=10000)
+    shown = _model_text(page, "balance-div")
+    kw = dict(temperature="850 degC", pressure="20 bar", steam_to_carbon=3.0)
+    a = thermo.point(base, **kw).to_dict()
+    b = thermo.point(proposal, **kw).to_dict()
+    want = table_cells(compare_point_html(a, b) + balance_html(a) + balance_html(b))
+    assert table_cells(shown) == want
+    assert "Low-temperature shift" in shown
+    page.screenshot(path=str(artifacts / "review-comparison.png"), full_page=True)
+    assert errors == []
+
+
+def test_comparison_change_map_is_the_difference_of_the_two_grids(page, comparison):
+    """The hover values of the change map's nodes equal proposal minus base (node values
+    carry 6 significant digits in the file)."""
+    base, proposal, path = comparison
+    _open(page, path)
+    values = page.evaluate("""() => [0, 1, 2].map((i) => Bokeh.documents[0]
+        .get_model_by_name(`map-${i}`).renderers.find((r) => r.data_source.data.value)
+        .data_source.data.value)""")
+    b, p, d = (np.array(v, dtype=float) for v in values)
+    np.testing.assert_allclose(d, p - b, rtol=1e-5, atol=1e-5 * np.abs(b).max())
+    assert np.abs(d).max() > 0.1  # the train adds real H2 (shift): not a zero map
