@@ -25,10 +25,13 @@ from explorer import CAUTION
 from explorer.maps import (
     MODES,
     VARIABLES,
+    change_levels,
+    change_variable,
     combine,
     empty_layers,
     map_figure,
     restyle_figure,
+    shared_levels,
     slice_fields,
     slice_layers,
     variable_layers,
@@ -36,7 +39,7 @@ from explorer.maps import (
     window_layers,
 )
 from explorer.state import ExplorerState, check_window_size
-from explorer.tables import balance_csv, balance_html, comparison_html
+from explorer.tables import balance_csv, balance_html, compare_point_html, comparison_html
 from thermo import io as grid_io
 from thermo.errors import InputError
 from thermo.scenario import DEMO_PATH, Scenario, parse_scenario
@@ -132,7 +135,40 @@ class ScenarioForm:
         ("max_slip", "Max methane slip, dry", "limits.max_methane_slip_dry"),
         ("min_yield", "Min H2 yield (mol/mol C)", "limits.min_h2_yield"),
         ("max_duty", "Max duty", "limits.max_duty"),
+        ("pre_inlet", "Pre-reformer inlet T", "train.pre_reformer.inlet_temperature"),
+        ("sec_ratio", "O2 per hydrocarbon C", "train.secondary_reformer.oxygen_to_carbon"),
+        ("sec_temperature", "Oxidant temperature",
+         "train.secondary_reformer.oxidant_temperature"),
+        ("sec_approach", "Approach (secondary)", "train.secondary_reformer.approach"),
+        ("hts_temperature", "HT shift temperature", "train.high_temperature_shift.temperature"),
+        ("hts_approach", "HT shift approach", "train.high_temperature_shift.approach"),
+        ("lts_temperature", "LT shift temperature", "train.low_temperature_shift.temperature"),
+        ("lts_approach", "LT shift approach", "train.low_temperature_shift.approach"),
     ]
+
+    #: Stages of the train the form switches on and off, with their fields.
+    STAGES = {
+        "pre_reformer": ("Adiabatic pre-reformer", ("pre_inlet",)),
+        "secondary_reformer": ("Adiabatic secondary reformer",
+                               ("sec_ratio", "sec_temperature", "sec_approach")),
+        "high_temperature_shift": ("High-temperature shift", ("hts_temperature",
+                                                              "hts_approach")),
+        "low_temperature_shift": ("Low-temperature shift", ("lts_temperature",
+                                                            "lts_approach")),
+    }
+
+    #: What a stage's fields show when it is switched on for the first time (typical
+    #: values, common practice, no source; DOMAIN.md gives the shift inlet ranges).
+    STAGE_DEFAULTS = {
+        "pre_inlet": "490 degC",
+        "sec_ratio": "0.25",
+        "sec_temperature": "550 degC",
+        "sec_approach": "0 K",
+        "hts_temperature": "360 degC",
+        "hts_approach": "10 K",
+        "lts_temperature": "210 degC",
+        "lts_approach": "10 K",
+    }
 
     def __init__(self, state: ExplorerState):
         self.state = state
@@ -142,6 +178,11 @@ class ScenarioForm:
                                                 margin=(0, 5, 0, 10))
                          for name, _, _ in self.FIELDS}
         self.carbon_free = pn.widgets.Checkbox(label="Carbon-free required", value=True)
+        self.stage_on = {name: pn.widgets.Checkbox(label=label, value=False)
+                         for name, (label, _) in self.STAGES.items()}
+        self.oxidant = pn.widgets.Select(label="Oxidant", options={"air": "air",
+                                                                    "oxygen": "oxygen"},
+                                         value="air", width=190)
         self.cofeed = pn.widgets.Select(label="Fourth window axis", width=190,
                                         options={"none": "", "O2-to-carbon": "oxygen_to_carbon",
                                                  "CO2-to-carbon": "co2_to_carbon"})
@@ -224,8 +265,54 @@ class ScenarioForm:
         v["min_yield"].value = "" if lim.min_h2_yield is None else _display(lim.min_h2_yield)
         v["max_duty"].value = "" if lim.max_duty is None else f"{_display(lim.max_duty / 1e6)} MW"
         self.carbon_free.value = lim.carbon_free
+        self._fill_train(sc)
         self._filled = {k: w.value for k, w in self.inputs.items()}
         self._clear()
+
+    def _fill_train(self, sc: Scenario) -> None:
+        t = sc.train
+        v = self.inputs
+        for name, value in self.STAGE_DEFAULTS.items():
+            v[name].value = value
+        for name, box in self.stage_on.items():
+            box.value = getattr(t, name) is not None
+        if t.pre_reformer is not None:
+            T = t.pre_reformer.inlet_temperature
+            v["pre_inlet"].value = f"{_display(T - 273.15)} degC"
+            self._exact["pre_inlet"] = json.dumps(f"{T!r} K")
+        sec = t.secondary_reformer
+        if sec is not None:
+            self.oxidant.value = sec.oxidant
+            v["sec_ratio"].value = _display(sec.oxygen_to_carbon)
+            v["sec_temperature"].value = f"{_display(sec.oxidant_temperature - 273.15)} degC"
+            v["sec_approach"].value = f"{_display(sec.approach)} K"
+            self._exact.update(sec_ratio=repr(sec.oxygen_to_carbon),
+                               sec_temperature=json.dumps(f"{sec.oxidant_temperature!r} K"),
+                               sec_approach=json.dumps(f"{sec.approach!r} K"))
+        for name, key in (("high_temperature_shift", "hts"), ("low_temperature_shift", "lts")):
+            st = getattr(t, name)
+            if st is not None:
+                v[f"{key}_temperature"].value = f"{_display(st.temperature - 273.15)} degC"
+                v[f"{key}_approach"].value = f"{_display(st.approach)} K"
+                self._exact[f"{key}_temperature"] = json.dumps(f"{st.temperature!r} K")
+                self._exact[f"{key}_approach"] = json.dumps(f"{st.approach!r} K")
+
+    def _train_toml(self) -> list[str]:
+        q = self._value
+        lines = []
+        on = {name: box.value for name, box in self.stage_on.items()}
+        if on["pre_reformer"]:
+            lines += ["[train.pre_reformer]", f"inlet_temperature = {q('pre_inlet')}"]
+        if on["secondary_reformer"]:
+            lines += ["[train.secondary_reformer]", f"oxidant = {json.dumps(self.oxidant.value)}",
+                      f"oxygen_to_carbon = {q('sec_ratio')}",
+                      f"oxidant_temperature = {q('sec_temperature')}",
+                      f"approach = {q('sec_approach')}"]
+        for name, key in (("high_temperature_shift", "hts"), ("low_temperature_shift", "lts")):
+            if on[name]:
+                lines += [f"[train.{name}]", f"temperature = {q(key + '_temperature')}",
+                          f"approach = {q(key + '_approach')}"]
+        return lines
 
     def _clear(self) -> None:
         for m in self.messages.values():
@@ -280,6 +367,7 @@ class ScenarioForm:
             lines.append(f"min_h2_yield = {q('min_yield')}")
         if v["max_duty"].strip():
             lines.append(f"max_duty = {q('max_duty')}")
+        lines += self._train_toml()
         return "\n".join(lines) + "\n"
 
     def submit(self) -> bool:
@@ -363,10 +451,25 @@ class ScenarioForm:
                            self.cofeed,
                            self._cofeed_row)
         limits = pn.Column("#### Review limits", pn.Row(cell("max_slip"), cell("min_yield"),
-                                                         cell("max_duty")), self.carbon_free)
+                                                         cell("max_duty")), self.carbon_free,
+                           pn.pane.Markdown(
+                               "With a train, the limits apply to it: slip after the last "
+                               "reformer, H2 after the last stage, heat supplied (primary + "
+                               "reheat), graphite in any reforming stage.",
+                               styles={"font-size": "12px", "color": "#4a5a64"}, width=560))
+        # The reforming train: each stage's fields show only when it is switched on.
+        stage_rows = []
+        for name, (_, fields) in self.STAGES.items():
+            extra = [self.oxidant] if name == "secondary_reformer" else []
+            row = pn.Row(*extra, *[cell(f) for f in fields], visible=self.stage_on[name].value)
+            self.stage_on[name].param.watch(
+                lambda e, r=row: setattr(r, "visible", bool(e.new)), "value")
+            stage_rows += [self.stage_on[name], row]
+        train = pn.Column("#### Reforming train (the primary reformer is the window's T and P)",
+                          *stage_rows)
         self.inputs["composition"].width = 600
         source = pn.Row(self.chooser, pn.Column("Or open a scenario file (.toml)", self.upload))
-        return pn.Column(source, pn.Row(feed, design), pn.Row(window, limits),
+        return pn.Column(source, pn.Row(feed, design), pn.Row(window, limits), train,
                          pn.Row(self.apply, self.reset), self.general)
 
 
@@ -577,6 +680,174 @@ class BalanceView:
                          self.tables)
 
 
+class ComparisonView:
+    """A proposal beside the scenario: maps of both and of the change, and both balances at
+    the selected point with the changes."""
+
+    NONE = "(no proposal)"
+
+    def __init__(self, state: ExplorerState):
+        self.state = state
+        files = scenario_files()
+        self.chooser = pn.widgets.Select(label="Proposal: shipped scenario",
+                                         options=[self.NONE] + list(files), value=self.NONE,
+                                         width=260)
+        self.upload = pn.widgets.FileInput(accept=".toml", multiple=False, width=260)
+        self.variable = pn.widgets.Select(label="Variable", options=_var_options(),
+                                          value="h2_product", width=320)
+        self.message = pn.pane.Markdown("", styles={"color": "#b3261e"})
+        self.status = pn.pane.Markdown("", margin=(0, 10))
+        self.table = pn.pane.HTML("", stylesheets=[PAGE_CSS], sizing_mode="stretch_width")
+        self.panes, self.sources = [], []
+        titles = ("Base", "Proposal", "Change (proposal - base)")
+        for i in range(3):
+            var = VARIABLES["h2_product"]
+            fig, src, _ = map_figure(var, state.mode, np.array([0.0, 1.0]), empty_layers(),
+                                     f"cmp-{i}", (0.0, 1.0), (0.0, 1.0), width=520,
+                                     height=400)
+            fig.title.text = f"{titles[i]}: {var.title}"
+            fig.on_event(Tap, self._tap)
+            self.panes.append(pn.pane.Bokeh(fig))
+            self.sources.append(src)
+        self.titles = titles
+        self.chooser.param.watch(self._choose, "value")
+        self.upload.param.watch(self._upload, "value")
+        self.variable.param.watch(self._redraw, "value")
+        state.param.watch(self._redraw, ["difference", "mode", "fixed"])
+        state.param.watch(self._status, ["compare_status"])
+        state.param.watch(self._table, ["selected", "difference"])
+        state.param.watch(self._mark, ["selected"])
+        self._status()
+        self._redraw()
+        self._table()
+
+    def _status(self, *_):
+        self.status.object = self.state.compare_status
+
+    def _adopt(self, sc: Scenario | None) -> None:
+        self.message.object = ""
+        try:
+            self.state.set_proposal(sc, background=pn.state.curdoc is not None
+                                    and pn.state.curdoc.session_context is not None)
+        except InputError as err:
+            self.message.object = f"Not compared: {err}"
+
+    def _choose(self, event) -> None:
+        if event.new == self.NONE:
+            self._adopt(None)
+            return
+        path = scenario_files().get(event.new)
+        if path is None:
+            return
+        try:
+            sc = thermo.load_scenario(path)
+        except InputError as err:
+            self.message.object = f"Could not open {event.new}: {err}"
+            return
+        self._adopt(sc)
+
+    def _upload(self, event) -> None:
+        data = event.new
+        if data is None:
+            return
+        if len(data) > MAX_UPLOAD_BYTES:
+            self.message.object = (f"Not loaded: the file has {len(data):,} bytes; scenario "
+                                   f"files are limited to {MAX_UPLOAD_BYTES:,} bytes.")
+            return
+        try:
+            sc = parse_scenario(data.decode("utf-8"), path=self.upload.filename)
+        except UnicodeDecodeError:
+            self.message.object = "Not loaded: the file is not UTF-8 text."
+            return
+        except InputError as err:
+            self.message.object = f"Not loaded: {err}"
+            return
+        self._adopt(sc)
+
+    def _redraw(self, *_):
+        """Base, proposal and change of the chosen variable on the current slice."""
+        s = self.state
+        if s.difference is None or s.dataset is None or s.proposal_dataset is None:
+            for src in self.sources:
+                for name, data in empty_layers().items():
+                    src[name].data = data
+            return
+        base, prop, diff = s.dataset, s.proposal_dataset, s.difference
+        key = self.variable.value
+        var = VARIABLES[key]
+        levels = shared_levels((base, prop), var)
+        ch = change_variable(var)
+        ch_levels = change_levels(diff, var)
+        x = base.temperature.values - 273.15
+        y = base[s.mode].values / (1e5 if s.mode == "pressure" else 1.0)
+        ranges = ((float(x.min()), float(x.max())), (float(y.min()), float(y.max())))
+        cut_b = slice_fields(base, s.mode, s.fixed)
+        cut_p = slice_fields(prop, s.mode, s.fixed)
+        sel = {d: i for d, i in s.fixed.items() if d in diff.dims
+               and d not in (s.mode, "temperature")}
+        cut_d = diff.isel(sel).transpose(s.mode, "temperature", ...)
+        common_p = window_layers(cut_p, s.mode, s.proposal.limits)
+        panels = [
+            (var, levels, combine(variable_layers(cut_b, var, s.mode, levels),
+                                  window_layers(cut_b, s.mode, s.scenario.limits))),
+            (var, levels, combine(variable_layers(cut_p, var, s.mode, levels), common_p)),
+            (ch, ch_levels, combine(variable_layers(cut_d, ch, s.mode, ch_levels), common_p)),
+        ]
+        for i, (v, lv, layers) in enumerate(panels):
+            fig = self.panes[i].object
+            restyle_figure(fig, self.sources[i], v, s.mode, lv, layers, *ranges)
+            fig.title.text = f"{self.titles[i]}: {v.title}"
+        self._mark()
+
+    def _mark(self, *_):
+        s = self.state
+        data = {"x": [], "y": [], "alpha": []}
+        if s.selected is not None and s.difference is not None:
+            data = {"x": [s.selected["temperature"] - 273.15],
+                    "y": [s.selected[s.mode] / (1e5 if s.mode == "pressure" else 1.0)],
+                    "alpha": [1.0]}
+        for src in self.sources:
+            src["selected"].data = data
+
+    def _tap(self, event) -> None:
+        if event.x is None or event.y is None or self.state.dataset is None:
+            return
+        self.state.select_display(float(event.x), float(event.y))
+
+    def _table(self, *_):
+        s = self.state
+        if s.difference is None:
+            self.table.object = ("<p class='rw-small'>Load a proposal (a shipped scenario or "
+                                 "a file) to compare it with this scenario over the same "
+                                 "window.</p>")
+            return
+        a, b = s.selected_point(), s.selected_proposal_point()
+        if a is None or b is None:
+            self.table.object = "<p class='rw-small'>Select a point on a map.</p>"
+            return
+        da, db = a.to_dict(), b.to_dict()
+        self.table.object = (f"<h4>Base and proposal at {da['temperature_K'] - 273.15:.1f} "
+                             f"degC, {da['pressure_Pa'] / 1e5:.3f} bar abs, S/C "
+                             f"{da['steam_to_carbon']:.3g}</h4>" + compare_point_html(da, db)
+                             + "<h4>Proposal: full balance</h4>" + balance_html(db))
+
+    def __panel__(self):
+        return pn.Column(
+            pn.Row(self.chooser, pn.Column("Or open a proposal file (.toml)", self.upload),
+                   self.variable),
+            self.message, self.status,
+            pn.Row(self.panes[0], self.panes[1]),
+            pn.Row(self.panes[2], pn.pane.Markdown(
+                "The proposal is solved over this scenario's window, so every grid point has "
+                "both answers. The change map shows proposal minus base in the variable's "
+                "unit (blue where the proposal is higher); each map carries its own carbon "
+                "boundary and feasible window (the change map, the proposal's). The slice and "
+                "the selected point follow the maps above.",
+                styles={"font-size": "12px", "color": "#4a5a64"}, width=380)),
+            self.table,
+        )
+
+
 class PinnedView:
     """Pinned points side by side."""
 
@@ -628,10 +899,17 @@ class NotesView:
             grid_io.save(s.dataset, folder / "grid.nc")
             (folder / "pinned.json").write_text(json.dumps(s.pinned, allow_nan=False), "utf-8")
             out = folder / "review.html"
+            extra = []
+            if s.proposal is not None and s.proposal_dataset is not None:
+                # The comparison goes into the file as well.
+                (folder / "proposal.toml").write_text(s.proposal.to_toml(), "utf-8")
+                grid_io.save(s.proposal_dataset, folder / "proposal.nc")
+                extra = ["--compare", str(folder / "proposal.toml"), "--compare-grid",
+                         str(folder / "proposal.nc")]
             proc = subprocess.run(
                 [sys.executable, "-m", "explorer.export", "--scenario",
                  str(folder / "scenario.toml"), "--grid", str(folder / "grid.nc"),
-                 "--pinned", str(folder / "pinned.json"), "-o", str(out)],
+                 "--pinned", str(folder / "pinned.json"), *extra, "-o", str(out)],
                 capture_output=True, text=True, timeout=600)
             if proc.returncode != 0 or not out.exists():
                 last = (proc.stderr.strip().splitlines() or ["unknown error"])[-1]
@@ -650,7 +928,7 @@ def _section(title: str, *objects):
 
 
 def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
-              solve: str = "background") -> pn.Column:
+              solve: str = "background", proposal: Scenario | None = None) -> pn.Column:
     """The explorer page for one session.
 
     Parameters
@@ -660,6 +938,8 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
     solve : {"background", "now"}
         Solve the window in a worker thread with progress (served app), or before returning
         (notebooks, tests).
+    proposal : Scenario, optional
+        A proposal to compare with the scenario from the start.
     """
     if not isinstance(scenario, Scenario):
         scenario = thermo.load_scenario(scenario)
@@ -667,6 +947,7 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
     form = ScenarioForm(state)
     maps = MapsView(state)
     balance = BalanceView(state)
+    compare = ComparisonView(state)
     pinned = PinnedView(state)
     notes = NotesView(state)
     title = pn.pane.Markdown(f"# {scenario.title}")
@@ -690,8 +971,9 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
         _section("1 Scenario and feed", form),
         _section("2 Operating-window maps", maps),
         _section("3 Balance at the selected point", balance),
-        _section("4 Pinned points", pinned),
-        _section("5 Review notes", notes),
+        _section("4 Comparison with a proposal", compare),
+        _section("5 Pinned points", pinned),
+        _section("6 Review notes", notes),
         footer,
         sizing_mode="stretch_width",
         styles={"max-width": "1240px", "margin": "0 auto"},
@@ -699,13 +981,19 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
     page.explorer_state = state  # for tests and notebooks
     if solve == "now":
         state.solve_now()
+        if proposal is not None:
+            state.set_proposal(proposal, background=False)
     else:
         def start():
             state.solve_in_background()
+            if proposal is not None:
+                state.set_proposal(proposal)
             pn.state.add_periodic_callback(state.poll, period=200)
 
         if pn.state.curdoc is not None and pn.state.curdoc.session_context is not None:
             pn.state.onload(start)
         else:
             state.solve_now()
+            if proposal is not None:
+                state.set_proposal(proposal, background=False)
     return page

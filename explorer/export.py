@@ -38,10 +38,11 @@ from explorer.maps import (
     MODES,
     VARIABLES,
     axis_label,
+    change_levels,
     change_variable,
     combine,
     map_figure,
-    nice_levels,
+    shared_levels,
     slice_fields,
     variable_layers,
     variable_levels,
@@ -553,25 +554,6 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
             .replace("</", "<\\/"),
         },
     )
-
-
-def shared_levels(datasets, var) -> np.ndarray:
-    """Contour levels of `var` spanning several Datasets (one colour, one value on all)."""
-    vals = np.concatenate([np.asarray(var.values(d), dtype=float).ravel() for d in datasets])
-    vals = vals[np.isfinite(vals)]
-    if vals.size == 0:
-        return np.array([0.0, 1.0])
-    return nice_levels(float(vals.min()), float(vals.max()))
-
-
-def change_levels(diff: xr.Dataset, var) -> np.ndarray:
-    """Levels of a change map, symmetric about zero (display units)."""
-    vals = np.asarray(var.values(diff), dtype=float)
-    vals = vals[np.isfinite(vals)]
-    m = float(np.abs(vals).max()) if vals.size else 0.0
-    # No change (or round-off only): a band of +-1e-6 display units, wide enough for the
-    # levels' 12-decimal rounding.
-    return nice_levels(-max(m, 1e-6), max(m, 1e-6), 10)
 
 
 def _comparison_layers(sc, ds, prop_sc, prop_ds, variables) -> dict:

@@ -149,6 +149,25 @@ def variable_levels(ds: xr.Dataset, var: Variable) -> np.ndarray:
     return nice_levels(lo, hi)
 
 
+def shared_levels(datasets, var) -> np.ndarray:
+    """Contour levels of `var` spanning several Datasets (one colour, one value on all)."""
+    vals = np.concatenate([np.asarray(var.values(d), dtype=float).ravel() for d in datasets])
+    vals = vals[np.isfinite(vals)]
+    if vals.size == 0:
+        return np.array([0.0, 1.0])
+    return nice_levels(float(vals.min()), float(vals.max()))
+
+
+def change_levels(diff: xr.Dataset, var) -> np.ndarray:
+    """Levels of a change map, symmetric about zero (display units)."""
+    vals = np.asarray(var.values(diff), dtype=float)
+    vals = vals[np.isfinite(vals)]
+    m = float(np.abs(vals).max()) if vals.size else 0.0
+    # No change (or round-off only): a band of +-1e-6 display units, wide enough for the
+    # levels' 12-decimal rounding.
+    return nice_levels(-max(m, 1e-6), max(m, 1e-6), 10)
+
+
 #: Dataset variables the overlays read (limits, carbon boundary, nodes).
 OVERLAY_VARIABLES = ("h2_yield", "methane_slip_dry", "duty", "carbon_deposit",
                      "carbon_activity", "converged", "feasible", *LIMIT_VARIABLES.values())

@@ -59,6 +59,13 @@ class ExplorerState(param.Parameterized):
     progress = param.Number(default=0.0, bounds=(0.0, 1.0))
     status = param.String(default="")
     notes = param.String(default="")
+    proposal = param.ClassSelector(class_=Scenario, allow_None=True, default=None,
+                                   doc="a proposal compared with the scenario (its window)")
+    proposal_dataset = param.ClassSelector(class_=xr.Dataset, allow_None=True,
+                                           doc="the proposal solved on the scenario's window")
+    difference = param.ClassSelector(class_=xr.Dataset, allow_None=True,
+                                     doc="proposal minus scenario, point by point")
+    compare_status = param.String(default="")
 
     def __init__(self, scenario: Scenario, **params):
         super().__init__(scenario=scenario, notes=scenario.notes, **params)
@@ -66,6 +73,8 @@ class ExplorerState(param.Parameterized):
         self._total = 1
         self._thread: threading.Thread | None = None
         self._pending: tuple | None = None
+        self._cmp_thread: threading.Thread | None = None
+        self._cmp_pending: tuple | None = None
 
     # -- solving -----------------------------------------------------------------------
     def solve_now(self) -> None:
@@ -105,6 +114,7 @@ class ExplorerState(param.Parameterized):
 
     def poll(self) -> bool:
         """Publish progress and, when the worker is done, its result. True once finished."""
+        self._poll_proposal()
         if self._pending is None:
             if self.busy:
                 self.progress = min(1.0, self._done / max(self._total, 1))
@@ -148,6 +158,69 @@ class ExplorerState(param.Parameterized):
         if self.selected is None:
             self.select_index(self.design_index())
 
+    # -- comparison -----------------------------------------------------------------------
+    def set_proposal(self, proposal: Scenario | None, background: bool = True) -> None:
+        """Compare a proposal with the scenario: solve it over the scenario's window.
+
+        Raises
+        ------
+        InputError
+            The proposal cannot run on the scenario's window (its approach).
+        """
+        if proposal is None:
+            self.param.update(proposal=None, proposal_dataset=None, difference=None,
+                              compare_status="")
+            return
+        from thermo.compare import on_base_window
+
+        moved = check_window_size(on_base_window(self.scenario, proposal))
+        self.param.update(proposal=moved, proposal_dataset=None, difference=None,
+                          compare_status=f"Solving the proposal {moved.title!r} over this "
+                                         f"window ({moved.window.size():,} points) ...")
+        if not background:
+            self._cmp_pending = ("ok", moved, SHARED_CACHE.get(moved))
+            self._poll_proposal()
+            return
+
+        def work():
+            try:
+                self._cmp_pending = ("ok", moved, SHARED_CACHE.get(moved))
+            except Exception as err:  # reported to the user by _poll_proposal()
+                self._cmp_pending = ("error", moved, err)
+
+        self._cmp_thread = threading.Thread(target=work, daemon=True)
+        self._cmp_thread.start()
+
+    def _poll_proposal(self) -> None:
+        if self._cmp_pending is None:
+            return
+        kind, moved, payload = self._cmp_pending
+        if self.proposal is None or SHARED_CACHE.key(moved) != SHARED_CACHE.key(self.proposal):
+            self._cmp_pending = None  # superseded
+            return
+        if kind == "error":
+            self._cmp_pending = None
+            self.compare_status = f"Solving the proposal failed: {payload}"
+            return
+        if self.dataset is None or self.busy:
+            return  # adopt once the base window is solved too
+        self._cmp_pending = None
+        from thermo.compare import difference
+
+        try:
+            diff = difference(self.dataset, payload)
+        except InputError as err:
+            self.compare_status = f"Not compared: {err}"
+            return
+        self.param.update(proposal_dataset=payload, difference=diff,
+                          compare_status=f"Proposal {moved.title!r} solved over this window.")
+
+    def selected_proposal_point(self) -> thermo.PointResult | None:
+        """The proposal's result at the selected grid node (None without a proposal)."""
+        if self.proposal is None or self.selected is None:
+            return None
+        return thermo.point(self.proposal, **self._point_kwargs())
+
     # -- scenario edits ------------------------------------------------------------------
     def set_scenario(self, sc: Scenario) -> None:
         """Adopt a new (validated) scenario; re-solve only when the numbers change."""
@@ -162,6 +235,13 @@ class ExplorerState(param.Parameterized):
         self.selected = None
         self.pinned = []
         self.solve_in_background()
+        if self.proposal is not None:
+            # The proposal follows the scenario's window.
+            try:
+                self.set_proposal(self.proposal)
+            except InputError as err:
+                self.set_proposal(None)
+                self.compare_status = f"Comparison dropped: {err}"
 
     @param.depends("notes", watch=True)
     def _notes_into_scenario(self) -> None:
@@ -202,6 +282,9 @@ class ExplorerState(param.Parameterized):
         """The core's result at the selected grid node (same numbers as the grid)."""
         if self.selected is None or self.dataset is None:
             return None
+        return thermo.point(self.scenario, **self._point_kwargs())
+
+    def _point_kwargs(self) -> dict:
         s = self.selected
         kwargs = {
             "temperature": f"{s['temperature']!r} K",
@@ -211,7 +294,7 @@ class ExplorerState(param.Parameterized):
         for d in ("oxygen_to_carbon", "co2_to_carbon"):
             if d in s:
                 kwargs[d] = s[d]
-        return thermo.point(self.scenario, **kwargs)
+        return kwargs
 
     def pin(self) -> None:
         """Add the selected point to the comparison list."""

@@ -1,0 +1,172 @@
+"""The app's reforming-train form fields and its comparison with a proposal (no browser).
+
+Numbers: the scenarios are the demo's (scenarios/demo.toml, invented data) on the small test
+window, with the train of tests/thermo/test_train.py (test inputs, common practice, no
+source). Expected values come from the core (thermo.sweep, thermo.point) or numpy.
+"""
+
+from __future__ import annotations
+
+import json
+import re
+
+import numpy as np
+import pytest
+
+import thermo
+from explorer.app import ComparisonView, NotesView, ScenarioForm, build_app
+from explorer.tables import balance_html, compare_point_html
+from tests.explorer.helpers import small_scenario, table_cells
+from tests.explorer.test_app_logic import wait_until_solved
+from tests.thermo.test_train import FULL_TRAIN
+from thermo.scenario import parse_scenario
+
+
+def train_scenario():
+    return parse_scenario(small_scenario().to_toml() + FULL_TRAIN)
+
+
+def proposal_scenario():
+    text = thermo.load_scenario().text.replace('title = "', 'title = "Proposal: ')
+    return parse_scenario(text + FULL_TRAIN)
+
+
+@pytest.fixture
+def compared():
+    page = build_app(small_scenario(), solve="now", proposal=proposal_scenario())
+    s = page.explorer_state
+    return page, s, ComparisonView(s)
+
+
+# --------------------------------------------------------------------------- train form
+def test_applying_the_form_untouched_keeps_the_train():
+    page = build_app(train_scenario(), solve="now")
+    s = page.explorer_state
+    form = ScenarioForm(s)
+    assert all(box.value for box in form.stage_on.values())
+    assert form.oxidant.value == "air"
+    text = form.toml_text()
+    assert parse_scenario(text).train == s.scenario.train
+    assert form.submit() is True
+    assert s.scenario.train == train_scenario().train
+
+
+def test_form_switches_a_shift_stage_on_and_edits_it():
+    page = build_app(small_scenario(), solve="now")
+    s = page.explorer_state
+    form = ScenarioForm(s)
+    assert not any(box.value for box in form.stage_on.values())
+    form.stage_on["high_temperature_shift"].value = True
+    form.inputs["hts_temperature"].value = "380 degC"
+    assert form.submit() is True
+    st = s.scenario.train.high_temperature_shift
+    assert st.temperature == pytest.approx(653.15) and st.approach == 10.0
+    assert s.scenario.train.stages() == ["primary_reformer", "high_temperature_shift"]
+    wait_until_solved(s)
+    assert "h2_product" in s.dataset
+    # Shift adds H2: the product exceeds the reformer's own yield everywhere it converged.
+    ok = s.dataset["converged"]
+    assert bool((s.dataset["h2_product"] > s.dataset["h2_yield"]).where(ok, True).all())
+
+
+def test_bad_train_field_is_refused_beside_it():
+    page = build_app(small_scenario(), solve="now")
+    s = page.explorer_state
+    form = ScenarioForm(s)
+    before = s.scenario
+    form.stage_on["low_temperature_shift"].value = True
+    form.inputs["lts_temperature"].value = "900 degC"
+    assert form.submit() is False
+    assert "between" in form.messages["lts_temperature"].object
+    assert s.scenario == before
+
+
+# ---------------------------------------------------------------------------- comparison
+def test_proposal_is_solved_on_the_base_window_and_differenced(compared):
+    _, s, _ = compared
+    assert s.proposal.window == s.scenario.window
+    assert s.proposal.title.startswith("Proposal: ")
+    np.testing.assert_array_equal(
+        s.difference["h2_product"].values,
+        s.proposal_dataset["h2_product"].values - s.dataset["h2_product"].values)
+    assert "solved over this window" in s.compare_status
+
+
+def test_change_map_nodes_are_proposal_minus_base(compared):
+    _, s, view = compared
+    base, prop, diff = (np.array(src["nodes"].data["value"], dtype=float)
+                        for src in view.sources)
+    np.testing.assert_allclose(diff, prop - base, rtol=1e-12, atol=1e-12)
+    assert np.nanmax(np.abs(diff)) > 0.1
+    titles = [p.object.title.text for p in view.panes]
+    assert titles[2].startswith("Change (proposal - base): H2 product")
+    view.variable.value = "train_duty"
+    base2 = np.array(view.sources[0]["nodes"].data["value"], dtype=float)
+    assert not np.allclose(base2, base)  # another variable is drawn
+    np.testing.assert_allclose(base2, s.dataset["train_duty"].isel(
+        steam_to_carbon=s.fixed["steam_to_carbon"]).transpose("pressure", "temperature")
+        .values.ravel() * 1e-6, rtol=1e-12)
+
+
+def test_comparison_table_shows_both_points_and_the_change(compared):
+    _, s, view = compared
+    a, b = s.selected_point().to_dict(), s.selected_proposal_point().to_dict()
+    assert table_cells(view.table.object) == table_cells(compare_point_html(a, b)
+                                                         + balance_html(b))
+    rows = {r[0]: r for r in table_cells(view.table.object) if len(r) == 5}
+    h2 = rows["H2 product after the last stage"]
+    assert float(h2[4]) == pytest.approx(b["train"]["h2_product"] - a["train"]["h2_product"],
+                                         abs=1e-4)
+    # A click on a comparison map selects a point for every section.
+    view._tap(type("E", (), {"x": 800.0, "y": 30.0})())
+    assert s.selected["temperature"] == pytest.approx(800 + 273.15)
+    assert "800.0 degC" in view.table.object
+
+
+def test_window_change_re_solves_the_proposal(compared):
+    _, s, _ = compared
+    form = ScenarioForm(s)
+    form.inputs["t_points"].value = "3"
+    assert form.submit() is True
+    wait_until_solved(s)
+    for _ in range(200):
+        if s.difference is not None:
+            break
+        s.poll()
+        import time
+
+        time.sleep(0.05)
+    assert s.proposal.window == s.scenario.window
+    assert s.difference["h2_product"].shape == (3, 4, 5)
+
+
+def test_bad_proposal_upload_is_refused_with_its_key(compared):
+    _, s, view = compared
+    before = s.proposal
+    text = proposal_scenario().to_toml().replace('oxidant = "air"', 'oxidant = "steam"')
+    view.upload.filename = "bad.toml"
+    view.upload.value = text.encode("utf-8")
+    assert "train.secondary_reformer.oxidant" in view.message.object
+    assert s.proposal == before
+
+
+def test_removing_the_proposal_clears_the_maps(compared):
+    _, s, view = compared
+    view.chooser.value = "biogas-skid"
+    assert s.proposal is not None and s.proposal.title != before_title(s)
+    view.chooser.value = view.NONE
+    assert s.proposal is None and s.difference is None
+    assert view.sources[2]["nodes"].data["value"] == []
+
+
+def before_title(s):
+    return s.scenario.title
+
+
+def test_review_file_from_the_app_carries_the_comparison(compared):
+    _, s, _ = compared
+    html = NotesView(s)._review().getvalue().decode("utf-8")
+    assert "Comparison: base and proposal" in html
+    data = json.loads(re.search(r'id="rw-data">(.*?)</script>', html, re.S).group(1)
+                      .replace("<\\/", "</"))
+    assert data["proposal"]["train"]["stages"][-1]["name"] == "low_temperature_shift"
