@@ -454,8 +454,8 @@ class ScenarioForm:
                                                          cell("max_duty")), self.carbon_free,
                            pn.pane.Markdown(
                                "With a train, the limits apply to it: slip after the last "
-                               "reformer, H2 after the last stage, heat supplied (primary + "
-                               "reheat), graphite in any reforming stage.",
+                               "reformer, H2 after the last stage, graphite in any reforming "
+                               "stage; the duty limit stays on the primary's radiant duty.",
                                styles={"font-size": "12px", "color": "#4a5a64"}, width=560))
         # The reforming train: each stage's fields show only when it is switched on.
         stage_rows = []

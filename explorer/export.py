@@ -400,7 +400,7 @@ def _points_source(ds: xr.Dataset, sc: Scenario | None = None):
 
 
 #: Variables of a comparison review file (base, proposal and change maps for each).
-COMPARE_VARIABLES = ("h2_product", "h2_yield", "train_methane_slip_dry", "methane_slip_dry",
+COMPARE_VARIABLES = ("h2_product", "h2_yield", "train_methane_slip_dry", "duty",
                      "train_duty", "carbon_activity", "dry:CO")
 
 

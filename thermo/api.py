@@ -191,7 +191,7 @@ class PointResult:
         return {
             "stages": stages,
             "h2_product": float(tr.h2_product[0]),
-            "duty_W": float(tr.fired_duty[0]),
+            "duty_W": float(tr.heat_supplied[0]),
             "heat_removed_W": float(tr.heat_removed[0]),
             "methane_slip_dry": float(tr.methane_slip_dry[0]),
             "carbon_deposit_mol_per_s": float(tr.carbon_deposit[0]),

@@ -128,7 +128,7 @@ def train_results(scenario: Scenario, n_in, T, P, row: int = 1) -> dict[str, np.
         out["duty_per_h2"] = np.where(h2 > 0, bal.duty / h2, np.nan)
     out["converged"] = tr.converged
     out["h2_product"] = tr.h2_product
-    out["train_duty"] = tr.fired_duty
+    out["train_duty"] = tr.heat_supplied
     out["train_heat_removed"] = tr.heat_removed
     out["train_methane_slip_dry"] = tr.methane_slip_dry
     out["train_carbon_deposit"] = tr.carbon_deposit
@@ -153,12 +153,14 @@ def _sources() -> str:
 
 
 #: What each review limit is checked on: the train's figures (slip after the last reforming
-#: stage, H2 after the last stage, the heat supplied, graphite in any reforming stage). With
-#: no stages around the primary reformer they equal the primary's own.
+#: stage, H2 after the last stage, graphite in any reforming stage; with no stages around the
+#: primary reformer they equal the primary's own), and the primary's radiant duty, which the
+#: furnace's firing limits (a pre-reformed gas's reheat is convection-section heat, as the
+#: feed preheat is).
 LIMIT_VARIABLES = {
     "max_methane_slip_dry": "train_methane_slip_dry",
     "min_h2_yield": "h2_product",
-    "max_duty": "train_duty",
+    "max_duty": "duty",
     "carbon_free": "train_carbon_deposit",
 }
 

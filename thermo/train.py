@@ -23,9 +23,10 @@ stages a scenario names (:class:`thermo.scenario.Train`), all at the window's pr
    its temperature; its duty (negative) is the heat of shift removed.
 
 Train totals: H2 product (H2 after the last stage per mol hydrocarbon carbon of the fresh
-feed), fired duty (primary duty plus the pre-reformed gas's reheat: the heat the furnace
-supplies), heat removed (coolers and shift stages, negative), graphite in any reforming
-stage, and methane slip after the last reforming stage (dry).
+feed), heat supplied (the primary's radiant duty plus the pre-reformed gas's reheat, which
+plants take from the convection section), heat removed (coolers and shift stages,
+negative), graphite in any reforming stage, and methane slip after the last reforming stage
+(dry).
 
 The shift equilibrium is closed-form: with a, b, c, d the moles of CO, H2O, CO2, H2 and the
 extent x, ``(c + x)(d + x) = K (a - x)(b - x)`` (total moles unchanged, so pressure drops
@@ -130,8 +131,8 @@ class TrainResult:
         Its temperature [K].
     h2_product : ndarray (N,)
         H2 after the last stage per mol hydrocarbon carbon of the fresh feed [-].
-    fired_duty : ndarray (N,)
-        Heat supplied by the furnace: primary duty plus the reheat of pre-reformed gas [W].
+    heat_supplied : ndarray (N,)
+        Heat supplied to the train: primary duty plus the reheat of pre-reformed gas [W].
     heat_removed : ndarray (N,)
         Heat taken out by the coolers and shift stages (<= 0) [W].
     carbon_deposit : ndarray (N,)
@@ -148,7 +149,7 @@ class TrainResult:
     product_flow: np.ndarray
     product_temperature: np.ndarray
     h2_product: np.ndarray
-    fired_duty: np.ndarray
+    heat_supplied: np.ndarray
     heat_removed: np.ndarray
     carbon_deposit: np.ndarray
     methane_slip_dry: np.ndarray
@@ -430,7 +431,7 @@ def train_balance(
         product_flow=gas,
         product_temperature=T_gas,
         h2_product=h2_product,
-        fired_duty=bal.duty + reheat,
+        heat_supplied=bal.duty + reheat,
         heat_removed=removed,
         carbon_deposit=carbon,
         methane_slip_dry=slip,

@@ -165,8 +165,9 @@ def before_title(s):
 
 def test_review_file_from_the_app_carries_the_comparison(compared):
     _, s, _ = compared
-    html = NotesView(s)._review().getvalue().decode("utf-8")
-    assert "Comparison: base and proposal" in html
+    view = NotesView(s)
+    html = view._review().getvalue().decode("utf-8")
+    assert "Comparison: base and proposal" in html, view.message.object
     data = json.loads(re.search(r'id="rw-data">(.*?)</script>', html, re.S).group(1)
                       .replace("<\\/", "</"))
     assert data["proposal"]["train"]["stages"][-1]["name"] == "low_temperature_shift"

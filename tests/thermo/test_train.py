@@ -210,7 +210,7 @@ def test_train_energy_and_element_balances_close(full):
     h_out = enthalpy_flow(r.product_flow, r.product_temperature)
     heat = sum(s.heat_before + s.duty for s in r.stages)
     np.testing.assert_allclose(h_out - h_in, heat, rtol=0, atol=1e-7 * np.abs(h_in).max())
-    np.testing.assert_allclose(r.fired_duty,
+    np.testing.assert_allclose(r.heat_supplied,
                                r.primary.duty + r.stage("primary_reformer").heat_before)
     assert np.all(r.heat_removed < 0)
     hc = feed @ np.array([1.0 if s == "CH4" else 2.0 if s == "C2H6" else 3.0 if s == "C3H8"
@@ -236,7 +236,7 @@ def test_pre_reformer_leaves_the_primary_equilibrium_unchanged(full):
     # feed's heat-up from the pre-reformer inlet to the primary inlet.
     heat_up = (enthalpy_flow(feed, np.full(len(T), full.feed.inlet_temperature))
                - enthalpy_flow(feed, np.full(len(T), train.pre_reformer.inlet_temperature)))
-    np.testing.assert_allclose(r.fired_duty, alone.duty + heat_up, rtol=1e-7)
+    np.testing.assert_allclose(r.heat_supplied, alone.duty + heat_up, rtol=1e-7)
 
 
 def test_empty_train_is_the_primary_reformer(full):
@@ -245,7 +245,7 @@ def test_empty_train_is_the_primary_reformer(full):
     r = train_balance(Train(), feed, T, P, full.feed.inlet_temperature, full.approach)
     assert [s.name for s in r.stages] == ["primary_reformer"]
     np.testing.assert_array_equal(r.h2_product, alone.h2_yield)
-    np.testing.assert_array_equal(r.fired_duty, alone.duty)
+    np.testing.assert_array_equal(r.heat_supplied, alone.duty)
     np.testing.assert_array_equal(r.methane_slip_dry, alone.methane_slip_dry)
     np.testing.assert_array_equal(r.heat_removed, 0.0)
 
@@ -331,7 +331,7 @@ def test_limits_apply_to_the_train(train_ds):
     lim = win.limits
     want = (ds["converged"] & (ds["train_methane_slip_dry"] <= lim.max_methane_slip_dry)
             & (ds["train_carbon_deposit"] <= 0) & (ds["h2_product"] >= lim.min_h2_yield)
-            & (ds["train_duty"] <= lim.max_duty))
+            & (ds["duty"] <= lim.max_duty))
     assert (ds["feasible"] == want).all()
     # The secondary reformer burns down the primary's methane: slip after it is lower.
     assert (ds["train_methane_slip_dry"] < ds["methane_slip_dry"]).all()
