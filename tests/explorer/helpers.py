@@ -55,14 +55,15 @@ def free_port() -> int:
 
 
 @contextlib.contextmanager
-def served_app(scenario):
-    """The app served in this process on a free loopback port; yields its URL."""
+def served_app(scenario, proposal=None):
+    """The app served in this process on a free loopback port (with a proposal to compare,
+    if given); yields its URL."""
     import panel as pn
 
     from explorer.app import build_app
 
     port = free_port()
-    thread = pn.serve({"/": lambda: build_app(scenario)}, port=port, address="127.0.0.1",
+    thread = pn.serve({"/": lambda: build_app(scenario, proposal=proposal)}, port=port, address="127.0.0.1",
                       websocket_origin=[f"127.0.0.1:{port}"], threaded=True, show=False,
                       verbose=False)
     deadline = time.time() + 30

@@ -75,3 +75,36 @@ def test_invalid_entry_shows_its_message_and_keeps_the_maps(page, server):
     assert page.get_by_text("an absolute pressure above 0").first.is_visible()
     # The last good maps stay: the same figure with the same bands.
     assert page.evaluate(MAP_STATE) == before
+
+
+def test_comparison_maps_and_click_show_both_points(page, artifacts):
+    """Served with a proposal (the demo feed plus the whole train): the change map is drawn
+    and a click on it shows base, proposal and change as the core computes them."""
+    from explorer.tables import compare_point_html
+    from tests.thermo.test_train import FULL_TRAIN
+    from thermo.compare import on_base_window
+    from thermo.scenario import parse_scenario
+
+    base = small_scenario()
+    proposal = parse_scenario(thermo.load_scenario().text + FULL_TRAIN)
+    errors = []
+    page.on("pageerror", lambda e: errors.append(str(e)))
+    with served_app(base, proposal=proposal) as url:
+        page.goto(url)
+        page.get_by_text("solved over this window").wait_for(timeout=90000)
+        page.wait_for_function(f"() => ({FIND_PIXEL})(['cmp-2', 800, 30]) !== null",
+                               timeout=30000)
+        pos = page.evaluate(FIND_PIXEL, ["cmp-2", 800.0, 30.0])
+        page.mouse.click(pos["x"], pos["y"])
+        page.get_by_text("Base and proposal at 800.0 degC, 30.000 bar abs").wait_for(
+            timeout=15000)
+        html = page.get_by_text("Base and proposal at 800.0 degC").evaluate(
+            "h => h.closest('div').innerHTML")
+        moved = on_base_window(base, proposal)
+        kw = dict(temperature="800 degC", pressure="30 bar", steam_to_carbon=3.0)
+        a = thermo.point(base, **kw).to_dict()
+        b = thermo.point(moved, **kw).to_dict()
+        want = table_cells(compare_point_html(a, b) + balance_html(b))
+        assert table_cells(html) == want
+        page.screenshot(path=str(artifacts / "app-comparison.png"), full_page=True)
+    assert errors == []
