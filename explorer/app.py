@@ -76,6 +76,22 @@ def scenario_files() -> dict[str, Path]:
     return {p.stem: p for p in sorted(folder.glob("*.toml"))}
 
 
+def read_upload(data: bytes | None, filename: str | None) -> tuple[Scenario | None, str]:
+    """A scenario from an uploaded file, or None and the message to show (size, encoding and
+    content are checked; nothing but TOML is parsed)."""
+    if data is None:
+        return None, ""
+    if len(data) > MAX_UPLOAD_BYTES:
+        return None, (f"Not loaded: the file has {len(data):,} bytes; scenario files are "
+                      f"limited to {MAX_UPLOAD_BYTES:,} bytes.")
+    try:
+        return parse_scenario(data.decode("utf-8"), path=filename), ""
+    except UnicodeDecodeError:
+        return None, "Not loaded: the file is not UTF-8 text."
+    except InputError as err:
+        return None, f"Not loaded: {err}"
+
+
 def _q(value: str) -> str:
     """A TOML value from a field's text: a number stays a number, anything else a string."""
     text = value.strip()
@@ -408,21 +424,14 @@ class ScenarioForm:
         self.fill(sc)
 
     def _upload(self, event) -> None:
-        data = event.new
-        if data is None:
-            return
-        if len(data) > MAX_UPLOAD_BYTES:
-            self.general.object = (f"Not loaded: the file has {len(data):,} bytes; scenario "
-                                   f"files are limited to {MAX_UPLOAD_BYTES:,} bytes.")
-            return
-        try:
-            text = data.decode("utf-8")
-            sc = check_window_size(parse_scenario(text, path=self.upload.filename))
-        except UnicodeDecodeError:
-            self.general.object = "Not loaded: the file is not UTF-8 text."
-            return
-        except InputError as err:
-            self.general.object = f"Not loaded: {err}"
+        sc, message = read_upload(event.new, self.upload.filename)
+        if sc is not None:
+            try:
+                check_window_size(sc)
+            except InputError as err:
+                sc, message = None, f"Not loaded: {err}"
+        if sc is None:
+            self.general.object = message
             return
         self.state.notes = sc.notes
         self.state.set_scenario(sc)
@@ -747,20 +756,9 @@ class ComparisonView:
         self._adopt(sc)
 
     def _upload(self, event) -> None:
-        data = event.new
-        if data is None:
-            return
-        if len(data) > MAX_UPLOAD_BYTES:
-            self.message.object = (f"Not loaded: the file has {len(data):,} bytes; scenario "
-                                   f"files are limited to {MAX_UPLOAD_BYTES:,} bytes.")
-            return
-        try:
-            sc = parse_scenario(data.decode("utf-8"), path=self.upload.filename)
-        except UnicodeDecodeError:
-            self.message.object = "Not loaded: the file is not UTF-8 text."
-            return
-        except InputError as err:
-            self.message.object = f"Not loaded: {err}"
+        sc, message = read_upload(event.new, self.upload.filename)
+        if sc is None:
+            self.message.object = message
             return
         self._adopt(sc)
 

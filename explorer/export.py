@@ -657,15 +657,8 @@ def mappers_palette(v: str, ds: xr.Dataset) -> dict:
 
 
 _UPDATE_JS = """
-const m = mode.active === 0 ? "pressure" : "steam_to_carbon";
-const key = [];
-for (const d of R.dims) {
-  if (d === "temperature" || !(d in sliders)) continue;
-  const s = sliders[d];
-  s.visible = d !== m;
-  if (d !== m) key.push(`${d}=${s.value}`);
-}
-const k = key.join("|");
+const m = mapMode();
+const k = sliceKey(m);
 for (let i = 0; i < 2; i++) {
   const v = selects[i].value;
   const L = R.layers[v][m][k];
@@ -691,18 +684,8 @@ for (let i = 0; i < 2; i++) {
 """
 
 _TAP_JS = """
-const m = mode.active === 0 ? "pressure" : "steam_to_carbon";
-const x = cb_obj.x, y = cb_obj.y;
-const T = R.axes.temperature.map((t) => t - 273.15);
-const Y = R.axes[m].map((v) => (m === "pressure" ? v / 1e5 : v));
-let i = 0, j = 0;
-for (let a = 0; a < T.length; a++) if (Math.abs(T[a] - x) < Math.abs(T[i] - x)) i = a;
-for (let b = 0; b < Y.length; b++) if (Math.abs(Y[b] - y) < Math.abs(Y[j] - y)) j = b;
-const idx = {};
-for (const d of R.dims) if (d in sliders) idx[d] = sliders[d].value;
-idx.temperature = i;
-idx[m] = j;
-const p = flatIndex(idx);
+const m = mapMode();
+const [p, T, Y, i, j] = tappedPoint(m, cb_obj.x, cb_obj.y);
 const d = assemble(p);
 let head = `<p><b>${pyFixed(d.temperature_K - 273.15, 1)} degC, ` +
   `${pyFixed(d.pressure_Pa / 1e5, 3)} bar abs, S/C ${pyG(d.steam_to_carbon, 3)}</b>`;
@@ -716,15 +699,8 @@ for (let f = 0; f < 2; f++) srcs[f].selected.data = {x: [T[i]], y: [Y[j]], alpha
 
 
 _UPDATE_CMP_JS = """
-const m = mode.active === 0 ? "pressure" : "steam_to_carbon";
-const key = [];
-for (const d of R.dims) {
-  if (d === "temperature" || !(d in sliders)) continue;
-  const s = sliders[d];
-  s.visible = d !== m;
-  if (d !== m) key.push(`${d}=${s.value}`);
-}
-const k = key.join("|");
+const m = mapMode();
+const k = sliceKey(m);
 const v = selects[0].value;
 const sets = [[R.layers, R.common, R.cmp.palettes], [R.cmp.layers, R.cmp.common, R.cmp.palettes],
               [R.cmp.diff, R.cmp.common, R.cmp.diff_palettes]];
@@ -755,18 +731,8 @@ for (let i = 0; i < 3; i++) {
 """
 
 _TAP_CMP_JS = """
-const m = mode.active === 0 ? "pressure" : "steam_to_carbon";
-const x = cb_obj.x, y = cb_obj.y;
-const T = R.axes.temperature.map((t) => t - 273.15);
-const Y = R.axes[m].map((v) => (m === "pressure" ? v / 1e5 : v));
-let i = 0, j = 0;
-for (let a = 0; a < T.length; a++) if (Math.abs(T[a] - x) < Math.abs(T[i] - x)) i = a;
-for (let b = 0; b < Y.length; b++) if (Math.abs(Y[b] - y) < Math.abs(Y[j] - y)) j = b;
-const idx = {};
-for (const d of R.dims) if (d in sliders) idx[d] = sliders[d].value;
-idx.temperature = i;
-idx[m] = j;
-const p = flatIndex(idx);
+const m = mapMode();
+const [p, T, Y, i, j] = tappedPoint(m, cb_obj.x, cb_obj.y);
 const a = assemble(p);
 const b = assemble(p, R.proposal, pts2);
 let head = `<p><b>${pyFixed(a.temperature_K - 273.15, 1)} degC, ` +

@@ -105,6 +105,38 @@ function ratioIndex(idx) {
   return r;
 }
 
+function mapMode() {
+  // The maps' y axis (mode and sliders are the page's models, passed to every callback).
+  return mode.active === 0 ? "pressure" : "steam_to_carbon";
+}
+
+function sliceKey(m) {
+  // Key of the shown slice in R.layers; hides the slider of the y axis.
+  const key = [];
+  for (const d of R.dims) {
+    if (d === "temperature" || !(d in sliders)) continue;
+    const s = sliders[d];
+    s.visible = d !== m;
+    if (d !== m) key.push(`${d}=${s.value}`);
+  }
+  return key.join("|");
+}
+
+function tappedPoint(m, x, y) {
+  // The grid node nearest a click at (x degC, y display units): [flat index, T axis [degC],
+  // y axis, i, j].
+  const T = R.axes.temperature.map((t) => t - 273.15);
+  const Y = R.axes[m].map((v) => (m === "pressure" ? v / 1e5 : v));
+  let i = 0, j = 0;
+  for (let a = 0; a < T.length; a++) if (Math.abs(T[a] - x) < Math.abs(T[i] - x)) i = a;
+  for (let b = 0; b < Y.length; b++) if (Math.abs(Y[b] - y) < Math.abs(Y[j] - y)) j = b;
+  const idx = {};
+  for (const d of R.dims) if (d in sliders) idx[d] = sliders[d].value;
+  idx.temperature = i;
+  idx[m] = j;
+  return [flatIndex(idx), T, Y, i, j];
+}
+
 function assemble(p, D = R, Q = pts) {
   // D: the page data of a scenario (R, or D.proposal); Q: its points source.
   // The balance of flat grid point p, with the key paths of PointResult.to_dict().

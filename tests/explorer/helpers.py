@@ -63,9 +63,9 @@ def served_app(scenario, proposal=None):
     from explorer.app import build_app
 
     port = free_port()
-    thread = pn.serve({"/": lambda: build_app(scenario, proposal=proposal)}, port=port, address="127.0.0.1",
-                      websocket_origin=[f"127.0.0.1:{port}"], threaded=True, show=False,
-                      verbose=False)
+    thread = pn.serve({"/": lambda: build_app(scenario, proposal=proposal)}, port=port,
+                      address="127.0.0.1", websocket_origin=[f"127.0.0.1:{port}"],
+                      threaded=True, show=False, verbose=False)
     deadline = time.time() + 30
     while time.time() < deadline:
         try:

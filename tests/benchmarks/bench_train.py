@@ -1,0 +1,104 @@
+"""Benchmark: the reforming train over a window, against Cantera's HP equilibrium loop.
+
+Run on its own (not collected by pytest)::
+
+    python tests/benchmarks/bench_train.py [--sample 300]
+
+(a) The adiabatic secondary reformer alone: ``thermo.train.adiabatic_equilibrium`` on the
+    primary outlets of the demo scenario over a 40 T x 20 P x 20 S/C window (16,000 points,
+    air at O2/C 0.25 and 550 degC), points/s, against a Cantera loop of
+    ``equilibrate('HP')`` (gas only, the same species and data: tests/thermo/cantera_ref.py)
+    on a random sample of the same inlets; the sample also gives the largest outlet
+    temperature difference.
+(b) Whole sweeps of the same window: the demo scenario alone, and with the four-stage train
+    of tests/thermo/test_train.py, so the train's cost shows as a ratio.
+
+Figures only: nothing here asserts a time.
+"""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[2]
+if str(ROOT) not in sys.path:
+    sys.path.insert(0, str(ROOT))
+
+import argparse  # noqa: E402
+import time  # noqa: E402
+
+import numpy as np  # noqa: E402
+
+import thermo  # noqa: E402
+from tests.benchmarks.common import code_version  # noqa: E402
+from tests.thermo import cantera_ref  # noqa: E402
+from tests.thermo.test_train import FULL_TRAIN  # noqa: E402
+from thermo.balances import enthalpy_flow, reformer_balance  # noqa: E402
+from thermo.scenario import SecondaryReformer, parse_scenario  # noqa: E402
+from thermo.train import adiabatic_equilibrium  # noqa: E402
+
+WINDOW = dict(temperature=("650 degC", "950 degC", 40), pressure=("5 bar", "40 bar", 20),
+              steam_to_carbon=(1.5, 5.0, 20))
+SEED = 1357
+
+
+def _cantera_hp(moles, H, P):
+    g = cantera_ref.gas()
+    total = moles.sum()
+    g.TPX = 1200.0, P, moles / total
+    g.HP = H / total * 1000.0 / g.mean_molecular_weight, P
+    g.equilibrate("HP")
+    return g.T
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser()
+    ap.add_argument("--sample", type=int, default=300)
+    a = ap.parse_args()
+    print(code_version())
+    sc = thermo.load_scenario().with_window(**WINDOW)
+    axes = {k: v.values() for k, v in sc.window.axes().items()}
+    T, P, S = (g.ravel() for g in np.meshgrid(axes["temperature"], axes["pressure"],
+                                              axes["steam_to_carbon"], indexing="ij"))
+    feed = sc.feed.inlet_flows(steam_to_carbon=S).T
+    prim = reformer_balance(feed, T, P, sc.feed.inlet_temperature, sc.approach)
+    gas = prim.outlet_flow
+    sec = SecondaryReformer("air", 0.25, 823.15)
+    ox = sec.oxidant_flows(prim.hydrocarbon_carbon).T
+    H_in = enthalpy_flow(gas, T) + enthalpy_flow(ox, np.full(len(T), 823.15))
+    mixed = gas + ox
+    adiabatic_equilibrium(mixed[:50], H_in[:50], P[:50], 0.0)  # compile/warm
+    t0 = time.perf_counter()
+    T_out, _, ok = adiabatic_equilibrium(mixed, H_in, P, 0.0,
+                                         bounds=(np.full(len(T), 600.0), 3000.0))
+    ours = time.perf_counter() - t0
+    rng = np.random.default_rng(SEED)
+    pick = rng.choice(len(T), size=a.sample, replace=False)
+    _cantera_hp(mixed[0], H_in[0], P[0])
+    t0 = time.perf_counter()
+    T_ct = np.array([_cantera_hp(mixed[i], H_in[i], P[i]) for i in pick])
+    ct = time.perf_counter() - t0
+    rate_ours = len(T) / ours
+    rate_ct = a.sample / ct
+    print(f"(a) adiabatic secondary reformer, {len(T):,} points: {rate_ours:,.0f} points/s, "
+          f"all converged: {bool(ok.all())}")
+    print(f"    Cantera equilibrate('HP') loop on {a.sample} of them: {rate_ct:,.0f} points/s"
+          f"  -> ratio {rate_ours / rate_ct:.1f}x; max |dT| "
+          f"{np.abs(T_out[pick] - T_ct).max():.2e} K")
+    train_sc = parse_scenario(sc.to_toml() + FULL_TRAIN)
+    thermo.sweep(train_sc.with_window(temperature=("800 degC", "900 degC", 3)))  # warm
+    times = {}
+    for name, s in (("primary only", sc), ("four-stage train", train_sc)):
+        t0 = time.perf_counter()
+        ds = thermo.sweep(s)
+        times[name] = time.perf_counter() - t0
+        print(f"(b) sweep, {name}: {ds['converged'].size:,} points in {times[name]:.2f} s "
+              f"({ds['converged'].size / times[name]:,.0f} points/s), converged "
+              f"{float(ds['converged'].mean()):.4f}")
+    ratio = times["four-stage train"] / times["primary only"]
+    print(f"    train / primary time ratio: {ratio:.1f}")
+
+
+if __name__ == "__main__":
+    main()
