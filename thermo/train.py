@@ -41,10 +41,11 @@ from dataclasses import dataclass
 import numpy as np
 
 from thermo.balances import Balance, enthalpy_flow, outlet_enthalpy, reformer_balance
+from thermo.constants import R
 from thermo.equilibrium import equilibrate
 from thermo.extent import SHIFT, delta_g_RT
 from thermo.scenario import STAGE_NAMES, SecondaryReformer, Train
-from thermo.species import GAS_SPECIES, formula_matrix
+from thermo.species import GAS_SPECIES, formula_matrix, gas_table
 
 _I = {s: i for i, s in enumerate(GAS_SPECIES)}
 _HC_CARBON = np.array([{"CH4": 1.0, "C2H6": 2.0, "C3H8": 3.0}.get(s, 0.0) for s in GAS_SPECIES])
@@ -205,12 +206,16 @@ def shift_equilibrium(gas_flow, temperature) -> np.ndarray:
 
 
 def adiabatic_equilibrium(gas_flow, inlet_enthalpy, pressure, approach=0.0,
-                          bounds=(350.0, 2800.0), max_iterations: int = 200):
+                          bounds=(350.0, 2800.0), guess=None, max_iterations: int = 200):
     """Outlet temperature and composition of adiabatic equilibrium stages, N at once.
 
     Finds T with H_out(T) = H_in, where the outlet is the Gibbs equilibrium (graphite
-    allowed) at T - approach and its enthalpy is taken at T, by the Illinois variant of
-    regula falsi on every point together (bisection when it stalls).
+    allowed) at T - approach and its enthalpy is taken at T. From a `guess`, secant steps
+    (the first with the frozen heat capacity) converge most points in a few equilibrium
+    solves, each warm-started from the last; any point they do not settle, and every point
+    without a guess, is solved by the Illinois variant of regula falsi inside `bounds`
+    (bisection where it stalls). H_out rises with T (the equilibrium heat capacity is
+    positive), so the root in the bracket is unique.
 
     Parameters
     ----------
@@ -224,6 +229,8 @@ def adiabatic_equilibrium(gas_flow, inlet_enthalpy, pressure, approach=0.0,
         Approach to equilibrium [K].
     bounds : (array_like, array_like)
         Bracket of the outlet temperature [K].
+    guess : array_like (N,), optional
+        A first estimate of the outlet temperature [K].
 
     Returns
     -------
@@ -241,56 +248,105 @@ def adiabatic_equilibrium(gas_flow, inlet_enthalpy, pressure, approach=0.0,
     hi = np.broadcast_to(np.asarray(bounds[1], dtype=float), (N,)).astype(float)
     # Tolerance on the enthalpy balance: relative to the inlet enthalpy flow's magnitude,
     # with a floor of the sensible heat scale (n R T) for streams whose H_in is near 0.
-    tol = ADIABATIC_TOLERANCE * (np.abs(H_in) + n.sum(axis=1) * 8.314 * 1000.0)
+    tol = ADIABATIC_TOLERANCE * (np.abs(H_in) + n.sum(axis=1) * R * 1000.0)
 
     def residual(T, idx, warm=None):
         eq = equilibrate(T - dT[idx], P[idx], b_el[idx], warm_start=warm)
         return outlet_enthalpy(eq.moles, eq.carbon, T, P[idx]) - H_in[idx], eq
 
-    all_idx = np.arange(N)
-    f_lo, _ = residual(lo, all_idx)
-    f_hi, eq_hi = residual(hi, all_idx)
-    ok = (f_lo <= 0) & (f_hi >= 0)  # H_out rises with T
-    a, fa, b, fb = lo.copy(), f_lo, hi.copy(), f_hi
-    side = np.zeros(N, dtype=int)
-    warm = eq_hi.element_potentials.copy()
-    T = np.where(ok, b, np.nan)
-    active = ok & (np.abs(fb) > tol)
-    for _ in range(max_iterations):
-        if not active.any():
-            break
-        idx = np.flatnonzero(active)
-        ai, bi, fai, fbi = a[idx], b[idx], fa[idx], fb[idx]
-        den = fbi - fai
-        with np.errstate(invalid="ignore", divide="ignore"):
-            c = np.where(den != 0, (ai * fbi - bi * fai) / den, 0.5 * (ai + bi))
-        # Bisect where the secant leaves the bracket or one end has been kept three times.
-        lo_b, hi_b = np.minimum(ai, bi), np.maximum(ai, bi)
-        bad = ~((c > lo_b) & (c < hi_b)) | (np.abs(side[idx]) >= 3)
-        c = np.where(bad, 0.5 * (ai + bi), c)
-        fc, eq = residual(c, idx, warm[idx])
-        warm[idx] = eq.element_potentials
-        # Keep the bracket [a, b] with fa <= 0 <= fb (a is the cold end).
-        neg = fc < 0
-        a[idx] = np.where(neg, c, ai)
-        fa[idx] = np.where(neg, fc, fai)
-        b[idx] = np.where(neg, bi, c)
-        fb[idx] = np.where(neg, fbi, fc)
-        # Illinois: halve the residual of the end kept twice in a row.
-        s = side[idx]
-        s = np.where(neg, np.where(s > 0, s + 1, 1), np.where(s < 0, s - 1, -1))
-        side[idx] = s
-        fb[idx] = np.where(neg & (s >= 2), fb[idx] / 2.0, fb[idx])
-        fa[idx] = np.where(~neg & (s <= -2), fa[idx] / 2.0, fa[idx])
-        T[idx] = c
-        done = (np.abs(fc) <= tol[idx]) | (np.abs(bi - ai) <= 1e-12 * c)
-        active[idx] = ~done
+    T = np.full(N, np.nan)
+    warm = np.zeros_like(b_el)
+    done = np.zeros(N, dtype=bool)
+    if guess is not None:
+        done = _secant(residual, np.clip(np.broadcast_to(guess, (N,)), lo, hi), lo, hi, tol,
+                       T, warm)
+    rest = np.flatnonzero(~done)
+    ok = done.copy()
+    if rest.size:
+        ok[rest] = _illinois(residual, rest, lo[rest], hi[rest], tol[rest], T, warm,
+                             max_iterations)
     # Final state at the found temperatures (warm-started: a few iterations).
     Tf = np.where(ok, T, 0.5 * (lo + hi))
     eq = equilibrate(Tf - dT, P, b_el, warm_start=warm)
     resid = outlet_enthalpy(eq.moles, eq.carbon, Tf, P) - H_in
     ok = ok & eq.converged & (np.abs(resid) <= 100.0 * tol)
     return np.where(ok, Tf, np.nan), eq, ok
+
+
+def _secant(residual, T0, lo, hi, tol, T, warm, steps: int = 12) -> np.ndarray:
+    """Secant steps from T0 on every point; fills T and warm, returns the settled points."""
+    N = T0.size
+    idx = np.arange(N)
+    f0, eq = residual(T0, idx)
+    warm[:] = eq.element_potentials
+    # First step: Newton with the frozen heat capacity of the equilibrium gas at T0.
+    cp = np.einsum("ns,sn->n", eq.moles, gas_table(T0, "cp_R")) * R
+    T1 = np.clip(T0 - f0 / np.maximum(cp, 1e-30), lo, hi)
+    done = np.abs(f0) <= tol
+    T[done] = T0[done]
+    a, fa, b = T0.copy(), f0.copy(), T1.copy()
+    for _ in range(steps):
+        idx = np.flatnonzero(~done)
+        if idx.size == 0:
+            break
+        fb, eq = residual(b[idx], idx, warm[idx])
+        warm[idx] = eq.element_potentials
+        settled = np.abs(fb) <= tol[idx]
+        T[idx[settled]] = b[idx[settled]]
+        done[idx[settled]] = True
+        den = fb - fa[idx]
+        with np.errstate(invalid="ignore", divide="ignore"):
+            step = np.where(den != 0, fb * (b[idx] - a[idx]) / den, 0.0)
+        new = np.clip(b[idx] - step, lo[idx], hi[idx])
+        a[idx], fa[idx] = b[idx], fb
+        b[idx] = new
+        stuck = (new == a[idx]) & ~settled
+        done[idx[stuck]] = False  # left to the bracketed solve
+    return done
+
+
+def _illinois(residual, idx, lo, hi, tol, T, warm, max_iterations) -> np.ndarray:
+    """Bracketed Illinois regula falsi on the points `idx`; fills T and warm there and
+    returns their success flags."""
+    f_lo, _ = residual(lo, idx)
+    f_hi, eq_hi = residual(hi, idx)
+    ok = (f_lo <= 0) & (f_hi >= 0)  # H_out rises with T
+    m = idx.size
+    a, fa, b, fb = lo.copy(), f_lo, hi.copy(), f_hi
+    side = np.zeros(m, dtype=int)
+    w = eq_hi.element_potentials.copy()
+    Ts = np.where(ok, b, np.nan)
+    active = ok & (np.abs(fb) > tol)
+    for _ in range(max_iterations):
+        if not active.any():
+            break
+        k = np.flatnonzero(active)
+        ak, bk, fak, fbk = a[k], b[k], fa[k], fb[k]
+        den = fbk - fak
+        with np.errstate(invalid="ignore", divide="ignore"):
+            c = np.where(den != 0, (ak * fbk - bk * fak) / den, 0.5 * (ak + bk))
+        # Bisect where the secant leaves the bracket or one end has been kept three times.
+        bad = ~((c > ak) & (c < bk)) | (np.abs(side[k]) >= 3)
+        c = np.where(bad, 0.5 * (ak + bk), c)
+        fc, eq = residual(c, idx[k], w[k])
+        w[k] = eq.element_potentials
+        # Keep the bracket [a, b] with fa <= 0 <= fb (a is the cold end).
+        neg = fc < 0
+        a[k] = np.where(neg, c, ak)
+        fa[k] = np.where(neg, fc, fak)
+        b[k] = np.where(neg, bk, c)
+        fb[k] = np.where(neg, fbk, fc)
+        # Illinois: halve the residual of the end kept twice in a row.
+        s = side[k]
+        s = np.where(neg, np.where(s > 0, s + 1, 1), np.where(s < 0, s - 1, -1))
+        side[k] = s
+        fb[k] = np.where(neg & (s >= 2), fb[k] / 2.0, fb[k])
+        fa[k] = np.where(~neg & (s <= -2), fa[k] / 2.0, fa[k])
+        Ts[k] = c
+        active[k] = ~((np.abs(fc) <= tol[k]) | (np.abs(bk - ak) <= 1e-12 * c))
+    T[idx] = Ts
+    warm[idx] = w
+    return ok
 
 
 def _unique_rows(*arrays):
@@ -307,7 +363,8 @@ def _pre_reformer(feed, P, T_in, N):
     n_u, P_u, T_u = uniq[:, :S], uniq[:, S], uniq[:, S + 1]
     H_u = enthalpy_flow(n_u, T_u)
     Tout, eq, ok = adiabatic_equilibrium(n_u, H_u, P_u, 0.0,
-                                         bounds=(np.maximum(T_u - 250.0, 350.0), T_u + 400.0))
+                                         bounds=(np.maximum(T_u - 250.0, 350.0), T_u + 400.0),
+                                         guess=T_u)
     return (Tout[inv], eq.moles[inv], eq.carbon[inv], ok[inv], H_u[inv])
 
 
@@ -320,7 +377,8 @@ def _secondary(sec: SecondaryReformer, gas, T_gas, P, hc_carbon):
     mixed = gas + ox
     dT = np.full(N, sec.approach)
     lo = np.maximum(np.minimum(T_gas, T_ox) - 400.0, 350.0)
-    T, eq, ok = adiabatic_equilibrium(mixed, H_in, P, dT, bounds=(lo, 3000.0))
+    T, eq, ok = adiabatic_equilibrium(mixed, H_in, P, dT, bounds=(lo, 3000.0),
+                                      guess=np.maximum(T_gas, lo))
     return T, eq, ok, ox, H_in
 
 
