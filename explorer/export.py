@@ -70,6 +70,9 @@ from thermo.species import GAS_SPECIES, formula_matrix, molar_masses
 from thermo.sweep import RATIO_AXES
 
 #: Variables the review file can map (each adds its slices to the file).
+#: Added to the review file's chooser when the scenario has a reforming train.
+TRAIN_EXPORT_VARIABLES = ("h2_product", "train_duty", "train_methane_slip_dry")
+
 EXPORT_VARIABLES = ("h2_yield", "methane_slip_dry", "h2_potential", "methane_conversion",
                     "h2_co_ratio", "duty", "duty_per_h2", "carbon_activity", "dry:CO",
                     "dry:CO2")
@@ -212,6 +215,28 @@ def _ranges_text(T: np.ndarray, ok: np.ndarray) -> str:
     return ", ".join(parts) if parts else "none"
 
 
+def _train_inputs(sc: Scenario) -> list[tuple[str, str]]:
+    """The reforming train's stages as (name, settings) rows of the review sheet."""
+    from thermo.scenario import STAGE_NAMES
+
+    t, rows = sc.train, []
+    if t.pre_reformer is not None:
+        rows.append((STAGE_NAMES["pre_reformer"],
+                     f"inlet {t.pre_reformer.inlet_temperature - 273.15:.1f} degC; gas "
+                     f"reheated to {sc.feed.inlet_temperature - 273.15:.1f} degC"))
+    sec = t.secondary_reformer
+    if sec is not None:
+        rows.append((STAGE_NAMES["secondary_reformer"],
+                     f"{sec.oxidant}, O2/C {sec.oxygen_to_carbon:g} at "
+                     f"{sec.oxidant_temperature - 273.15:.1f} degC; approach {sec.approach:g} K"))
+    for name in ("high_temperature_shift", "low_temperature_shift"):
+        st = getattr(t, name)
+        if st is not None:
+            rows.append((STAGE_NAMES[name], f"{st.temperature - 273.15:.1f} degC; approach "
+                                            f"{st.approach:g} K"))
+    return rows
+
+
 def _limits_text(sc: Scenario) -> list[tuple[str, str]]:
     lim = sc.limits
     return [
@@ -253,7 +278,7 @@ def review_sheet_html(sc: Scenario, ds: xr.Dataset, pinned: list[dict]) -> str:
                          f"CO2/C {f.co2_to_carbon:g}"),
         ("Approach to equilibrium", f"{sc.approach:g} K"),
     ] + [(f"Window: {_AXIS_NAMES.get(n, 'Outlet temperature')}", axis_text(n, a))
-         for n, a in axes]
+         for n, a in axes] + _train_inputs(sc)
     assumptions = [
         ("Phases", "ideal-gas mixture of CH4, C2H6, C3H8, H2O, H2, CO, CO2, O2, N2, Ar; pure "
                    "graphite where it is stable"),
@@ -265,6 +290,17 @@ def review_sheet_html(sc: Scenario, ds: xr.Dataset, pinned: list[dict]) -> str:
                  "temperature"),
         ("Standard state", f"{P_REF / 1e5:g} bar; normal volume at 0 degC and 1.01325 bar"),
     ]
+    if not sc.train.empty:
+        assumptions += [
+            ("Reforming train", "every stage at the outlet pressure (no pressure drop); "
+                                "adiabatic stages at zero duty; shift stages held at their "
+                                "temperature, CO + H2O = CO2 + H2 only (CH4 and carbon "
+                                "frozen), equilibrium at the stage temperature plus the "
+                                "approach"),
+            ("Review limits with a train", "slip after the last reformer, H2 after the last "
+                                           "stage, graphite in any reforming stage; duty "
+                                           "limit on the primary's radiant duty"),
+        ]
     bad = int((~ds["converged"]).sum())
     parts = ["<h2>Review sheet</h2>", "<h3>Inputs</h3>", _pairs_table(inputs),
              "<h3>Assumptions</h3>", _pairs_table(assumptions),
@@ -461,8 +497,8 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
     R["axis_labels"] = {m: axis_label(m) for m in MODES}
     figs, srcs, mappers = [], [], []
     if compare is None:
-        variables = EXPORT_VARIABLES
-        layers, common = all_layers(ds, sc.limits)
+        variables = EXPORT_VARIABLES + (() if sc.train.empty else TRAIN_EXPORT_VARIABLES)
+        layers, common = all_layers(ds, sc.limits, variables)
         R["layers"], R["common"] = layers, common
         R["titles"] = {v: VARIABLES[v].title for v in variables}
         R["palettes"] = {v: mappers_palette(v, ds) for v in variables}

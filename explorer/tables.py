@@ -283,7 +283,9 @@ def comparison_html(points: list[dict]) -> str:
         return "<p class='rw-small'>No pinned points yet: select a point on a map and pin it.</p>"
     head = ["quantity", "unit"] + [f"#{i + 1}" for i in range(len(points))]
     rows = []
-    for label, unit, key, conv, dec in SUMMARY_ROWS + ENERGY_ROWS[2:]:
+    trains = any(len((p.get("train") or {}).get("stages") or []) > 1 for p in points)
+    for label, unit, key, conv, dec in (SUMMARY_ROWS + ENERGY_ROWS[2:]
+                                        + (TRAIN_ROWS if trains else [])):
         rows.append([label, unit] + [display(lookup(p, key), conv, dec) for p in points])
     for s in ("H2", "CO", "CO2", "CH4"):
         rows.append([f"{s} out", "kmol/h"]

@@ -331,3 +331,35 @@ def test_successful_write_replaces_the_file_with_normal_permissions(previous, mo
     os.umask(umask)
     # thermo.io.publish: what the umask gives a new file (0o666 is the POSIX default mode)
     assert previous.stat().st_mode & 0o777 == 0o666 & ~umask
+
+
+# ------------------------------------------------------------------------- reforming train
+def test_train_scenario_file_maps_the_train_and_lists_its_stages(tmp_path):
+    """A scenario with a train: its variables join the chooser, the sheet lists every stage
+    and a pinned point's train rows; the shipped ammonia scenario (invented data)."""
+    from explorer.tables import comparison_html
+
+    sc = thermo.load_scenario(ROOT / "scenarios" / "ammonia-front-end.toml")
+    pinned = [thermo.point(sc).to_dict()]
+    (tmp_path / "p.json").write_text(json.dumps(pinned), "utf-8")
+    out = tmp_path / "ammonia.html"
+    proc = run_export("--scenario", str(ROOT / "scenarios" / "ammonia-front-end.toml"),
+                      "--pinned", str(tmp_path / "p.json"), "-o", str(out))
+    assert proc.returncode == 0, proc.stderr
+    text = out.read_text("utf-8")
+    R = page_data(text)
+    for v in export_module.TRAIN_EXPORT_VARIABLES:
+        assert v in R["layers"] and v in R["titles"]
+    assert [s["name"] for s in R["train"]["stages"]] == sc.train.stages()
+    sheet = table_cells(text[text.index("Review sheet"):])
+    rows = {r[0]: r[1] for r in sheet if len(r) == 2}
+    assert rows["Secondary reformer (adiabatic)"] == "air, O2/C 0.27 at 550.0 degC; approach 5 K"
+    assert rows["High-temperature shift"] == "370.0 degC; approach 10 K"
+    assert rows["Low-temperature shift"] == "210.0 degC; approach 10 K"
+    assert "Reforming train" in rows
+    # Pinned points side by side carry the train's totals.
+    cmp_rows = {r[0]: r for r in table_cells(comparison_html(pinned))}
+    assert cmp_rows["H2 product after the last stage"][2] == \
+        f"{pinned[0]['train']['h2_product']:,.4f}"
+    # The demo (no train) keeps its chooser.
+    assert thermo.load_scenario().train.empty
