@@ -134,3 +134,59 @@ def test_module_entry_point_runs():
                           capture_output=True, text=True, timeout=120)
     assert proc.returncode == 0, proc.stderr
     assert json.loads(proc.stdout)["converged"] is True
+
+
+def test_point_json_of_a_train_carries_every_stage(capsys):
+    """The shipped ammonia scenario (invented data): four stages, the train's totals."""
+    from thermo.scenario import DEMO_PATH
+
+    path = DEMO_PATH.parent / "ammonia-front-end.toml"
+    code, out, _ = run(capsys, "point", str(path), "--json")
+    assert code == 0
+    d = json.loads(out)
+    tr = d["train"]
+    assert [s["name"] for s in tr["stages"]] == ["primary_reformer", "secondary_reformer",
+                                                 "high_temperature_shift",
+                                                 "low_temperature_shift"]
+    sec = tr["stages"][1]
+    assert abs(sec["duty_W"]) <= 1e-6 * abs(sec["inlet_enthalpy_W"])  # adiabatic
+    hc = d["hydrocarbon_carbon_mol_per_s"]
+    assert tr["h2_product"] == pytest.approx(tr["product"]["flow_mol_per_s"]["H2"] / hc)
+    assert tr["duty_W"] == pytest.approx(d["duty_W"])  # no pre-reformer: no reheat
+    assert tr["stages"][0]["outlet_flow_mol_per_s"] == d["outlet"]["flow_mol_per_s"]
+
+
+def test_export_compare_with_a_bad_proposal_names_it(capsys, tmp_path):
+    bad = tmp_path / "proposal.toml"
+    bad.write_text(thermo.load_scenario().text + '\n[train.low_temperature_shift]\n'
+                   'temperature = "40 degC"\n', "utf-8")
+    code, out, err = run(capsys, "export", "--compare", str(bad), "-o",
+                         str(tmp_path / "r.html"))
+    assert code == 2 and out == ""
+    line = err.strip()
+    assert "\n" not in line and "Traceback" not in err
+    assert f"--compare {bad}: train.low_temperature_shift.temperature" in line
+    assert not (tmp_path / "r.html").exists()
+
+
+def test_export_compare_writes_one_offline_comparison_file(tmp_path):
+    """`explorer export BASE --compare PROPOSAL` in a fresh process (see test_export_unit)."""
+    from explorer.export import check_offline
+    from tests.explorer.helpers import small_scenario
+
+    base = tmp_path / "base.toml"
+    base.write_text(small_scenario().to_toml(), "utf-8")
+    out = tmp_path / "review.html"
+    from thermo.scenario import DEMO_PATH
+
+    proposal = DEMO_PATH.parent / "demo-proposal.toml"
+    proc = subprocess.run([sys.executable, "-m", "explorer.cli", "export", str(base),
+                           "--compare", str(proposal), "-o", str(out)],
+                          capture_output=True, text=True, timeout=300)
+    assert proc.returncode == 0, proc.stderr
+    assert f"comparison with {proposal}" in proc.stdout
+    text = out.read_text("utf-8")
+    check_offline(text)
+    assert "Comparison: base and proposal" in text
+    assert "pre-reformer" in text.lower()
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["base.toml", "review.html"]
