@@ -178,28 +178,33 @@ def outlet_enthalpy(gas_flow: np.ndarray, carbon, T, P) -> np.ndarray:
     return enthalpy_flow(gas_flow, T) + np.asarray(carbon) * h_gr
 
 
-def _reaction_approach(reaction, ln_q: np.ndarray, T: np.ndarray, sign: float) -> np.ndarray:
+def _reaction_approach(reaction, ln_q: np.ndarray, T: np.ndarray, sign: float,
+                       start: np.ndarray | None = None) -> np.ndarray:
     """Temperature difference between T and where ln K = ln Q, signed toward conversion [K].
 
     Newton's method in 1/T (ln K is nearly linear there, d ln K / d(1/T) = -dH/R, the van 't
-    Hoff equation), on all points at once; NaN where ln Q is not finite or K never equals Q
-    inside the data range (300-3500 K).
+    Hoff equation), on the points not yet settled, from `start` (the equilibrium temperature
+    of the outlet, where a gas-phase equilibrium already has K = Q) or T; NaN where ln Q is
+    not finite or K never equals Q inside the data range (300-3500 K).
     """
     lo, hi = 300.0, 3500.0
     ok = np.isfinite(ln_q)
     q = np.where(ok, ln_q, 0.0)
-    f_lo = -delta_g_RT(reaction, np.full(T.shape, lo)) - q
-    f_hi = -delta_g_RT(reaction, np.full(T.shape, hi)) - q
+    f_lo = -float(delta_g_RT(reaction, lo)) - q
+    f_hi = -float(delta_g_RT(reaction, hi)) - q
     ok &= f_lo * f_hi <= 0
-    Ts = np.where(ok, np.clip(T, lo, hi), 1000.0)
+    guess = T if start is None else start
+    Ts = np.where(ok, np.clip(guess, lo, hi), 1000.0)
+    active = np.flatnonzero(ok)
     for _ in range(60):
-        f = -delta_g_RT(reaction, Ts) - q
-        slope = -delta_h(reaction, Ts) / R  # d ln K / d(1/T)
-        new = np.clip(1.0 / (1.0 / Ts - f / slope), lo, hi)
-        done = np.all(np.abs(new - Ts)[ok] <= 1e-9) if ok.any() else True
-        Ts = np.where(ok, new, Ts)
-        if done:
+        if active.size == 0:
             break
+        Ta = Ts[active]
+        f = -delta_g_RT(reaction, Ta) - q[active]
+        slope = -delta_h(reaction, Ta) / R  # d ln K / d(1/T)
+        new = np.clip(1.0 / (1.0 / Ta - f / slope), lo, hi)
+        Ts[active] = new
+        active = active[np.abs(new - Ta) > 1e-9]
     return np.where(ok, sign * (T - Ts), np.nan)
 
 
@@ -280,8 +285,8 @@ def reformer_balance(
         ln_q_shift = lx[:, _I["CO2"]] + lx[:, _I["H2"]] - lx[:, _I["CO"]] - lx[:, _I["H2O"]]
     ln_q_ref = np.where(np.isnan(ln_q_ref), -np.inf, ln_q_ref)
     ln_q_shift = np.where(np.isnan(ln_q_shift), -np.inf, ln_q_shift)
-    app_ref = _reaction_approach(REFORMING, ln_q_ref, T, +1.0)
-    app_shift = _reaction_approach(SHIFT, ln_q_shift, T, -1.0)
+    app_ref = _reaction_approach(REFORMING, ln_q_ref, T, +1.0, start=T_eq)
+    app_shift = _reaction_approach(SHIFT, ln_q_shift, T, -1.0, start=T_eq)
     return Balance(
         temperature=T,
         pressure=P,

@@ -103,8 +103,9 @@ class SpeciesRecord:
                 f"temperature {worst:.6g} K is outside the data range of {self.name} "
                 f"({self.t_low:g} to {self.t_high:g} K, source {self.source})"
             )
-        use_low = T <= self.t_mid
-        return np.where(use_low[..., None], self.low, self.high)
+        # Row 0 (low range) where T <= t_mid, row 1 (high range) above: a gather is about
+        # twice as fast as a broadcast where() on large arrays.
+        return np.stack((self.low, self.high))[(T > self.t_mid).astype(np.intp)]
 
 
 def _load() -> dict[str, SpeciesRecord]:
