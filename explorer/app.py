@@ -722,7 +722,9 @@ class ComparisonView:
         self.chooser.param.watch(self._choose, "value")
         self.upload.param.watch(self._upload, "value")
         self.variable.param.watch(self._redraw, "value")
-        state.param.watch(self._redraw, ["difference", "mode", "fixed"])
+        # The base's dataset also changes alone (a limits edit: same numbers, new feasible
+        # window), and its hatching must follow.
+        state.param.watch(self._redraw, ["difference", "dataset", "mode", "fixed"])
         state.param.watch(self._status, ["compare_status"])
         state.param.watch(self._table, ["selected", "difference"])
         state.param.watch(self._mark, ["selected"])

@@ -380,7 +380,7 @@ def _train_descriptor(sc: Scenario) -> dict:
 
 
 def _train_arrays(sc: Scenario, ds: xr.Dataset) -> dict[str, np.ndarray]:
-    """Per-point arrays of every stage besides the primary (flat grid order), from the core.
+    """Per-point arrays of every stage (flat grid order), from the core.
 
     The Dataset holds the train's totals only; the stage-by-stage table of a clicked point
     needs each stage's outlet, so the train is run once more over the grid here.
@@ -401,11 +401,10 @@ def _train_arrays(sc: Scenario, ds: xr.Dataset) -> dict[str, np.ndarray]:
                        row=shape[-1])
     out: dict[str, np.ndarray] = {}
     for k, st in enumerate(tr.stages):
-        if st.name == "primary_reformer":
-            if sc.train.pre_reformer is not None:
-                out["primary_hin"] = st.inlet_enthalpy
-                out["primary_heat_before"] = st.heat_before
-            continue
+        if st.name == "primary_reformer" and sc.train.pre_reformer is not None:
+            # The primary's inlet is the pre-reformed gas (the main balance's "inlet").
+            out["primary_hin"] = st.inlet_enthalpy
+            out["primary_heat_before"] = np.nan_to_num(st.heat_before)
         key = f"st{k}"
         for j, s in enumerate(GAS_SPECIES):
             out[f"{key}_n_{s}"] = st.outlet_flow[:, j]
@@ -417,6 +416,7 @@ def _train_arrays(sc: Scenario, ds: xr.Dataset) -> dict[str, np.ndarray]:
         out[f"{key}_hin"] = st.inlet_enthalpy
         out[f"{key}_hout"] = st.outlet_enthalpy
         out[f"{key}_carbon"] = st.carbon_deposit
+        out[f"{key}_ok"] = st.converged
     return {k: np.ascontiguousarray(np.asarray(v, dtype=float)) for k, v in out.items()}
 
 

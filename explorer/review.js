@@ -212,11 +212,17 @@ function assemble(p, D = R, Q = pts) {
     },
     element_closure: closure,
   };
-  if (D.train) {
-    const heatBefore = pre ? P.primary_heat_before[p] : 0;
-    d.train = assembleTrain(p, d, cin, nout, carbon, T, D.inlet_temperature_K, duty, hin,
-                            heatBefore, D, Q);
-    d.converged = d.train.converged;
+  if (D.train && D.train.stages.length > 1) {
+    d.train = assembleTrain(p, cin, D, Q);
+  } else {
+    // The primary alone: the train is the primary's own outlet (thermo.train).
+    const prim = {name: "primary_reformer", label: D.train.stages[0].label,
+                  outlet_flow_mol_per_s: byName(nout), outlet_mole_fraction_dry: byName(xd)};
+    d.train = {stages: [prim], h2_product: h2 / cin, duty_W: Math.max(duty, 0),
+               heat_removed_W: Math.min(duty, 0), methane_slip_dry: xd[S.indexOf("CH4")],
+               carbon_deposit_mol_per_s: carbon, converged: d.converged,
+               product: {temperature_K: T, flow_mol_per_s: byName(nout),
+                         mole_fraction_dry: byName(xd)}};
   }
   return d;
 }
@@ -279,45 +285,34 @@ function dryFractions(n) {
   return n.map((v, j) => (j === iw ? 0 : v / dry));
 }
 
-function assembleTrain(p, primary, cin, nout, carbon, Tk, Tin, duty, hin, heatBefore,
-                       D, Q) {
+function assembleTrain(p, cin, D, Q) {
   // The train of flat grid point p (PointResult.to_dict()["train"]) from the stage arrays
-  // embedded in pts (st<k>_...) and the primary's own numbers.
+  // embedded in pts (st<k>_...; NaN past a stage that failed, as in the core).
   const P = Q.data;
   const stages = [];
-  let carbonAll = 0, removed = 0, slip = null, product = null, productT = null;
-  let conv = P.converged[p] > 0;
+  let carbonAll = 0, supplied = 0, removed = 0, slip = null, product = null, productT = null;
   for (const st of D.train.stages) {
-    let s;
-    if (st.name === "primary_reformer") {
-      s = {name: st.name, label: st.label, inlet_temperature_K: Tin, temperature_K: Tk,
-           equilibrium_temperature_K: Tk - D.approach_K, heat_before_W: heatBefore,
-           duty_W: duty, inlet_enthalpy_W: hin, outlet_enthalpy_W: hin + duty,
-           carbon_deposit_mol_per_s: carbon, converged: primary.converged,
-           inlet_flow_mol_per_s: primary.inlet.flow_mol_per_s,
-           outlet_flow_mol_per_s: byName(nout), outlet_mole_fraction_dry: byName(dryFractions(nout))};
-      product = nout;
-    } else {
-      const k = st.key;
-      const n = S.map((sp) => P[`${k}_n_${sp}`][p]);
-      s = {name: st.name, label: st.label, inlet_temperature_K: P[`${k}_Tin`][p],
-           temperature_K: P[`${k}_T`][p], equilibrium_temperature_K: P[`${k}_Teq`][p],
-           heat_before_W: P[`${k}_heat_before`][p], duty_W: P[`${k}_duty`][p],
-           inlet_enthalpy_W: P[`${k}_hin`][p], outlet_enthalpy_W: P[`${k}_hout`][p],
-           carbon_deposit_mol_per_s: P[`${k}_carbon`][p],
-           outlet_flow_mol_per_s: byName(n), outlet_mole_fraction_dry: byName(dryFractions(n))};
-      product = n;
-    }
+    const k = st.key;
+    const n = S.map((sp) => P[`${k}_n_${sp}`][p]);
+    const s = {name: st.name, label: st.label, inlet_temperature_K: P[`${k}_Tin`][p],
+               temperature_K: P[`${k}_T`][p], equilibrium_temperature_K: P[`${k}_Teq`][p],
+               heat_before_W: P[`${k}_heat_before`][p], duty_W: P[`${k}_duty`][p],
+               inlet_enthalpy_W: P[`${k}_hin`][p], outlet_enthalpy_W: P[`${k}_hout`][p],
+               carbon_deposit_mol_per_s: P[`${k}_carbon`][p], converged: P[`${k}_ok`][p] > 0,
+               outlet_flow_mol_per_s: byName(n), outlet_mole_fraction_dry: byName(dryFractions(n))};
+    product = n;
     productT = s.temperature_K;
     carbonAll += s.carbon_deposit_mol_per_s;
-    if (st.name.endsWith("_shift")) removed += s.heat_before_W + s.duty_W;
-    else slip = s.outlet_mole_fraction_dry.CH4;
+    // thermo.train: heat in and out of the gas, by sign.
+    supplied += Math.max(s.heat_before_W, 0) + Math.max(s.duty_W, 0);
+    removed += Math.min(s.heat_before_W, 0) + Math.min(s.duty_W, 0);
+    if (!st.name.endsWith("_shift")) slip = s.outlet_mole_fraction_dry.CH4;
     stages.push(s);
   }
   return {
     stages: stages, h2_product: product[S.indexOf("H2")] / cin,
-    duty_W: duty + heatBefore, heat_removed_W: removed, methane_slip_dry: slip,
-    carbon_deposit_mol_per_s: carbonAll, converged: conv,
+    duty_W: supplied, heat_removed_W: removed, methane_slip_dry: slip,
+    carbon_deposit_mol_per_s: carbonAll, converged: P.converged[p] > 0,
     product: {temperature_K: productT, flow_mol_per_s: byName(product),
               mole_fraction_dry: byName(dryFractions(product))},
   };

@@ -75,6 +75,9 @@ class ExplorerState(param.Parameterized):
         self._pending: tuple | None = None
         self._cmp_thread: threading.Thread | None = None
         self._cmp_pending: tuple | None = None
+        # Each set_proposal call is one generation; only the newest one's result is kept.
+        self._cmp_generation = 0
+        self._cmp_lock = threading.Lock()
 
     # -- solving -----------------------------------------------------------------------
     def solve_now(self) -> None:
@@ -168,43 +171,60 @@ class ExplorerState(param.Parameterized):
             The proposal cannot run on the scenario's window (its approach).
         """
         if proposal is None:
+            with self._cmp_lock:
+                self._cmp_generation += 1
+                self._cmp_pending = None
             self.param.update(proposal=None, proposal_dataset=None, difference=None,
                               compare_status="")
             return
         from thermo.compare import on_base_window
 
         moved = check_window_size(on_base_window(self.scenario, proposal))
+        with self._cmp_lock:
+            self._cmp_generation += 1
+            generation = self._cmp_generation
+            self._cmp_pending = None
         self.param.update(proposal=moved, proposal_dataset=None, difference=None,
                           compare_status=f"Solving the proposal {moved.title!r} over this "
                                          f"window ({moved.window.size():,} points) ...")
+
+        def deliver(result: tuple) -> None:
+            # A superseded request's late result must not replace the current one.
+            with self._cmp_lock:
+                if generation == self._cmp_generation:
+                    self._cmp_pending = result
+
         if not background:
-            self._cmp_pending = ("ok", moved, SHARED_CACHE.get(moved))
+            deliver(("ok", moved, SHARED_CACHE.get(moved)))
             self._poll_proposal()
             return
 
         def work():
             try:
-                self._cmp_pending = ("ok", moved, SHARED_CACHE.get(moved))
+                deliver(("ok", moved, SHARED_CACHE.get(moved)))
             except Exception as err:  # reported to the user by _poll_proposal()
-                self._cmp_pending = ("error", moved, err)
+                deliver(("error", moved, err))
 
         self._cmp_thread = threading.Thread(target=work, daemon=True)
         self._cmp_thread.start()
 
     def _poll_proposal(self) -> None:
-        if self._cmp_pending is None:
+        with self._cmp_lock:
+            pending = self._cmp_pending
+        if pending is None:
             return
-        kind, moved, payload = self._cmp_pending
-        if self.proposal is None or SHARED_CACHE.key(moved) != SHARED_CACHE.key(self.proposal):
-            self._cmp_pending = None  # superseded
-            return
+        kind, moved, payload = pending
         if kind == "error":
-            self._cmp_pending = None
+            with self._cmp_lock:
+                self._cmp_pending = None
             self.compare_status = f"Solving the proposal failed: {payload}"
             return
         if self.dataset is None or self.busy:
             return  # adopt once the base window is solved too
-        self._cmp_pending = None
+        with self._cmp_lock:
+            if self._cmp_pending is not pending:
+                return  # superseded meanwhile
+            self._cmp_pending = None
         from thermo.compare import difference
 
         try:

@@ -74,6 +74,11 @@ class PointResult:
         return value
 
     @property
+    def converged(self) -> bool:
+        """Every stage of the train converged (the primary reformer alone without one)."""
+        return bool(self.train.converged[0])
+
+    @property
     def steam_to_carbon(self) -> float:
         """Steam per hydrocarbon carbon [mol mol-1]."""
         return self.scenario.feed.steam_to_carbon

@@ -1135,6 +1135,13 @@ def _train(data: Mapping) -> Train:
                                                check_shift_temperature),
                 approach=_stage_approach(t, path),
             )
+    hts, lts = stages.get("high_temperature_shift"), stages.get("low_temperature_shift")
+    if hts is not None and lts is not None and not lts.temperature < hts.temperature:
+        raise InputError("train.low_temperature_shift.temperature",
+                         f"{lts.temperature - 273.15:g} degC",
+                         "a temperature below the high-temperature shift's "
+                         f"({hts.temperature - 273.15:g} degC): the gas flows from the high- "
+                         "to the low-temperature stage")
     return Train(**stages)
 
 
@@ -1193,8 +1200,6 @@ def _from_dict(data: Mapping, text: str, path: str | None) -> Scenario:
     _check_approach_fits(approach, temperature, window)
     limits = _limits(_table(data, "limits", "", required=False))
     train = _train(_table(data, "train", "", required=False))
-    if train.pre_reformer is not None:
-        _check_approach_fits(0.0, train.pre_reformer.inlet_temperature, window)
     return Scenario(
         title=title,
         description=description,

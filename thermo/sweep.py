@@ -62,8 +62,9 @@ _VARIABLES: dict[str, tuple[str, str]] = {
     "h2_product": ("1", "H2 after the last stage of the train per hydrocarbon carbon fed "
                    "(mol per mol)"),
     "train_duty": ("W", "heat supplied to the train: primary reformer duty plus reheat of "
-                   "pre-reformed gas"),
-    "train_heat_removed": ("W", "heat removed by the coolers and shift stages (negative)"),
+                   "pre-reformed gas (every positive heat of the train)"),
+    "train_heat_removed": ("W", "heat removed by the coolers and shift stages (every negative "
+                           "heat of the train)"),
     "train_methane_slip_dry": ("1", "methane slip after the last reforming stage, dry basis"),
     "train_carbon_deposit": ("mol s-1", "graphite formed in all reforming stages"),
     "product_flow": ("mol s-1", "gas after the last stage of the train"),

@@ -23,10 +23,12 @@ stages a scenario names (:class:`thermo.scenario.Train`), all at the window's pr
    its temperature; its duty (negative) is the heat of shift removed.
 
 Train totals: H2 product (H2 after the last stage per mol hydrocarbon carbon of the fresh
-feed), heat supplied (the primary's radiant duty plus the pre-reformed gas's reheat, which
-plants take from the convection section), heat removed (coolers and shift stages,
-negative), graphite in any reforming stage, and methane slip after the last reforming stage
-(dry).
+feed); heat supplied and heat removed, the positive and the negative heats of the whole train
+(each stage's duty and the heat before it): as a rule the primary's radiant duty plus the
+pre-reformed gas's reheat (which plants take from the convection section), and the coolers
+and shift stages; graphite in any reforming stage; methane slip after the last reforming
+stage (dry). Where a stage finds no outlet, it, every stage after it and the totals are NaN
+and the point is flagged not converged.
 
 The shift equilibrium is closed-form: with a, b, c, d the moles of CO, H2O, CO2, H2 and the
 extent x, ``(c + x)(d + x) = K (a - x)(b - x)`` (total moles unchanged, so pressure drops
@@ -36,6 +38,7 @@ side increases through zero.
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 
 import numpy as np
@@ -49,6 +52,9 @@ from thermo.species import GAS_SPECIES, formula_matrix, gas_table
 
 _I = {s: i for i, s in enumerate(GAS_SPECIES)}
 _HC_CARBON = np.array([{"CH4": 1.0, "C2H6": 2.0, "C3H8": 3.0}.get(s, 0.0) for s in GAS_SPECIES])
+
+#: Highest outlet temperature of an adiabatic stage [K]: the gas species' data end at 3500 K.
+T_MAX = 3500.0
 
 #: Relative closure of an adiabatic stage's energy balance: |H_out - H_in| at most this
 #: times the magnitude of the stage's inlet enthalpy flow.
@@ -133,15 +139,18 @@ class TrainResult:
     h2_product : ndarray (N,)
         H2 after the last stage per mol hydrocarbon carbon of the fresh feed [-].
     heat_supplied : ndarray (N,)
-        Heat supplied to the train: primary duty plus the reheat of pre-reformed gas [W].
+        Heat given to the gas over the train (>= 0): the primary's duty and the reheat of
+        pre-reformed gas as a rule; every positive duty or heat before a stage [W].
     heat_removed : ndarray (N,)
-        Heat taken out by the coolers and shift stages (<= 0) [W].
+        Heat taken from the gas over the train (<= 0): coolers and shift stages as a rule;
+        every negative duty or heat before a stage [W].
     carbon_deposit : ndarray (N,)
         Graphite formed in all reforming stages [mol s-1].
     methane_slip_dry : ndarray (N,)
         CH4 mole fraction of the dry gas after the last reforming stage [-].
     converged : ndarray of bool (N,)
-        Every stage converged.
+        Every stage converged. Where not, the totals and the product are NaN, and so are the
+        results of the failed stage and of every stage after it.
     """
 
     stages: list[StageResult]
@@ -159,6 +168,25 @@ class TrainResult:
     def stage(self, name: str) -> StageResult | None:
         """The stage of that name, or None when the train has none."""
         return next((s for s in self.stages if s.name == name), None)
+
+
+def _mask(st: StageResult, ok: np.ndarray) -> StageResult:
+    """The stage with its results NaN where `ok` is False (inputs kept), flagged `ok`."""
+    if ok.all():
+        return dataclasses.replace(st, converged=ok.copy())
+
+    def nan(a):
+        return np.where(ok if a.ndim == 1 else ok[:, None], a, np.nan)
+
+    fixed_t = st.name != "pre_reformer" and st.name != "secondary_reformer"
+    return dataclasses.replace(
+        st, outlet_flow=nan(st.outlet_flow), carbon_deposit=nan(st.carbon_deposit),
+        heat_before=nan(st.heat_before), duty=nan(st.duty),
+        outlet_enthalpy=nan(st.outlet_enthalpy),
+        temperature=st.temperature if fixed_t else nan(st.temperature),
+        equilibrium_temperature=(st.equilibrium_temperature if fixed_t
+                                 else nan(st.equilibrium_temperature)),
+        converged=ok.copy())
 
 
 def _dry_fraction(n: np.ndarray, species: str) -> np.ndarray:
@@ -285,8 +313,11 @@ def _secant(residual, T0, lo, hi, tol, T, warm, steps: int = 12) -> np.ndarray:
     done = np.abs(f0) <= tol
     T[done] = T0[done]
     a, fa, b = T0.copy(), f0.copy(), T1.copy()
+    # Points still iterated: not settled, and neither stalled nor failed (those are left to
+    # the bracketed solve).
+    active = ~done & np.isfinite(f0)
     for _ in range(steps):
-        idx = np.flatnonzero(~done)
+        idx = np.flatnonzero(active)
         if idx.size == 0:
             break
         fb, eq = residual(b[idx], idx, warm[idx])
@@ -298,10 +329,10 @@ def _secant(residual, T0, lo, hi, tol, T, warm, steps: int = 12) -> np.ndarray:
         with np.errstate(invalid="ignore", divide="ignore"):
             step = np.where(den != 0, fb * (b[idx] - a[idx]) / den, 0.0)
         new = np.clip(b[idx] - step, lo[idx], hi[idx])
+        stalled = (new == b[idx]) | ~np.isfinite(new) | ~np.isfinite(fb)
         a[idx], fa[idx] = b[idx], fb
         b[idx] = new
-        stuck = (new == a[idx]) & ~settled
-        done[idx[stuck]] = False  # left to the bracketed solve
+        active[idx] = ~settled & ~stalled
     return done
 
 
@@ -363,7 +394,7 @@ def _pre_reformer(feed, P, T_in, N):
     n_u, P_u, T_u = uniq[:, :S], uniq[:, S], uniq[:, S + 1]
     H_u = enthalpy_flow(n_u, T_u)
     Tout, eq, ok = adiabatic_equilibrium(n_u, H_u, P_u, 0.0,
-                                         bounds=(np.maximum(T_u - 250.0, 350.0), T_u + 400.0),
+                                         bounds=(np.maximum(T_u - 400.0, 350.0), T_MAX),
                                          guess=T_u)
     return (Tout[inv], eq.moles[inv], eq.carbon[inv], ok[inv], H_u[inv])
 
@@ -377,7 +408,7 @@ def _secondary(sec: SecondaryReformer, gas, T_gas, P, hc_carbon):
     mixed = gas + ox
     dT = np.full(N, sec.approach)
     lo = np.maximum(np.minimum(T_gas, T_ox) - 400.0, 350.0)
-    T, eq, ok = adiabatic_equilibrium(mixed, H_in, P, dT, bounds=(lo, 3000.0),
+    T, eq, ok = adiabatic_equilibrium(mixed, H_in, P, dT, bounds=(lo, T_MAX),
                                       guess=np.maximum(T_gas, lo))
     return T, eq, ok, ox, H_in
 
@@ -426,62 +457,65 @@ def train_balance(
     stages: list[StageResult] = []
     primary_in = feed
     reheat = zeros
-    carbon = zeros.copy()
-    converged = np.ones(N, dtype=bool)
     pre = train.pre_reformer
     if pre is not None:
         T_pre_in = np.full(N, pre.inlet_temperature)
         T_pre, n_pre, c_pre, ok_pre, H_pre = _pre_reformer(feed, P, T_pre_in, N)
-        h_out = np.where(ok_pre, outlet_enthalpy(n_pre, c_pre, np.nan_to_num(T_pre, nan=T_pre_in),
-                                                 P), np.nan)
+        T_safe = np.where(ok_pre, T_pre, T_pre_in)
+        h_out = outlet_enthalpy(n_pre, c_pre, T_safe, P)
         stages.append(StageResult("pre_reformer", feed, no_flow, T_pre_in, T_pre, T_pre, n_pre,
                                   c_pre, zeros, h_out - H_pre, H_pre, h_out, ok_pre))
-        primary_in = n_pre
-        T_safe = np.where(ok_pre, T_pre, T_feed)
-        reheat = np.where(ok_pre, enthalpy_flow(n_pre, T_feed) - enthalpy_flow(n_pre, T_safe),
-                          np.nan)
-        carbon += c_pre
-        converged &= ok_pre
+        # Where the pre-reformer found no outlet, the primary still gets real gas (the fresh
+        # feed) so that its own numbers stay finite; the point is flagged below.
+        primary_in = np.where(ok_pre[:, None], n_pre, feed)
+        reheat = enthalpy_flow(primary_in, T_feed) - enthalpy_flow(primary_in, T_safe)
     bal = reformer_balance(primary_in, T, P, T_feed, approach, row=row, hydrocarbon_carbon=hc)
     stages.append(StageResult("primary_reformer", primary_in, no_flow, T_feed, T,
                               bal.equilibrium_temperature, bal.outlet_flow, bal.carbon_deposit,
                               reheat, bal.duty, bal.inlet_enthalpy, bal.outlet_enthalpy,
                               bal.converged.copy()))
-    carbon += bal.carbon_deposit
-    converged &= bal.converged
     gas, T_gas = bal.outlet_flow, T
     slip = bal.methane_slip_dry
     sec = train.secondary_reformer
     if sec is not None:
         T_sec, eq, ok, ox, H_in = _secondary(sec, gas, T_gas, P, hc)
         T_eval = np.where(ok, T_sec, T_gas)
-        h_out = np.where(ok, outlet_enthalpy(eq.moles, eq.carbon, T_eval, P), np.nan)
+        h_out = outlet_enthalpy(eq.moles, eq.carbon, T_eval, P)
         stages.append(StageResult("secondary_reformer", gas + ox, ox, T_gas, T_sec,
                                   T_sec - sec.approach, eq.moles, eq.carbon, zeros,
                                   h_out - H_in, H_in, h_out, ok))
-        gas, T_gas = eq.moles, T_sec
-        carbon = carbon + eq.carbon
-        converged &= ok
+        gas, T_gas = eq.moles, T_eval
         slip = _dry_fraction(gas, "CH4")
-    removed = zeros.copy()
     for name in ("high_temperature_shift", "low_temperature_shift"):
         st = getattr(train, name)
         if st is None:
             continue
         Ts = np.full(N, st.temperature)
-        T_prev = np.where(np.isfinite(T_gas), T_gas, Ts)
-        cool = enthalpy_flow(gas, Ts) - enthalpy_flow(gas, T_prev)
+        cool = enthalpy_flow(gas, Ts) - enthalpy_flow(gas, T_gas)
         out = shift_equilibrium(gas, Ts + st.approach)
         H_in = enthalpy_flow(gas, Ts)
         H_out = enthalpy_flow(out, Ts)
-        ok = np.isfinite(T_gas)
         stages.append(StageResult(name, gas, no_flow, Ts, Ts, Ts + st.approach, out, zeros,
-                                  cool, H_out - H_in, H_in, H_out, ok))
-        removed = removed + cool + (H_out - H_in)
+                                  cool, H_out - H_in, H_in, H_out, np.ones(N, dtype=bool)))
         gas, T_gas = out, Ts
-        converged &= ok
+    # Heat in and out of the gas over the whole train, by sign: reheat and cooling before a
+    # stage, and each stage's own duty.
+    supplied = sum(np.maximum(st.heat_before, 0.0) + np.maximum(st.duty, 0.0) for st in stages)
+    removed = sum(np.minimum(st.heat_before, 0.0) + np.minimum(st.duty, 0.0) for st in stages)
+    carbon = sum(st.carbon_deposit for st in stages)
+    # A stage is good only if every stage before it is: past a failed stage, flows, heats and
+    # totals are NaN rather than numbers made from a gas that was never found.
+    converged = np.ones(N, dtype=bool)
+    for k, st in enumerate(stages):
+        converged = converged & st.converged
+        stages[k] = _mask(st, converged)
     with np.errstate(invalid="ignore", divide="ignore"):
         h2_product = gas[:, _I["H2"]] / hc
+    bad = ~converged
+    h2_product, supplied, removed, carbon, slip = (np.where(bad, np.nan, a) for a in
+                                                   (h2_product, supplied, removed, carbon,
+                                                    slip))
+    gas = np.where(bad[:, None], np.nan, gas)
     return TrainResult(
         stages=stages,
         primary=bal,
@@ -489,7 +523,7 @@ def train_balance(
         product_flow=gas,
         product_temperature=T_gas,
         h2_product=h2_product,
-        heat_supplied=bal.duty + reheat,
+        heat_supplied=supplied,
         heat_removed=removed,
         carbon_deposit=carbon,
         methane_slip_dry=slip,

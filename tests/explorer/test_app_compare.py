@@ -171,3 +171,52 @@ def test_review_file_from_the_app_carries_the_comparison(compared):
     data = json.loads(re.search(r'id="rw-data">(.*?)</script>', html, re.S).group(1)
                       .replace("<\\/", "</"))
     assert data["proposal"]["train"]["stages"][-1]["name"] == "low_temperature_shift"
+
+
+def test_a_late_result_of_a_superseded_proposal_is_dropped(monkeypatch):
+    """Proposal A is slow, B replaces it and finishes first while the base is still busy;
+    A's late result must neither replace B's nor leave the comparison waiting for ever."""
+    import threading
+
+    from explorer import state as state_module
+
+    page = build_app(small_scenario(), solve="now")
+    s = page.explorer_state
+    a = proposal_scenario()
+    b = parse_scenario(a.to_toml().replace('title = "Proposal: ', 'title = "Proposal B: '))
+    real_get = state_module.SHARED_CACHE.get
+    gate = threading.Event()
+
+    def slow_for_a(sc, **kwargs):
+        ds = real_get(sc, **kwargs)
+        if sc.title.startswith("Proposal: "):
+            gate.wait(30)
+        return ds
+
+    monkeypatch.setattr(state_module.SHARED_CACHE, "get", slow_for_a)
+    s.busy = True  # the base is being re-solved meanwhile
+    s.set_proposal(a)
+    thread_a = s._cmp_thread
+    s.set_proposal(b)
+    s._cmp_thread.join(60)
+    s.poll()  # B's result waits for the base
+    gate.set()
+    thread_a.join(60)  # A's late result arrives now
+    s.busy = False
+    s._poll_proposal()
+    assert s.proposal.title.startswith("Proposal B: ")
+    assert s.difference is not None
+    assert "Proposal B" in s.compare_status
+
+
+def test_limits_edit_redraws_the_comparison_base_map(compared):
+    _, s, view = compared
+    before = view.sources[0]["nodes"].data["feasible"]
+    form = ScenarioForm(s)
+    form.inputs["max_slip"].value = "1 mol%"
+    assert form.submit() is True
+    after = view.sources[0]["nodes"].data["feasible"]
+    assert after != before
+    cut = s.dataset["feasible"].isel(steam_to_carbon=s.fixed["steam_to_carbon"])
+    assert after == ["yes" if f else "no" for f in
+                     cut.transpose("pressure", "temperature").values.ravel()]

@@ -350,3 +350,87 @@ def test_no_train_gives_the_primary_figures():
         np.testing.assert_array_equal(ds[a].values, ds[b].values)
     np.testing.assert_array_equal(ds["product_flow"].values, ds["outlet_flow"].values)
     assert "secondary_temperature" not in ds
+
+
+# ----------------------------------------------------------------- edges of the input domain
+
+def test_oxygen_rich_stages_find_their_outlet_up_to_the_data_limit(full):
+    """O2 co-fed to the pre-reformer (O2/C up to 0.7, the allowed maximum) and an
+    oxygen-blown secondary at S/C 0: hot stages, still closed energy balances."""
+    feed = np.stack([full.feed.inlet_flows(steam_to_carbon=3.3, oxygen_to_carbon=o)
+                     for o in (0.6, 0.7)])
+    r = train_balance(Train(pre_reformer=PreReformer(763.15)), feed, 1100.0, 25e5, 813.15)
+    st = r.stage("pre_reformer")
+    assert st.converged.all() and np.all(st.temperature > 1100.0)
+    assert np.all(np.abs(st.duty) <= 1e-6 * np.abs(st.inlet_enthalpy))
+    dry = full.feed.inlet_flows(steam_to_carbon=0.0)[None, :]
+    train = Train(secondary_reformer=SecondaryReformer("oxygen", 0.7, 823.15))
+    r = train_balance(train, dry, 1073.15, 20e5, 813.15)
+    st = r.stage("secondary_reformer")
+    assert st.converged.all(), st.temperature
+    assert np.abs(st.duty[0]) <= 1e-6 * abs(st.inlet_enthalpy[0])
+
+
+def test_heat_supplied_and_removed_keep_their_signs(full):
+    """Pre-reformed gas hotter than the primary inlet (O2 in the feed) is cooled, not
+    'reheated' by a negative amount; a shift stage hotter than the gas reaching it is
+    heated. Heat supplied stays >= 0, heat removed <= 0, and their sum is the net heat."""
+    feed = full.feed.inlet_flows(steam_to_carbon=3.0, oxygen_to_carbon=0.5)[None, :]
+    train = Train(pre_reformer=PreReformer(763.15),
+                  low_temperature_shift=ShiftStage(623.15, 0.0))
+    r = train_balance(train, feed, 600.0, 25e5, 813.15)
+    assert r.converged.all()
+    assert r.stage("primary_reformer").heat_before[0] < 0  # cooled to the primary inlet
+    assert r.stage("low_temperature_shift").heat_before[0] > 0  # heated to 350 degC
+    assert r.heat_supplied[0] >= 0 and r.heat_removed[0] <= 0
+    net = sum(s.heat_before + s.duty for s in r.stages)
+    np.testing.assert_allclose(r.heat_supplied + r.heat_removed, net, rtol=1e-12)
+
+
+def test_a_failed_stage_leaves_no_made_up_numbers_downstream(full, monkeypatch):
+    """Where an adiabatic stage finds no outlet, that stage, every stage after it and the
+    totals are NaN and the point is flagged, never computed from an invented gas."""
+    import thermo.train as train_module
+
+    real = train_module.adiabatic_equilibrium
+    failing = slice(0, 1)  # the points (or, in the pre-reformer, the unique rows) that fail
+
+    def fails_at_first_point(*args, **kwargs):
+        T, eq, ok = real(*args, **kwargs)
+        ok = ok.copy()
+        ok[failing] = False
+        return np.where(ok, T, np.nan), eq, ok
+
+    monkeypatch.setattr(train_module, "adiabatic_equilibrium", fails_at_first_point)
+    feed, T, P = _grid_points(full, 4)
+    train = Train(secondary_reformer=full.train.secondary_reformer,
+                  high_temperature_shift=full.train.high_temperature_shift)
+    r = train_balance(train, feed, T, P, full.feed.inlet_temperature, full.approach)
+    assert not r.converged[0] and r.converged[1:].all()
+    for name in ("secondary_reformer", "high_temperature_shift"):
+        st = r.stage(name)
+        assert not st.converged[0]
+        assert np.isnan(st.outlet_flow[0]).all() and np.isnan(st.duty[0])
+        assert np.isfinite(st.outlet_flow[1:]).all()
+    assert r.stage("primary_reformer").converged[0]  # upstream of the failure: kept
+    for total in (r.h2_product, r.heat_supplied, r.heat_removed, r.methane_slip_dry,
+                  r.carbon_deposit):
+        assert np.isnan(total[0]) and np.isfinite(total[1:]).all()
+    # A failed pre-reformer: the primary is still solved (on the fresh feed) but flagged.
+    failing = slice(None)
+    r = train_balance(Train(pre_reformer=full.train.pre_reformer), feed, T, P,
+                      full.feed.inlet_temperature, full.approach)
+    assert not r.stage("primary_reformer").converged[0]
+    assert np.isnan(r.stage("primary_reformer").outlet_flow[0]).all()
+    assert np.isfinite(r.primary.outlet_flow).all()
+    pt = thermo.point(full)  # the API's flag is the train's
+    assert pt.converged is bool(pt.train.converged[0]) is pt.to_dict()["converged"]
+
+
+def test_low_temperature_shift_must_be_below_the_high_temperature_one():
+    text = thermo.load_scenario().text + FULL_TRAIN.replace('temperature = "210 degC"',
+                                                            'temperature = "400 degC"')
+    with pytest.raises(InputError) as err:
+        parse_scenario(text)
+    assert err.value.field == "train.low_temperature_shift.temperature"
+    assert "below the high-temperature shift's (360 degC)" in str(err.value)
