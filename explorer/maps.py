@@ -213,10 +213,7 @@ def infeasibility(s: xr.Dataset, limits) -> np.ndarray:
     absent), each on the variable thermo.sweep.LIMIT_VARIABLES names (the train's figures);
     unconverged points count as infeasible.
     """
-    v = {k: (name if name in s else {"train_methane_slip_dry": "methane_slip_dry",
-                                      "h2_product": "h2_yield", "train_duty": "duty",
-                                      "train_carbon_deposit": "carbon_deposit"}[name])
-         for k, name in LIMIT_VARIABLES.items()}
+    v = LIMIT_VARIABLES
     terms = []
     if limits.max_methane_slip_dry is not None:
         terms.append((s[v["max_methane_slip_dry"]] - limits.max_methane_slip_dry)

@@ -46,7 +46,8 @@ from thermo.species import (
 )
 
 _I = {s: i for i, s in enumerate(GAS_SPECIES)}
-_HC_CARBON = np.array([1.0 if s == "CH4" else 2.0 if s == "C2H6" else 3.0 if s == "C3H8"
+#: Carbon atoms of each gas species counted as hydrocarbon carbon (CH4 1, C2H6 2, C3H8 3).
+HC_CARBON = np.array([1.0 if s == "CH4" else 2.0 if s == "C2H6" else 3.0 if s == "C3H8"
                        else 0.0 for s in GAS_SPECIES])
 #: Elements reported in the closure check.
 CLOSURE_ELEMENTS = ("C", "H", "O", "N")
@@ -157,6 +158,11 @@ def enthalpy_flow(flows: np.ndarray, T) -> np.ndarray:
     return np.einsum("ns,sn->n", flows, np.atleast_2d(h.reshape(len(GAS_SPECIES), -1)))
 
 
+def per_point(value, N: int) -> np.ndarray:
+    """A scalar or (N,) array as a fresh float array of N values (one per point)."""
+    return np.broadcast_to(np.asarray(value, dtype=float), (N,)).copy()
+
+
 def outlet_enthalpy(gas_flow: np.ndarray, carbon, T, P) -> np.ndarray:
     """Enthalpy flow of gas plus graphite at T and P, formation enthalpies included [W].
 
@@ -246,10 +252,10 @@ def reformer_balance(
     """
     n_in = np.atleast_2d(np.asarray(inlet_flow, dtype=float))
     N = n_in.shape[0]
-    T = np.broadcast_to(np.asarray(temperature, dtype=float), (N,)).copy()
-    P = np.broadcast_to(np.asarray(pressure, dtype=float), (N,)).copy()
-    T_in = np.broadcast_to(np.asarray(inlet_temperature, dtype=float), (N,)).copy()
-    dT = np.broadcast_to(np.asarray(approach, dtype=float), (N,)).copy()
+    T = per_point(temperature, N)
+    P = per_point(pressure, N)
+    T_in = per_point(inlet_temperature, N)
+    dT = per_point(approach, N)
     T_eq = T - dT
     A = formula_matrix()
     b = n_in @ A
@@ -260,9 +266,9 @@ def reformer_balance(
     dry[:, _I["H2O"]] = 0.0
     x_dry = dry / dry.sum(axis=1, keepdims=True)
     mw = np.asarray(molar_masses())
-    hc_c = n_in @ _HC_CARBON if hydrocarbon_carbon is None else \
-        np.broadcast_to(np.asarray(hydrocarbon_carbon, dtype=float), (N,)).copy()
-    hc_c_out = n_out @ _HC_CARBON
+    hc_c = n_in @ HC_CARBON if hydrocarbon_carbon is None else \
+        per_point(hydrocarbon_carbon, N)
+    hc_c_out = n_out @ HC_CARBON
     h_in = enthalpy_flow(n_in, T_in)
     h_out = outlet_enthalpy(n_out, eq.carbon, T, P)
     b_out = n_out @ A

@@ -43,7 +43,14 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from thermo.balances import Balance, enthalpy_flow, outlet_enthalpy, reformer_balance
+from thermo.balances import (
+    HC_CARBON,
+    Balance,
+    enthalpy_flow,
+    outlet_enthalpy,
+    per_point,
+    reformer_balance,
+)
 from thermo.constants import R
 from thermo.equilibrium import equilibrate
 from thermo.extent import SHIFT, delta_g_RT
@@ -51,7 +58,6 @@ from thermo.scenario import STAGE_NAMES, SecondaryReformer, Train
 from thermo.species import GAS_SPECIES, formula_matrix, gas_table
 
 _I = {s: i for i, s in enumerate(GAS_SPECIES)}
-_HC_CARBON = np.array([{"CH4": 1.0, "C2H6": 2.0, "C3H8": 3.0}.get(s, 0.0) for s in GAS_SPECIES])
 
 #: Highest outlet temperature of an adiabatic stage [K]: the gas species' data end at 3500 K.
 T_MAX = 3500.0
@@ -212,7 +218,7 @@ def shift_equilibrium(gas_flow, temperature) -> np.ndarray:
         notes (K on any standard pressure: total moles do not change).
     """
     n = np.atleast_2d(np.asarray(gas_flow, dtype=float)).copy()
-    T = np.broadcast_to(np.asarray(temperature, dtype=float), (n.shape[0],))
+    T = per_point(temperature, n.shape[0])
     K = np.exp(-delta_g_RT(SHIFT, T))
     a, b = n[:, _I["CO"]], n[:, _I["H2O"]]
     c, d = n[:, _I["CO2"]], n[:, _I["H2"]]
@@ -268,12 +274,12 @@ def adiabatic_equilibrium(gas_flow, inlet_enthalpy, pressure, approach=0.0,
     """
     n = np.atleast_2d(np.asarray(gas_flow, dtype=float))
     N = n.shape[0]
-    H_in = np.broadcast_to(np.asarray(inlet_enthalpy, dtype=float), (N,))
-    P = np.broadcast_to(np.asarray(pressure, dtype=float), (N,))
-    dT = np.broadcast_to(np.asarray(approach, dtype=float), (N,))
+    H_in = per_point(inlet_enthalpy, N)
+    P = per_point(pressure, N)
+    dT = per_point(approach, N)
     b_el = n @ formula_matrix()
-    lo = np.maximum(np.broadcast_to(np.asarray(bounds[0], dtype=float), (N,)), 300.0 + dT)
-    hi = np.broadcast_to(np.asarray(bounds[1], dtype=float), (N,)).astype(float)
+    lo = np.maximum(per_point(bounds[0], N), 300.0 + dT)
+    hi = per_point(bounds[1], N)
     # Tolerance on the enthalpy balance: relative to the inlet enthalpy flow's magnitude,
     # with a floor of the sensible heat scale (n R T) for streams whose H_in is near 0.
     tol = ADIABATIC_TOLERANCE * (np.abs(H_in) + n.sum(axis=1) * R * 1000.0)
@@ -286,7 +292,7 @@ def adiabatic_equilibrium(gas_flow, inlet_enthalpy, pressure, approach=0.0,
     warm = np.zeros_like(b_el)
     done = np.zeros(N, dtype=bool)
     if guess is not None:
-        done = _secant(residual, np.clip(np.broadcast_to(guess, (N,)), lo, hi), lo, hi, tol,
+        done = _secant(residual, np.clip(per_point(guess, N), lo, hi), lo, hi, tol,
                        T, warm)
     rest = np.flatnonzero(~done)
     ok = done.copy()
@@ -448,10 +454,10 @@ def train_balance(
     """
     feed = np.atleast_2d(np.asarray(inlet_flow, dtype=float))
     N = feed.shape[0]
-    T = np.broadcast_to(np.asarray(temperature, dtype=float), (N,)).copy()
-    P = np.broadcast_to(np.asarray(pressure, dtype=float), (N,)).copy()
-    T_feed = np.broadcast_to(np.asarray(inlet_temperature, dtype=float), (N,)).copy()
-    hc = feed @ _HC_CARBON
+    T = per_point(temperature, N)
+    P = per_point(pressure, N)
+    T_feed = per_point(inlet_temperature, N)
+    hc = feed @ HC_CARBON
     zeros = np.zeros(N)
     no_flow = np.zeros_like(feed)
     stages: list[StageResult] = []

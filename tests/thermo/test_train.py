@@ -32,6 +32,8 @@ from thermo.train import shift_equilibrium, train_balance
 
 IX = {s: i for i, s in enumerate(GAS_SPECIES)}
 
+#: A whole train on the demo feed. Its temperatures, ratios and approaches are test inputs in
+#: the usual ranges (common practice, no source; DOMAIN.md gives the shift inlet ranges).
 FULL_TRAIN = """
 [train.pre_reformer]
 inlet_temperature = "490 degC"
