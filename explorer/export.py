@@ -245,7 +245,8 @@ def _limits_text(sc: Scenario) -> list[tuple[str, str]]:
         ("Carbon-free at equilibrium", "required" if lim.carbon_free else "not required"),
         ("Minimum H2 yield", "none" if lim.min_h2_yield is None
          else f"{lim.min_h2_yield:g} mol H2 / mol hydrocarbon C"),
-        ("Maximum duty", "none" if lim.max_duty is None else f"{lim.max_duty / 1e6:g} MW"),
+        ("Maximum duty (primary reformer, radiant)",
+         "none" if lim.max_duty is None else f"{lim.max_duty / 1e6:g} MW"),
     ]
 
 

@@ -176,7 +176,7 @@ def test_review_sheet_holds_inputs_limits_window_pins_notes_sources_cautions(sol
     assert pairs["Maximum methane slip (dry)"] == "4.5 mol %"
     assert pairs["Carbon-free at equilibrium"] == "required"
     assert pairs["Minimum H2 yield"] == "2.3 mol H2 / mol hydrocarbon C"
-    assert pairs["Maximum duty"] == "80 MW"
+    assert pairs["Maximum duty (primary reformer, radiant)"] == "80 MW"
     # resulting window
     n_ok, n_all = int(ds["feasible"].sum()), ds["feasible"].size
     assert f"{n_ok:,} of {n_all:,} grid points meet every limit" in sheet
