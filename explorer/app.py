@@ -38,6 +38,7 @@ from explorer.maps import (
     variable_levels,
     window_layers,
 )
+from explorer.safe import html, message_html, paragraphs, spreadsheet_text, text
 from explorer.state import ExplorerState, check_window_size
 from explorer.tables import balance_csv, balance_html, compare_point_html, comparison_html
 from thermo import io as grid_io
@@ -77,19 +78,20 @@ def scenario_files() -> dict[str, Path]:
 
 
 def read_upload(data: bytes | None, filename: str | None) -> tuple[Scenario | None, str]:
-    """A scenario from an uploaded file, or None and the message to show (size, encoding and
-    content are checked; nothing but TOML is parsed)."""
+    """A scenario from an uploaded file, or None and the message to show, as HTML built by
+    :mod:`explorer.safe` (size, encoding and content are checked; nothing but TOML is
+    parsed)."""
     if data is None:
         return None, ""
     if len(data) > MAX_UPLOAD_BYTES:
-        return None, (f"Not loaded: the file has {len(data):,} bytes; scenario files are "
-                      f"limited to {MAX_UPLOAD_BYTES:,} bytes.")
+        return None, text(f"Not loaded: the file has {len(data):,} bytes; scenario files "
+                          f"are limited to {MAX_UPLOAD_BYTES:,} bytes.")
     try:
         return parse_scenario(data.decode("utf-8"), path=filename), ""
     except UnicodeDecodeError:
-        return None, "Not loaded: the file is not UTF-8 text."
+        return None, text("Not loaded: the file is not UTF-8 text.")
     except InputError as err:
-        return None, f"Not loaded: {err}"
+        return None, message_html("Not loaded: ", err)
 
 
 def _q(value: str) -> str:
@@ -190,8 +192,7 @@ class ScenarioForm:
         self.state = state
         self.inputs = {name: pn.widgets.TextInput(label=label, width=190)
                        for name, label, _ in self.FIELDS}
-        self.messages = {name: pn.pane.Markdown("", styles={"color": "#b3261e"}, width=190,
-                                                margin=(0, 5, 0, 10))
+        self.messages = {name: _message_pane(width=190, margin=(0, 5, 0, 10))
                          for name, _, _ in self.FIELDS}
         self.carbon_free = pn.widgets.Checkbox(label="Carbon-free required", value=True)
         self.stage_on = {name: pn.widgets.Checkbox(label=label, value=False)
@@ -204,7 +205,7 @@ class ScenarioForm:
                                                  "CO2-to-carbon": "co2_to_carbon"})
         self.apply = pn.widgets.Button(label="Apply and solve", color="primary")
         self.reset = pn.widgets.Button(label="Reset fields")
-        self.general = pn.pane.Markdown("", styles={"color": "#b3261e"})
+        self.general = _message_pane()
         files = scenario_files()
         self.chooser = pn.widgets.Select(label="Shipped scenario", options=list(files),
                                          value=_current_name(state.scenario, files), width=220)
@@ -405,10 +406,11 @@ class ScenarioForm:
             field = field.replace(f"window.{axis}", "window.cofeed")
         for name, _, key in self.FIELDS:
             if field == key or field.startswith(key + "."):
-                self.messages[name].object = f"{err.allowed} (got {err.value!r})"
+                self.messages[name].object = html("{} (got {})", err.allowed,
+                                                  text(repr(err.value)))
                 break
-        self.general.object = (f"Not applied: {err}. The maps still show the last valid "
-                               "scenario.")
+        self.general.object = message_html("Not applied: ", err, ". The maps still show the "
+                                           "last valid scenario.")
 
     def _choose(self, event) -> None:
         path = scenario_files().get(event.new)
@@ -417,7 +419,7 @@ class ScenarioForm:
         try:
             sc = check_window_size(thermo.load_scenario(path))
         except InputError as err:
-            self.general.object = f"Could not open {event.new}: {err}"
+            self.general.object = message_html(html("Could not open {}: ", event.new), err)
             return
         self.state.notes = sc.notes
         self.state.set_scenario(sc)
@@ -429,7 +431,7 @@ class ScenarioForm:
             try:
                 check_window_size(sc)
             except InputError as err:
-                sc, message = None, f"Not loaded: {err}"
+                sc, message = None, message_html("Not loaded: ", err)
         if sc is None:
             self.general.object = message
             return
@@ -513,7 +515,7 @@ class MapsView:
             fig.on_event(Tap, self._tap)
             self.panes.append(pn.pane.Bokeh(fig))
             self.sources.append(src)
-        self.status = pn.pane.Markdown("", margin=(0, 10))
+        self.status = pn.pane.HTML("", margin=(0, 10))
         self.bar = pn.indicators.Progress(value=0, max=1000, width=300, visible=False)
         self.mode.param.watch(lambda e: setattr(state, "mode", e.new), "value")
         self.left.param.watch(lambda e: setattr(state, "left", e.new), "value")
@@ -530,7 +532,7 @@ class MapsView:
         s = self.state
         self.bar.visible = s.busy
         self.bar.value = int(1000 * s.progress)
-        self.status.object = s.status
+        self.status.object = text(s.status)
 
     def _rebuild(self, *_):
         """New dataset, orientation or variable: the same figures show the new content."""
@@ -666,11 +668,18 @@ class BalanceView:
         self.tables.object = balance_html(d)
 
     def _csv(self):
-        return _io.StringIO(balance_csv(self._current) if self._current else "")
+        if not self._current:
+            return _io.StringIO("")
+        sc = self.state.scenario
+        return _io.StringIO(balance_csv(self._current, sc.title, self.state.notes))
 
     def _json(self):
-        return _io.StringIO(json.dumps(self._current, indent=2, allow_nan=False)
-                            if self._current else "{}")
+        if not self._current:
+            return _io.StringIO("{}")
+        # The scenario's own words travel with the numbers, as text no spreadsheet runs.
+        about = {"scenario": {"title": spreadsheet_text(self.state.scenario.title),
+                              "review_notes": spreadsheet_text(self.state.notes)}}
+        return _io.StringIO(json.dumps({**about, **self._current}, indent=2, allow_nan=False))
 
     def _grid(self):
         ds = self.state.dataset
@@ -704,8 +713,8 @@ class ComparisonView:
         self.upload = pn.widgets.FileInput(accept=".toml", multiple=False, width=260)
         self.variable = pn.widgets.Select(label="Variable", options=_var_options(),
                                           value="h2_product", width=320)
-        self.message = pn.pane.Markdown("", styles={"color": "#b3261e"})
-        self.status = pn.pane.Markdown("", margin=(0, 10))
+        self.message = _message_pane()
+        self.status = pn.pane.HTML("", margin=(0, 10))
         self.table = pn.pane.HTML("", stylesheets=[PAGE_CSS], sizing_mode="stretch_width")
         self.panes, self.sources = [], []
         titles = ("Base", "Proposal", "Change (proposal - base)")
@@ -733,7 +742,7 @@ class ComparisonView:
         self._table()
 
     def _status(self, *_):
-        self.status.object = self.state.compare_status
+        self.status.object = text(self.state.compare_status)
 
     def _adopt(self, sc: Scenario | None) -> None:
         self.message.object = ""
@@ -741,7 +750,7 @@ class ComparisonView:
             self.state.set_proposal(sc, background=pn.state.curdoc is not None
                                     and pn.state.curdoc.session_context is not None)
         except InputError as err:
-            self.message.object = f"Not compared: {err}"
+            self.message.object = message_html("Not compared: ", err)
 
     def _choose(self, event) -> None:
         if event.new == self.NONE:
@@ -753,7 +762,7 @@ class ComparisonView:
         try:
             sc = thermo.load_scenario(path)
         except InputError as err:
-            self.message.object = f"Could not open {event.new}: {err}"
+            self.message.object = message_html(html("Could not open {}: ", event.new), err)
             return
         self._adopt(sc)
 
@@ -882,7 +891,7 @@ class NotesView:
         self.export = pn.widgets.FileDownload(callback=self._review, filename="review.html",
                                               label="Review file (offline HTML)",
                                               color="primary")
-        self.message = pn.pane.Markdown("", styles={"color": "#b3261e"})
+        self.message = _message_pane()
 
     def _scenario(self):
         return _io.StringIO(self.state.scenario_with_notes().to_toml())
@@ -913,13 +922,19 @@ class NotesView:
                 capture_output=True, text=True, timeout=600)
             if proc.returncode != 0 or not out.exists():
                 last = (proc.stderr.strip().splitlines() or ["unknown error"])[-1]
-                self.message.object = f"The review file could not be written: {last}"
+                self.message.object = html("The review file could not be written: {}",
+                                           last)
                 return _io.BytesIO(b"")
             self.message.object = ""
             return _io.BytesIO(out.read_bytes())
 
     def __panel__(self):
         return pn.Column(self.text, pn.Row(self.save, self.export), self.message)
+
+
+def _message_pane(**kwargs) -> pn.pane.HTML:
+    """A pane for messages about input (filled through :mod:`explorer.safe` only)."""
+    return pn.pane.HTML("", styles={"color": "#b3261e"}, **kwargs)
 
 
 def _section(title: str, *objects):
@@ -950,12 +965,14 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
     compare = ComparisonView(state)
     pinned = PinnedView(state)
     notes = NotesView(state)
-    title = pn.pane.Markdown(f"# {scenario.title}")
-    desc = pn.pane.Markdown(scenario.description.strip())
+    # Title and description come from the scenario file: text, never markup.
+    title = pn.pane.HTML(html("<h1>{}</h1>", scenario.title), sizing_mode="stretch_width")
+    desc = pn.pane.HTML(paragraphs(scenario.description), sizing_mode="stretch_width",
+                        styles={"font-size": "14px"})
 
     def retitle(*_):
-        title.object = f"# {state.scenario.title}"
-        desc.object = state.scenario.description.strip()
+        title.object = html("<h1>{}</h1>", state.scenario.title)
+        desc.object = paragraphs(state.scenario.description)
 
     state.param.watch(retitle, ["scenario"])
     caution = pn.pane.Markdown("**Caution.** " + CAUTION, stylesheets=[CAUTION_CSS],

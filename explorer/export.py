@@ -15,7 +15,8 @@ fresh process (``python -m explorer.export``), and :func:`check_offline` verifie
 from __future__ import annotations
 
 import argparse
-import html
+import base64
+import hashlib
 import json
 import os
 import re
@@ -27,10 +28,13 @@ from pathlib import Path
 
 import numpy as np
 import xarray as xr
-from bokeh.embed import file_html
+from bokeh.core.templates import CSS_RESOURCES
+from bokeh.embed import components
+from bokeh.embed.bundle import bundle_for_objs_and_resources
 from bokeh.layouts import column, row
 from bokeh.models import CustomJS, CustomJSTickFormatter, Div, RadioButtonGroup, Select, Slider
 from bokeh.resources import INLINE
+from markupsafe import Markup
 
 import thermo
 from explorer import CAUTION
@@ -48,6 +52,13 @@ from explorer.maps import (
     variable_levels,
     window_layers,
 )
+from explorer.safe import paragraphs
+from explorer.sheet import (
+    AXIS_NAMES,
+    comparison_context,
+    render,
+    review_context,
+)
 from explorer.tables import (
     CONVERSIONS,
     ENERGY_ROWS,
@@ -57,11 +68,10 @@ from explorer.tables import (
     SUMMARY_ROWS,
     TRAIN_NOTE,
     TRAIN_ROWS,
-    balance_html,
     compare_rows,
 )
 from thermo.balances import enthalpy_flow
-from thermo.constants import ELEMENTS, P_REF, T_REF, V_NORMAL
+from thermo.constants import ELEMENTS, P_REF, T_REF
 from thermo.errors import InputError
 from thermo.extent import REFORMING, SHIFT, delta_h, equilibrium_constant
 from thermo.io import atomic_target
@@ -77,52 +87,10 @@ EXPORT_VARIABLES = ("h2_yield", "methane_slip_dry", "h2_potential", "methane_con
                     "h2_co_ratio", "duty", "duty_per_h2", "carbon_activity", "dry:CO",
                     "dry:CO2")
 
-_AXIS_NAMES = {
-    "pressure": "Pressure",
-    "steam_to_carbon": "Steam-to-carbon",
-    "oxygen_to_carbon": "O2-to-carbon",
-    "co2_to_carbon": "CO2-to-carbon",
-}
 
-SHEET_CSS = """
-body { font-family: system-ui, -apple-system, "Segoe UI", Roboto, sans-serif; color: #1d2a33; }
-.rw-page { max-width: 1240px; margin: 0 auto; padding: 8px 18px 40px 18px; }
-.rw-page h1 { font-size: 24px; margin: 10px 0 4px 0; }
-.rw-page h2 { font-size: 19px; border-bottom: 2px solid #00a37a; padding-bottom: 2px;
-  margin-top: 26px; }
-.rw-caution { background: #fff4e5; border-left: 5px solid #e08a00; padding: 8px 12px;
-  font-size: 13.5px; margin: 10px 0; }
-.rw-table { border-collapse: collapse; font-size: 12.5px; margin: 4px 0 10px 0; }
-.rw-table th { background: #e9eef1; text-align: right; padding: 3px 8px;
-  border-bottom: 2px solid #b9c6cd; }
-.rw-table th:first-child, .rw-table td:first-child { text-align: left; }
-.rw-table td { text-align: right; padding: 2px 8px; border-bottom: 1px solid #e3e8eb;
-  font-variant-numeric: tabular-nums; }
-.rw-small { font-size: 11.5px; color: #4a5a64; }
-.rw-warn { color: #b3261e; font-weight: 600; }
-.rw-notes { white-space: pre-wrap; background: #f6f8f9; padding: 8px 12px;
-  border: 1px solid #e3e8eb; }
-"""
+#: The review file's style sheet (static/review.css), inlined into the page.
+SHEET_CSS = resources.files("explorer").joinpath("static", "review.css").read_text("utf-8")
 
-TEMPLATE = """
-{% block postamble %}<style>{{ sheet_css }}</style>{% endblock %}
-{% block contents %}
-<div class="rw-page">
-<h1>{{ title }}</h1>
-<p>{{ description }}</p>
-<div class="rw-caution"><b>Caution.</b> {{ caution }}</div>
-<p class="rw-small">Review file written {{ created }} by the reformer window explorer
-{{ version }}. It works offline: the maps, sliders and click-through balances run in this page.
-</p>
-<script type="application/json" id="rw-data">{{ data_json }}</script>
-<h2>Operating-window maps</h2>
-{{ embed(roots.maps) }}
-<h2>Balance at the selected grid point</h2>
-{{ embed(roots.balance) }}
-{{ sheet }}
-</div>
-{% endblock %}
-"""
 
 
 def _round(obj, nd: int):
@@ -173,163 +141,6 @@ def all_layers(ds: xr.Dataset, limits, variables=EXPORT_VARIABLES) -> tuple[dict
                 per_var[v][mode][key] = _round(variable_layers(s, VARIABLES[v], mode, levels[v]),
                                                4)
     return per_var, common
-
-
-def feasible_ranges_html(ds: xr.Dataset) -> str:
-    """The feasible outlet-temperature range(s) at each pressure and steam-to-carbon."""
-    T = ds.temperature.values - 273.15
-    feas = ds["feasible"]
-    extra = [d for d in feas.dims if d not in ("temperature", "pressure", "steam_to_carbon")]
-    blocks = []
-    sub_keys = [{}] if not extra else [{extra[0]: i} for i in range(ds.sizes[extra[0]])]
-    for sk in sub_keys:
-        f = feas.isel(sk).transpose("steam_to_carbon", "pressure", "temperature").values
-        head = ["S/C \\ P [bar abs]"] + [f"{p / 1e5:.1f}" for p in ds.pressure.values]
-        rows = []
-        for i, sc in enumerate(ds.steam_to_carbon.values):
-            cells = [f"{sc:.3g}"]
-            for j in range(ds.sizes["pressure"]):
-                cells.append(_ranges_text(T, f[i, j]))
-            rows.append(cells)
-        caption = ""
-        if sk:
-            d, i = next(iter(sk.items()))
-            caption = f"<p><b>{_AXIS_NAMES[d]} {float(ds[d].values[i]):.3g}</b></p>"
-        th = "".join(f"<th>{html.escape(h)}</th>" for h in head)
-        body = "".join("<tr>" + "".join(f"<td>{html.escape(c)}</td>" for c in r) + "</tr>"
-                       for r in rows)
-        blocks.append(caption + f'<table class="rw-table"><thead><tr>{th}</tr></thead>'
-                      f"<tbody>{body}</tbody></table>")
-    return "\n".join(blocks)
-
-
-def _ranges_text(T: np.ndarray, ok: np.ndarray) -> str:
-    parts, start = [], None
-    for k, flag in enumerate(ok):
-        if flag and start is None:
-            start = k
-        if (not flag or k == len(ok) - 1) and start is not None:
-            stop = k if flag else k - 1
-            parts.append(f"{T[start]:.0f}" if start == stop else f"{T[start]:.0f}-{T[stop]:.0f}")
-            start = None
-    return ", ".join(parts) if parts else "none"
-
-
-def _train_inputs(sc: Scenario) -> list[tuple[str, str]]:
-    """The reforming train's stages as (name, settings) rows of the review sheet."""
-    from thermo.scenario import STAGE_NAMES
-
-    t, rows = sc.train, []
-    if t.pre_reformer is not None:
-        rows.append((STAGE_NAMES["pre_reformer"],
-                     f"inlet {t.pre_reformer.inlet_temperature - 273.15:.1f} degC; gas "
-                     f"reheated to {sc.feed.inlet_temperature - 273.15:.1f} degC"))
-    sec = t.secondary_reformer
-    if sec is not None:
-        rows.append((STAGE_NAMES["secondary_reformer"],
-                     f"{sec.oxidant}, O2/C {sec.oxygen_to_carbon:g} at "
-                     f"{sec.oxidant_temperature - 273.15:.1f} degC; approach {sec.approach:g} K"))
-    for name in ("high_temperature_shift", "low_temperature_shift"):
-        st = getattr(t, name)
-        if st is not None:
-            rows.append((STAGE_NAMES[name], f"{st.temperature - 273.15:.1f} degC; approach "
-                                            f"{st.approach:g} K"))
-    return rows
-
-
-def _limits_text(sc: Scenario) -> list[tuple[str, str]]:
-    lim = sc.limits
-    return [
-        ("Maximum methane slip (dry)", "none" if lim.max_methane_slip_dry is None
-         else f"{lim.max_methane_slip_dry * 100:g} mol %"),
-        ("Carbon-free at equilibrium", "required" if lim.carbon_free else "not required"),
-        ("Minimum H2 yield", "none" if lim.min_h2_yield is None
-         else f"{lim.min_h2_yield:g} mol H2 / mol hydrocarbon C"),
-        ("Maximum duty (primary reformer, radiant)",
-         "none" if lim.max_duty is None else f"{lim.max_duty / 1e6:g} MW"),
-    ]
-
-
-def _pairs_table(pairs) -> str:
-    body = "".join(f"<tr><td>{html.escape(a)}</td><td>{html.escape(b)}</td></tr>"
-                   for a, b in pairs)
-    return f'<table class="rw-table"><tbody>{body}</tbody></table>'
-
-
-def review_sheet_html(sc: Scenario, ds: xr.Dataset, pinned: list[dict]) -> str:
-    """Inputs, assumptions, sources, limits and the resulting window, pinned points, notes."""
-    f, w = sc.feed, sc.window
-    comp = ", ".join(f"{k} {v * 100:.3g} %" for k, v in f.composition.items())
-    axes = [(name, a) for name, a in w.axes().items()]
-
-    def axis_text(name, a):
-        if name == "temperature":
-            return f"{a.start - 273.15:g} to {a.stop - 273.15:g} degC, {a.points} points"
-        if name == "pressure":
-            return f"{a.start / 1e5:g} to {a.stop / 1e5:g} bar abs, {a.points} points"
-        return f"{a.start:g} to {a.stop:g}, {a.points} points"
-
-    inputs = [
-        ("Dry feed composition (mol)", comp),
-        ("Dry feed flow", f"{f.flow * 3.6:,.2f} kmol/h "
-                          f"({f.flow * 3600 * V_NORMAL:,.0f} Nm3/h, 0 degC and 1.01325 bar)"),
-        ("Feed inlet temperature", f"{f.inlet_temperature - 273.15:.1f} degC"),
-        ("Design point", f"{sc.temperature - 273.15:.1f} degC, {sc.pressure / 1e5:.4g} bar abs, "
-                         f"S/C {f.steam_to_carbon:g}, O2/C {f.oxygen_to_carbon:g}, "
-                         f"CO2/C {f.co2_to_carbon:g}"),
-        ("Approach to equilibrium", f"{sc.approach:g} K"),
-    ] + [(f"Window: {_AXIS_NAMES.get(n, 'Outlet temperature')}", axis_text(n, a))
-         for n, a in axes] + _train_inputs(sc)
-    assumptions = [
-        ("Phases", "ideal-gas mixture of CH4, C2H6, C3H8, H2O, H2, CO, CO2, O2, N2, Ar; pure "
-                   "graphite where it is stable"),
-        ("Equilibrium", "Gibbs energy minimum at the outlet T and P (element potentials); "
-                        "composition at T minus the approach, enthalpy at T"),
-        ("Carbon", "graphite limit (equilibrated gas); whisker carbon on catalysts and the "
-                   "cracking of higher hydrocarbons can form carbon earlier"),
-        ("Duty", "enthalpy of the outlet at T minus that of the mixed feed at its inlet "
-                 "temperature"),
-        ("Standard state", f"{P_REF / 1e5:g} bar; normal volume at 0 degC and 1.01325 bar"),
-    ]
-    if not sc.train.empty:
-        assumptions += [
-            ("Reforming train", "every stage at the outlet pressure (no pressure drop); "
-                                "adiabatic stages at zero duty; shift stages held at their "
-                                "temperature, CO + H2O = CO2 + H2 only (CH4 and carbon "
-                                "frozen), equilibrium at the stage temperature plus the "
-                                "approach"),
-            ("Review limits with a train", "slip after the last reformer, H2 after the last "
-                                           "stage, graphite in any reforming stage; duty "
-                                           "limit on the primary's radiant duty"),
-        ]
-    bad = int((~ds["converged"]).sum())
-    parts = ["<h2>Review sheet</h2>", "<h3>Inputs</h3>", _pairs_table(inputs),
-             "<h3>Assumptions</h3>", _pairs_table(assumptions),
-             "<h3>Review limits</h3>", _pairs_table(_limits_text(sc)),
-             "<h3>Resulting window</h3>",
-             f"<p>{int(ds['feasible'].sum()):,} of {ds['feasible'].size:,} grid points meet "
-             "every limit" + (f"; {bad} points did not converge and count as infeasible"
-                              if bad else "") +
-             ". Feasible outlet temperatures [degC] at each pressure and steam-to-carbon "
-             "(grid points; 'none' where no point qualifies):</p>",
-             feasible_ranges_html(ds),
-             "<h3>Pinned design points</h3>"]
-    if pinned:
-        for i, d in enumerate(pinned):
-            parts.append(f"<h4>#{i + 1}: {d['temperature_K'] - 273.15:.1f} degC, "
-                         f"{d['pressure_Pa'] / 1e5:.3f} bar abs, S/C "
-                         f"{d['steam_to_carbon']:.3g}</h4>")
-            parts.append(balance_html(d))
-    else:
-        parts.append("<p>None pinned.</p>")
-    parts += ["<h3>Review notes</h3>",
-              f'<div class="rw-notes">{html.escape(sc.notes) or "(none)"}</div>',
-              "<h3>Data sources</h3>",
-              "<p>" + html.escape(ds.attrs.get("data_sources", "")) + "</p>",
-              "<h3>Cautions</h3>", f"<p>{html.escape(CAUTION)}</p>",
-              "<h3>Scenario file</h3>",
-              f'<pre class="rw-notes">{html.escape(sc.to_toml())}</pre>']
-    return "\n".join(parts)
 
 
 def _page_data(sc: Scenario, ds: xr.Dataset) -> dict:
@@ -463,7 +274,7 @@ def _sliders(ds: xr.Dataset, fixed0: dict[str, int], mode0: str) -> dict[str, Sl
         fmt = CustomJSTickFormatter(args={"labels": labels},
                                     code="return labels[Math.round(tick)] ?? String(tick);")
         sliders[d] = Slider(start=0, end=max(n - 1, 1), step=1, value=fixed0[d],
-                            title=_AXIS_NAMES[d], format=fmt, width=330,
+                            title=AXIS_NAMES[d], format=fmt, width=330,
                             visible=(d != mode0), disabled=n < 2)
     return sliders
 
@@ -576,21 +387,73 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
         maps = column(controls, row(*figs[:2]), row(figs[2]), name="maps")
     bal = column(heading, balance, name="balance")
     now = datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC")
-    sheet = review_sheet_html(sc, ds, pinned)
-    title = sc.title
+    review = review_context(sc, ds, pinned)
+    title, comparison = sc.title, None
     if compare is not None:
-        sheet = comparison_sheet_html(sc, ds, *compare) + sheet
+        comparison = comparison_context(sc, ds, *compare)
         title = f"{sc.title} compared with {compare[0].title}"
-    return file_html(
-        [maps, bal], resources=INLINE, title=f"Review: {title}", template=TEMPLATE,
-        template_variables={
-            "title": html.escape(title), "description": html.escape(sc.description),
-            "caution": html.escape(CAUTION), "created": now, "version": thermo.__version__,
-            "sheet": sheet, "sheet_css": SHEET_CSS,
-            "data_json": json.dumps(R, separators=(",", ":"), allow_nan=False)
-            .replace("</", "<\\/"),
-        },
+    script, divs = components({"maps": maps, "balance": bal})
+    # Only the library code this page's models need, inline (as the library's own file
+    # writer would choose it).
+    bundle = bundle_for_objs_and_resources([maps, bal], INLINE)
+    page = render(
+        "review.html.jinja",
+        # Text (autoescaped): the scenario's own words.
+        title=title, description=paragraphs(sc.description), caution=CAUTION, created=now,
+        version=thermo.__version__,
+        # Markup of our own or of the plotting library (its resources and document).
+        csp=_CSP_PLACEHOLDER, sheet_css=Markup(SHEET_CSS),
+        bokeh_css=Markup(CSS_RESOURCES.render(css_files=[], css_raw=bundle.css_raw)),
+        bokeh_js=Markup(bundle.scripts()), plot_script=Markup(script),
+        maps=Markup(divs["maps"]), balance=Markup(divs["balance"]),
+        data_json=Markup(script_json(R)), comparison=comparison, review=review,
     )
+    return with_content_security_policy(page)
+
+
+#: Stands in for the policy while the page is rendered; the policy needs the page's scripts.
+_CSP_PLACEHOLDER = "rw-content-security-policy"
+
+_SCRIPT = re.compile(r"<script(?P<attrs>[^>]*)>(?P<body>.*?)</script\s*>",
+                     flags=re.DOTALL | re.IGNORECASE)
+_TYPE = re.compile(r"""\btype\s*=\s*["']?([^"'\s>]+)""", flags=re.IGNORECASE)
+_JS_TYPES = ("", "text/javascript", "application/javascript", "module")
+
+
+def script_json(data) -> str:
+    """JSON for a ``<script type="application/json">`` block: strict, and with ``<``, ``>``
+    and ``&`` written as escapes, so no text inside can end the block or open a comment."""
+    text = json.dumps(data, separators=(",", ":"), allow_nan=False)
+    return text.replace("<", "\\u003c").replace(">", "\\u003e").replace("&", "\\u0026")
+
+
+def content_security_policy(page: str) -> str:
+    """The policy of a review page: only its own inline scripts run (by SHA-256 hash).
+
+    Everything else is refused: no network of any kind, no plug-ins, no forms, no other
+    script, and no event-handler attributes (``onerror=``, ``onload=``) since
+    ``'unsafe-inline'`` is not granted for scripts. Styles may be inline (the plotting
+    library sets them on its elements), images only from ``data:`` and ``blob:``.
+    ``'unsafe-eval'`` is granted because the plotting library compiles the page's own
+    callbacks (slider and click handlers, tick formatters) with ``new Function``; it lets
+    only scripts that already run evaluate code, so injected markup still cannot run.
+    """
+    hashes = []
+    for m in _SCRIPT.finditer(page):
+        kind = _TYPE.search(m.group("attrs"))
+        if (kind.group(1).lower() if kind else "") in _JS_TYPES:
+            digest = hashlib.sha256(m.group("body").encode("utf-8")).digest()
+            hashes.append("'sha256-" + base64.b64encode(digest).decode("ascii") + "'")
+    return ("default-src 'none'; script-src " + " ".join(dict.fromkeys(hashes))
+            + " 'unsafe-eval'; style-src 'unsafe-inline'; img-src data: blob:; "
+            "font-src data:; connect-src 'none'; object-src 'none'; base-uri 'none'; "
+            "form-action 'none'; frame-src 'none'; worker-src 'none'")
+
+
+def with_content_security_policy(page: str) -> str:
+    """The page with its policy filled into the ``<meta>`` the template placed first in
+    ``<head>`` (before any user text, so the first occurrence is the placeholder)."""
+    return page.replace(_CSP_PLACEHOLDER, content_security_policy(page), 1)
 
 
 def _comparison_layers(sc, ds, prop_sc, prop_ds, variables) -> dict:
@@ -637,45 +500,6 @@ def _palette_of(var, levels) -> dict:
 
     return {"palette": _band_colours(var, len(levels) - 1), "low": float(levels[0]),
             "high": float(levels[-1])}
-
-
-def comparison_sheet_html(sc: Scenario, ds: xr.Dataset, prop_sc: Scenario,
-                          prop_ds: xr.Dataset) -> str:
-    """What changes from the base to the proposal: both scenarios, their windows, and both
-    at the base's design point."""
-    from explorer.tables import compare_point_html
-
-    fb, fp = int(ds["feasible"].sum()), int(prop_ds["feasible"].sum())
-    size = ds["feasible"].size
-    kw = {"temperature": f"{sc.temperature!r} K", "pressure": f"{sc.pressure!r} Pa",
-          "steam_to_carbon": sc.feed.steam_to_carbon}
-    for d in ("oxygen_to_carbon", "co2_to_carbon"):
-        if d in ds.dims:
-            kw[d] = getattr(sc.feed, d)
-    a = thermo.point(sc, **kw).to_dict()
-    b = thermo.point(prop_sc, **kw).to_dict()
-    return "\n".join([
-        "<h2>Comparison: base and proposal</h2>",
-        f"<p><b>Base:</b> {html.escape(sc.title)}<br><b>Proposal:</b> "
-        f"{html.escape(prop_sc.title)}</p>",
-        "<p>The proposal is solved over the base's window, so every grid point has both "
-        "answers; change maps show proposal minus base, in the variable's unit. Each map "
-        "shows its own scenario's carbon boundary and feasible window (the change map, the "
-        "proposal's).</p>",
-        f"<p>Grid points within every review limit: base {fb:,} of {size:,}, proposal "
-        f"{fp:,} of {size:,} (each against its own limits).</p>",
-        f"<h3>Both at the base design point ({sc.temperature - 273.15:.1f} degC, "
-        f"{sc.pressure / 1e5:.3f} bar abs, S/C {sc.feed.steam_to_carbon:g})</h3>",
-        compare_point_html(a, b),
-        "<h3>Proposal: resulting window</h3>",
-        "<p>Feasible outlet temperatures [degC] of the proposal at each pressure and "
-        "steam-to-carbon:</p>",
-        feasible_ranges_html(prop_ds),
-        "<h3>Proposal: review limits</h3>", _pairs_table(_limits_text(prop_sc)),
-        "<h3>Proposal: scenario file</h3>",
-        f'<pre class="rw-notes">{html.escape(prop_sc.to_toml())}</pre>',
-        "<h2>Base case</h2>",
-    ])
 
 
 def _hover(fig):

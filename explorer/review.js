@@ -65,8 +65,10 @@ function lookup(d, path) {
   return cur;
 }
 
+// The page's one escaping function: every text that goes into a table or heading.
 function esc(t) {
-  return String(t).replace(/&/g, "&amp;").replace(/</g, "&lt;").replace(/>/g, "&gt;");
+  return String(t).replace(/&/g, "&amp;").replace(/</g, "&lt;").replace(/>/g, "&gt;")
+    .replace(/"/g, "&#34;").replace(/'/g, "&#39;");
 }
 
 function table(head, rows) {
@@ -275,7 +277,7 @@ function trainHtml(d) {
   parts.push("<h4>Product gas after the last stage</h4>" + table(["species", "kmol/h",
     "mol % dry"], S.map((s) => [s, display(prod.flow_mol_per_s[s], "kmolh", 3),
                                  display(prod.mole_fraction_dry[s], "pct", 4)])));
-  parts.push(`<p class='rw-small'>${esc(R.spec.train_note).replace(/'/g, "&#x27;")}</p>`);
+  parts.push(`<p class='rw-small'>${esc(R.spec.train_note)}</p>`);
   return parts.join("\n");
 }
 

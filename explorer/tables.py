@@ -8,10 +8,10 @@ the page, rendered by a small script that reads the same specification) show the
 from __future__ import annotations
 
 import csv
-import html
 import io
 import math
 
+from explorer.safe import spreadsheet_text, text
 from thermo.constants import V_NORMAL
 from thermo.species import GAS_SPECIES
 
@@ -133,8 +133,8 @@ def display(value, conversion: str, decimals: int) -> str:
 
 
 def _table(head: list[str], rows: list[list[str]], cls: str) -> str:
-    th = "".join(f"<th>{html.escape(h)}</th>" for h in head)
-    body = "".join("<tr>" + "".join(f"<td>{html.escape(c)}</td>" for c in r) + "</tr>"
+    th = "".join(f"<th>{text(h)}</th>" for h in head)
+    body = "".join("<tr>" + "".join(f"<td>{text(c)}</td>" for c in r) + "</tr>"
                    for r in rows)
     return f'<table class="{cls}"><thead><tr>{th}</tr></thead><tbody>{body}</tbody></table>'
 
@@ -201,15 +201,23 @@ def train_html(d: dict) -> str:
               display(lookup(prod, f"mole_fraction_dry.{s}"), "pct", 4)] for s in GAS_SPECIES]
     parts.append("<h4>Product gas after the last stage</h4>"
                  + _table(["species", "kmol/h", "mol % dry"], prows, "rw-table"))
-    parts.append(f"<p class='rw-small'>{html.escape(TRAIN_NOTE)}</p>")
+    parts.append(f"<p class='rw-small'>{text(TRAIN_NOTE)}</p>")
     return "\n".join(parts)
 
 
-def balance_csv(d: dict) -> str:
-    """The balance of one point as CSV text (quantity, value, unit; SI and display units)."""
+def balance_csv(d: dict, title: str = "", notes: str = "") -> str:
+    """The balance of one point as CSV text (quantity, value, unit; SI and display units).
+
+    The scenario's `title` and review `notes` head the file as text a spreadsheet never runs
+    as a formula (:func:`explorer.safe.spreadsheet_text`).
+    """
     buf = io.StringIO()
     w = csv.writer(buf)
     w.writerow(["section", "quantity", "value", "unit"])
+    if title:
+        w.writerow(["scenario", "title", spreadsheet_text(title), ""])
+    if notes:
+        w.writerow(["scenario", "review notes", spreadsheet_text(notes), ""])
     for label, unit, key, conv, dec in SUMMARY_ROWS + ENERGY_ROWS:
         w.writerow(["summary", label, display(lookup(d, key), conv, max(dec, 6)).replace(",", ""),
                     unit])

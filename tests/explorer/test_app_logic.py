@@ -381,7 +381,7 @@ def test_valid_upload_is_adopted(app):
     assert form.general.object == ""
     assert s.scenario.title == new_title
     assert s.notes == s.scenario.notes == "came with the file"
-    assert page[0].object == f"# {new_title}"
+    assert page[0].object == f"<h1>{new_title}</h1>"
     if s.busy:
         wait_until_solved(s)
 
@@ -441,6 +441,8 @@ def test_balance_json_download_is_strict_and_equals_the_point(app):
         raise AssertionError(f"non-strict JSON constant {name}")
 
     d = json.loads(view._json().getvalue(), parse_constant=refuse)
+    about = d.pop("scenario")
+    assert about == {"title": s.scenario.title, "review_notes": s.notes}
     assert d == s.selected_point().to_dict()
 
 

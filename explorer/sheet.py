@@ -1,0 +1,255 @@
+"""The review sheet: inputs, assumptions, limits, the resulting window, pinned points, notes.
+
+The sheet is rendered through an autoescaping Jinja2 template (``static/sheet.html.jinja``):
+every value that reaches it is text, whatever it holds, unless this module marks it as markup
+(only the balance tables of :mod:`explorer.tables`, which escape each cell). Scenario titles,
+descriptions, notes and scenario files therefore never become markup in a review file.
+"""
+
+from __future__ import annotations
+
+from functools import cache
+from importlib import resources
+
+import numpy as np
+import xarray as xr
+from jinja2 import BaseLoader, Environment, TemplateNotFound, select_autoescape
+from markupsafe import Markup
+
+import thermo
+from explorer import CAUTION
+from explorer.tables import balance_html
+from thermo.constants import P_REF, V_NORMAL
+from thermo.scenario import Scenario
+
+#: Names of the window's non-temperature axes as the sheet shows them.
+AXIS_NAMES = {
+    "pressure": "Pressure",
+    "steam_to_carbon": "Steam-to-carbon",
+    "oxygen_to_carbon": "O2-to-carbon",
+    "co2_to_carbon": "CO2-to-carbon",
+}
+
+
+class _StaticLoader(BaseLoader):
+    """Templates from the package's ``static/`` folder (works from a wheel or a checkout)."""
+
+    def get_source(self, environment, template):
+        path = resources.files("explorer").joinpath("static", template)
+        if not path.is_file():
+            raise TemplateNotFound(template)
+        return path.read_text("utf-8"), None, lambda: True
+
+
+@cache
+def environment() -> Environment:
+    """The one Jinja2 environment of the explorer: autoescape on for every template."""
+    autoescape = select_autoescape(default=True, default_for_string=True)
+    return Environment(loader=_StaticLoader(), autoescape=autoescape, trim_blocks=True,
+                       lstrip_blocks=True)
+
+
+def _sheet():
+    """The sheet template's macros (review, comparison, ranges, pairs)."""
+    return environment().get_template("sheet.html.jinja").module
+
+
+def render(template: str, **context) -> str:
+    """Render one of the explorer's static templates (autoescaped) to text."""
+    return environment().get_template(template).render(**context)
+
+
+def _ranges_text(T: np.ndarray, ok: np.ndarray) -> str:
+    """Feasible runs of grid temperatures [degC] as text ('none' where no point qualifies)."""
+    parts, start = [], None
+    for k, flag in enumerate(ok):
+        if flag and start is None:
+            start = k
+        if (not flag or k == len(ok) - 1) and start is not None:
+            stop = k if flag else k - 1
+            parts.append(f"{T[start]:.0f}" if start == stop else f"{T[start]:.0f}-{T[stop]:.0f}")
+            start = None
+    return ", ".join(parts) if parts else "none"
+
+
+def feasible_ranges(ds: xr.Dataset) -> list[dict]:
+    """The feasible outlet-temperature range(s) at each pressure and steam-to-carbon, as
+    table blocks (``caption``, ``head``, ``rows``), one per co-feed value."""
+    T = ds.temperature.values - 273.15
+    feas = ds["feasible"]
+    extra = [d for d in feas.dims if d not in ("temperature", "pressure", "steam_to_carbon")]
+    blocks = []
+    sub_keys = [{}] if not extra else [{extra[0]: i} for i in range(ds.sizes[extra[0]])]
+    for sk in sub_keys:
+        f = feas.isel(sk).transpose("steam_to_carbon", "pressure", "temperature").values
+        head = ["S/C \\ P [bar abs]"] + [f"{p / 1e5:.1f}" for p in ds.pressure.values]
+        rows = []
+        for i, sc in enumerate(ds.steam_to_carbon.values):
+            rows.append([f"{sc:.3g}"] + [_ranges_text(T, f[i, j])
+                                         for j in range(ds.sizes["pressure"])])
+        caption = ""
+        if sk:
+            d, i = next(iter(sk.items()))
+            caption = f"{AXIS_NAMES[d]} {float(ds[d].values[i]):.3g}"
+        blocks.append({"caption": caption, "head": head, "rows": rows})
+    return blocks
+
+
+def feasible_ranges_html(ds: xr.Dataset) -> str:
+    """:func:`feasible_ranges` as HTML tables."""
+    return str(_sheet().ranges(feasible_ranges(ds)))
+
+
+def _train_inputs(sc: Scenario) -> list[tuple[str, str]]:
+    """The reforming train's stages as (name, settings) rows of the review sheet."""
+    from thermo.scenario import STAGE_NAMES
+
+    t, rows = sc.train, []
+    if t.pre_reformer is not None:
+        rows.append((STAGE_NAMES["pre_reformer"],
+                     f"inlet {t.pre_reformer.inlet_temperature - 273.15:.1f} degC; gas "
+                     f"reheated to {sc.feed.inlet_temperature - 273.15:.1f} degC"))
+    sec = t.secondary_reformer
+    if sec is not None:
+        rows.append((STAGE_NAMES["secondary_reformer"],
+                     f"{sec.oxidant}, O2/C {sec.oxygen_to_carbon:g} at "
+                     f"{sec.oxidant_temperature - 273.15:.1f} degC; approach {sec.approach:g} K"))
+    for name in ("high_temperature_shift", "low_temperature_shift"):
+        st = getattr(t, name)
+        if st is not None:
+            rows.append((STAGE_NAMES[name], f"{st.temperature - 273.15:.1f} degC; approach "
+                                            f"{st.approach:g} K"))
+    return rows
+
+
+def limits_rows(sc: Scenario) -> list[tuple[str, str]]:
+    """The review limits as (name, value) rows."""
+    lim = sc.limits
+    return [
+        ("Maximum methane slip (dry)", "none" if lim.max_methane_slip_dry is None
+         else f"{lim.max_methane_slip_dry * 100:g} mol %"),
+        ("Carbon-free", "required" if lim.carbon_free else "not required"),
+        ("Minimum H2 yield", "none" if lim.min_h2_yield is None
+         else f"{lim.min_h2_yield:g} mol H2 / mol hydrocarbon C"),
+        ("Maximum duty (primary reformer, radiant)",
+         "none" if lim.max_duty is None else f"{lim.max_duty / 1e6:g} MW"),
+    ]
+
+
+def _inputs(sc: Scenario) -> list[tuple[str, str]]:
+    f, w = sc.feed, sc.window
+    comp = ", ".join(f"{k} {v * 100:.3g} %" for k, v in f.composition.items())
+
+    def axis_text(name, a):
+        if name == "temperature":
+            return f"{a.start - 273.15:g} to {a.stop - 273.15:g} degC, {a.points} points"
+        if name == "pressure":
+            return f"{a.start / 1e5:g} to {a.stop / 1e5:g} bar abs, {a.points} points"
+        return f"{a.start:g} to {a.stop:g}, {a.points} points"
+
+    return [
+        ("Dry feed composition (mol)", comp),
+        ("Dry feed flow", f"{f.flow * 3.6:,.2f} kmol/h "
+                          f"({f.flow * 3600 * V_NORMAL:,.0f} Nm3/h, 0 degC and 1.01325 bar)"),
+        ("Feed inlet temperature", f"{f.inlet_temperature - 273.15:.1f} degC"),
+        ("Design point", f"{sc.temperature - 273.15:.1f} degC, {sc.pressure / 1e5:.4g} bar abs, "
+                         f"S/C {f.steam_to_carbon:g}, O2/C {f.oxygen_to_carbon:g}, "
+                         f"CO2/C {f.co2_to_carbon:g}"),
+        ("Approach to equilibrium", f"{sc.approach:g} K"),
+    ] + [(f"Window: {AXIS_NAMES.get(n, 'Outlet temperature')}", axis_text(n, a))
+         for n, a in w.axes().items()] + _train_inputs(sc)
+
+
+def _assumptions(sc: Scenario) -> list[tuple[str, str]]:
+    rows = [
+        ("Phases", "ideal-gas mixture of CH4, C2H6, C3H8, H2O, H2, CO, CO2, O2, N2, Ar; pure "
+                   "graphite where it is stable"),
+        ("Equilibrium", "Gibbs energy minimum at the outlet T and P (element potentials); "
+                        "composition at T minus the approach, enthalpy at T"),
+        ("Carbon", "graphite limit of the equilibrated gas, the conservative thermodynamic "
+                   "bound: the filamentous carbon formed on nickel catalysts is less stable "
+                   "than graphite. Carbon that forms earlier in practice does so by kinetics "
+                   "(cracking of higher hydrocarbons, the gas near the tube inlet), which "
+                   "equilibrium does not describe"),
+        ("Duty", "enthalpy of the outlet at T minus that of the mixed feed at its inlet "
+                 "temperature"),
+        ("Standard state", f"{P_REF / 1e5:g} bar; normal volume at 0 degC and 1.01325 bar"),
+    ]
+    if not sc.train.empty:
+        rows += [
+            ("Reforming train", "every stage at the outlet pressure (no pressure drop); "
+                                "adiabatic stages at zero duty; shift stages held at their "
+                                "temperature, CO + H2O = CO2 + H2 only (CH4 and carbon "
+                                "frozen), equilibrium at the stage temperature plus the "
+                                "approach"),
+            ("Review limits with a train", "slip after the last reformer, H2 after the last "
+                                           "stage, graphite in any reforming stage; duty "
+                                           "limit on the primary's radiant duty"),
+        ]
+    return rows
+
+
+def review_context(sc: Scenario, ds: xr.Dataset, pinned: list[dict]) -> dict:
+    """Everything the review sheet shows, as plain values (the template escapes them)."""
+    bad = int((~ds["converged"]).sum())
+    window_text = (f"{int(ds['feasible'].sum()):,} of {ds['feasible'].size:,} grid points meet "
+                   "every limit" + (f"; {bad} points did not converge and count as infeasible"
+                                    if bad else "")
+                   + ". Feasible outlet temperatures [degC] at each pressure and "
+                   "steam-to-carbon (grid points; 'none' where no point qualifies):")
+    return {
+        "inputs": _inputs(sc),
+        "assumptions": _assumptions(sc),
+        "limits": limits_rows(sc),
+        "window_text": window_text,
+        "ranges": feasible_ranges(ds),
+        "pinned": [{"heading": f"#{i + 1}: {d['temperature_K'] - 273.15:.1f} degC, "
+                               f"{d['pressure_Pa'] / 1e5:.3f} bar abs, S/C "
+                               f"{d['steam_to_carbon']:.3g}",
+                    # Tables built by explorer.tables escape every cell themselves.
+                    "balance": Markup(balance_html(d))} for i, d in enumerate(pinned)],
+        "notes": sc.notes,
+        "sources": ds.attrs.get("data_sources", ""),
+        "caution": CAUTION,
+        "toml": sc.to_toml(),
+    }
+
+
+def review_sheet_html(sc: Scenario, ds: xr.Dataset, pinned: list[dict]) -> str:
+    """The review sheet as HTML (autoescaped template)."""
+    return str(_sheet().review(review_context(sc, ds, pinned)))
+
+
+def comparison_context(sc: Scenario, ds: xr.Dataset, prop_sc: Scenario,
+                       prop_ds: xr.Dataset) -> dict:
+    """What changes from the base to the proposal: both scenarios, their windows, and both
+    at the base's design point (plain values; the template escapes them)."""
+    from explorer.tables import compare_point_html
+
+    fb, fp = int(ds["feasible"].sum()), int(prop_ds["feasible"].sum())
+    size = ds["feasible"].size
+    kw = {"temperature": f"{sc.temperature!r} K", "pressure": f"{sc.pressure!r} Pa",
+          "steam_to_carbon": sc.feed.steam_to_carbon}
+    for d in ("oxygen_to_carbon", "co2_to_carbon"):
+        if d in ds.dims:
+            kw[d] = getattr(sc.feed, d)
+    a = thermo.point(sc, **kw).to_dict()
+    b = thermo.point(prop_sc, **kw).to_dict()
+    return {
+        "base_title": sc.title,
+        "proposal_title": prop_sc.title,
+        "counts": f"Grid points within every review limit: base {fb:,} of {size:,}, proposal "
+                  f"{fp:,} of {size:,} (each against its own limits).",
+        "point_heading": f"Both at the base design point ({sc.temperature - 273.15:.1f} degC, "
+                         f"{sc.pressure / 1e5:.3f} bar abs, S/C {sc.feed.steam_to_carbon:g})",
+        "point_table": Markup(compare_point_html(a, b)),
+        "ranges": feasible_ranges(prop_ds),
+        "limits": limits_rows(prop_sc),
+        "toml": prop_sc.to_toml(),
+    }
+
+
+def comparison_sheet_html(sc: Scenario, ds: xr.Dataset, prop_sc: Scenario,
+                          prop_ds: xr.Dataset) -> str:
+    """The comparison part of a comparison review file, as HTML (autoescaped template)."""
+    return str(_sheet().comparison(comparison_context(sc, ds, prop_sc, prop_ds)))
