@@ -32,20 +32,32 @@ from bokeh.core.templates import CSS_RESOURCES
 from bokeh.embed import components
 from bokeh.embed.bundle import bundle_for_objs_and_resources
 from bokeh.layouts import column, row
-from bokeh.models import CustomJS, CustomJSTickFormatter, Div, RadioButtonGroup, Select, Slider
+from bokeh.models import (
+    CustomJS,
+    CustomJSTickFormatter,
+    Div,
+    Legend,
+    RadioButtonGroup,
+    Select,
+    Slider,
+)
 from bokeh.resources import INLINE
 from markupsafe import Markup
 
 import thermo
 from explorer import CAUTION
 from explorer.maps import (
+    COMPARE_ORDER,
     MODES,
     VARIABLES,
     axis_label,
     change_levels,
+    change_tolerance,
     change_variable,
     combine,
+    has_change,
     map_figure,
+    quiet_change,
     shared_levels,
     slice_fields,
     variable_layers,
@@ -58,6 +70,7 @@ from explorer.sheet import (
     comparison_context,
     render,
     review_context,
+    summary_html,
 )
 from explorer.tables import (
     CONVERSIONS,
@@ -335,11 +348,12 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
         R["cmp"] = {"layers": panels["proposal"], "common": panels["proposal_common"],
                     "diff": panels["change"], "palettes": panels["palettes"],
                     "diff_palettes": panels["change_palettes"]}
-        R["titles"] = {v: VARIABLES[v].title for v in variables}
+        R["titles"] = {v: VARIABLES[v].label for v in variables}
         R["proposal"] = _page_data(prop_sc, prop_ds)
-        prefixes = ["Base: ", "Proposal: ", "Change (proposal - base): "]
+        prefixes = ["Base: ", "Proposal: ", "Change: "]
         R["prefixes"] = prefixes
-        v0 = variables[0]
+        # The first variable that changes (round-off below the tolerance is no change).
+        v0 = next((v for v in COMPARE_ORDER if v in panels["changes"]), variables[0])
         sets = [(panels["base"], panels["base_common"], panels["levels"][v0], VARIABLES[v0]),
                 (panels["proposal"], panels["proposal_common"], panels["levels"][v0],
                  VARIABLES[v0]),
@@ -349,7 +363,7 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
             start = combine(lay[v0][mode0][key0], com[mode0][key0])
             fig, src, mapper = map_figure(var, mode0, levels, start, f"map-{i}", x_range,
                                           y_range, width=580 if i < 2 else 620, height=420)
-            fig.title.text = prefixes[i] + var.title
+            fig.title.text = prefixes[i] + var.label
             figs.append(fig)
             srcs.append(src)
             mappers.append(mapper)
@@ -366,7 +380,8 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
     pts = _points_source(ds, sc)
     hovers = [_hover(f) for f in figs]
     js_common = resources.files("explorer").joinpath("review.js").read_text("utf-8")
-    args = dict(pts=pts, figs=figs, mappers=mappers, selects=selects, mode=mode,
+    legends = [f.select_one({"type": Legend}) for f in figs]
+    args = dict(pts=pts, figs=figs, mappers=mappers, selects=selects, mode=mode, legends=legends,
                 sliders=sliders, hovers=hovers, srcs=srcs)
     if compare is not None:
         args["pts2"] = _points_source(compare[1], compare[0])
@@ -407,6 +422,7 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
         bokeh_js=Markup(bundle.scripts()), plot_script=Markup(script),
         maps=Markup(divs["maps"]), balance=Markup(divs["balance"]),
         data_json=Markup(script_json(R)), comparison=comparison, review=review,
+        summary=summary_html(sc, ds),
     )
     return with_content_security_policy(page)
 
@@ -462,7 +478,9 @@ def _comparison_layers(sc, ds, prop_sc, prop_ds, variables) -> dict:
 
     diff = difference(ds, prop_ds)
     levels = {v: shared_levels((ds, prop_ds), VARIABLES[v]) for v in variables}
-    ch_levels = {v: change_levels(diff, VARIABLES[v]) for v in variables}
+    tolerance = {v: change_tolerance(ds, VARIABLES[v]) for v in variables}
+    quiet = {v: quiet_change(diff, VARIABLES[v], tolerance[v]) for v in variables}
+    ch_levels = {v: change_levels(quiet[v], VARIABLES[v], tolerance[v]) for v in variables}
     out = {"base": {}, "proposal": {}, "change": {}, "base_common": {m: {} for m in MODES},
            "proposal_common": {m: {} for m in MODES}, "levels": levels,
            "change_levels": ch_levels}
@@ -473,7 +491,7 @@ def _comparison_layers(sc, ds, prop_sc, prop_ds, variables) -> dict:
             key = _key_text(fixed)
             sb = slice_fields(ds, mode, fixed)
             sp = slice_fields(prop_ds, mode, fixed)
-            sd = _diff_slice(diff, mode, fixed)
+            sd = {v: _diff_slice(quiet[v], mode, fixed) for v in variables}
             out["base_common"][mode][key] = _round(window_layers(sb, mode, sc.limits), 4)
             out["proposal_common"][mode][key] = _round(window_layers(sp, mode, prop_sc.limits),
                                                        4)
@@ -483,7 +501,9 @@ def _comparison_layers(sc, ds, prop_sc, prop_ds, variables) -> dict:
                 out["proposal"][v][mode][key] = _round(
                     variable_layers(sp, var, mode, levels[v]), 4)
                 out["change"][v][mode][key] = _round(
-                    variable_layers(sd, change_variable(var), mode, ch_levels[v]), 4)
+                    variable_layers(sd[v], change_variable(var), mode, ch_levels[v]), 4)
+    out["changes"] = [v for v in variables
+                      if has_change(quiet[v], VARIABLES[v], tolerance[v])]
     out["palettes"] = {v: _palette_of(VARIABLES[v], levels[v]) for v in variables}
     out["change_palettes"] = {v: _palette_of(change_variable(VARIABLES[v]), ch_levels[v])
                               for v in variables}
@@ -539,8 +559,9 @@ for (let i = 0; i < 2; i++) {
   hovers[i].tooltips = [["temperature", "@x{0.0} degC"],
     m === "pressure" ? ["pressure", "@y{0.00} bar abs"] : ["steam-to-carbon", "@y{0.00}"],
     [label, "@value{0." + "0".repeat(Math.max(digits, 1)) + "} " + unit],
-    ["within all limits", "@feasible"], ["carbon at equilibrium", "@carbon"]];
+    ["review limits", "@feasible"], ["carbon", "@carbon"]];
   srcs[i].selected.data = {x: [], y: [], alpha: []};
+  showLegend(legends[i], C, false);
 }
 """
 
@@ -554,8 +575,11 @@ if (d.oxygen_to_carbon) head += `, O2/C ${pyG(d.oxygen_to_carbon, 3)}`;
 if (d.co2_to_carbon) head += `, CO2/C ${pyG(d.co2_to_carbon, 3)}`;
 head += ` (approach ${pyG(d.approach_K, 6)} K; grid point ${p})</p>`;
 heading.text = head;
-balance.text = balanceHtml(d);
-for (let f = 0; f < 2; f++) srcs[f].selected.data = {x: [T[i]], y: [Y[j]], alpha: [1.0]};
+balance.text = nodeVerdict(R.common[m][sliceKey(m)], i, j, T.length) + balanceHtml(d);
+for (let f = 0; f < 2; f++) {
+  srcs[f].selected.data = {x: [T[i]], y: [Y[j]], alpha: [1.0]};
+  showLegend(legends[f], R.common[m][sliceKey(m)], true);
+}
 """
 
 
@@ -586,8 +610,9 @@ for (let i = 0; i < 3; i++) {
     m === "pressure" ? ["pressure", "@y{0.00} bar abs"] : ["steam-to-carbon", "@y{0.00}"],
     [(i === 2 ? "change in " : "") + label,
      "@value{0." + "0".repeat(Math.max(dg, 1)) + "} " + unit],
-    ["within all limits", "@feasible"], ["carbon at equilibrium", "@carbon"]];
+    ["review limits", "@feasible"], ["carbon", "@carbon"]];
   srcs[i].selected.data = {x: [], y: [], alpha: []};
+  showLegend(legends[i], C, false);
 }
 """
 
@@ -602,9 +627,14 @@ if (a.oxygen_to_carbon) head += `, O2/C ${pyG(a.oxygen_to_carbon, 3)}`;
 if (a.co2_to_carbon) head += `, CO2/C ${pyG(a.co2_to_carbon, 3)}`;
 head += ` (grid point ${p}): base, proposal and the change</p>`;
 heading.text = head;
-balance.text = compareHtml(a, b) + "<h3>Base case</h3>" + balanceHtml(a) +
-  "<h3>Proposal</h3>" + balanceHtml(b);
-for (let f = 0; f < 3; f++) srcs[f].selected.data = {x: [T[i]], y: [Y[j]], alpha: [1.0]};
+const k = sliceKey(m);
+balance.text = compareHtml(a, b) + "<h3>Base case</h3>" +
+  nodeVerdict(R.common[m][k], i, j, T.length) + balanceHtml(a) + "<h3>Proposal</h3>" +
+  nodeVerdict(R.cmp.common[m][k], i, j, T.length) + balanceHtml(b);
+for (let f = 0; f < 3; f++) {
+  srcs[f].selected.data = {x: [T[i]], y: [Y[j]], alpha: [1.0]};
+  showLegend(legends[f], f === 0 ? R.common[m][k] : R.cmp.common[m][k], true);
+}
 """
 
 

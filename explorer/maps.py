@@ -43,6 +43,13 @@ MODES = {
     "steam_to_carbon": "temperature vs steam-to-carbon (at a chosen pressure)",
 }
 
+#: Room a contour label takes, as fractions of the map's width and height (11 pt text on a
+#: map about 600 x 440 px); labels closer than this to one another are not drawn.
+LABEL_BOX = (0.09, 0.06)
+
+#: Type sizes: legible from the back of a review room.
+TITLE_PT, AXIS_PT, LABEL_PT, LEGEND_PT = "15pt", "14pt", "11pt", "12pt"
+
 # Colours of the overlays (our own choice).
 CARBON_COLOUR = "#5b1a18"
 EDGE_COLOUR = "#00a37a"
@@ -158,14 +165,53 @@ def shared_levels(datasets, var) -> np.ndarray:
     return nice_levels(float(vals.min()), float(vals.max()))
 
 
-def change_levels(diff: xr.Dataset, var) -> np.ndarray:
-    """Levels of a change map, symmetric about zero (display units)."""
+#: A change smaller than this fraction of the variable's range over the base window is "no
+#: change": solver round-off (about 1e-9 relative) must not paint a patchwork.
+CHANGE_TOLERANCE = 1e-6
+
+
+def change_tolerance(base: xr.Dataset, var) -> float:
+    """The smallest change a change map shows, in display units: CHANGE_TOLERANCE times the
+    variable's range over the base window (never below 1e-12 display units)."""
+    vals = np.asarray(var.values(base), dtype=float)
+    vals = vals[np.isfinite(vals)]
+    span = float(vals.max() - vals.min()) if vals.size else 0.0
+    return max(CHANGE_TOLERANCE * span, 1e-12)
+
+
+def quiet_change(diff: xr.Dataset, var, tolerance: float) -> xr.Dataset:
+    """The change with every value within +-`tolerance` (display units) set to exactly 0."""
+    key = "mole_fraction_dry" if var.key.startswith("dry:") else var.key
+    out = diff.copy()
+    da = diff[key]
+    out[key] = da.where(~(np.abs(da * var.scale) <= tolerance), 0.0)
+    return out
+
+
+def has_change(diff: xr.Dataset, var, tolerance: float) -> bool:
+    """Whether any point changes by more than `tolerance` (display units)."""
+    vals = np.asarray(var.values(diff), dtype=float)
+    return bool(np.any(np.abs(vals[np.isfinite(vals)]) > tolerance))
+
+
+def change_levels(diff: xr.Dataset, var, tolerance: float = 0.0) -> np.ndarray:
+    """Levels of a change map, symmetric about zero (display units); one band of
+    +-`tolerance` when nothing changes by more than that ("no change")."""
     vals = np.asarray(var.values(diff), dtype=float)
     vals = vals[np.isfinite(vals)]
     m = float(np.abs(vals).max()) if vals.size else 0.0
-    # No change (or round-off only): a band of +-1e-6 display units, wide enough for the
-    # levels' 12-decimal rounding.
-    return nice_levels(-max(m, 1e-6), max(m, 1e-6), 10)
+    if m <= tolerance:
+        t = max(tolerance, 1e-12)
+        return np.array([-t, t])
+    return nice_levels(-m, m, 10)
+
+
+#: Variables a comparison shows first when they change, most telling first.
+COMPARE_ORDER = ("h2_product", "train_duty", "duty", "h2_yield", "train_methane_slip_dry",
+                 "methane_slip_dry", "carbon_activity", "dry:CO", "dry:CO2")
+
+#: Colour of a change map where nothing changes.
+NO_CHANGE_COLOUR = "#d9dee2"
 
 
 #: Dataset variables the overlays read (limits, carbon boundary, nodes).
@@ -290,21 +336,33 @@ def variable_layers(s: xr.Dataset, var: Variable, mode: str, levels: np.ndarray)
         bands["xs"].append(xs)
         bands["ys"].append(ys)
         bands["color"].append(palette[i])
-        bands["band"].append(f"{_fmt(levels[i], var.digits)} to "
-                             f"{_fmt(levels[i + 1], var.digits)}")
+        bands["band"].append("no change" if len(levels) == 2 and var.palette is CHANGE_PALETTE
+                             else f"{_fmt(levels[i], var.digits)} to "
+                                  f"{_fmt(levels[i + 1], var.digits)}")
     span_x = float(x.max() - x.min()) or 1.0
     span_y = float(y.max() - y.min()) or 1.0
     lines, labels = out["lines"], out["labels"]
+    placed: list[tuple[float, float]] = []  # label centres, in fractions of the map
     for level in levels[1:-1]:
         for path in gen.lines(level):
             lines["xs"].append(path[:, 0].tolist())
             lines["ys"].append(path[:, 1].tolist())
-            length = np.sum(np.hypot(np.diff(path[:, 0]) / span_x, np.diff(path[:, 1]) / span_y))
-            if length > 0.15:
-                k = len(path) // 2
-                labels["x"].append(float(path[k, 0]))
-                labels["y"].append(float(path[k, 1]))
-                labels["text"].append(_fmt(level, var.digits))
+            u, v = (path[:, 0] - x.min()) / span_x, (path[:, 1] - y.min()) / span_y
+            if np.sum(np.hypot(np.diff(u), np.diff(v))) <= 0.15:
+                continue
+            # The first of a few places along the line whose label box clears every label
+            # already placed and the map's border.
+            for k in (len(path) // 2, len(path) // 3, 2 * len(path) // 3, len(path) // 5,
+                      4 * len(path) // 5):
+                if (LABEL_BOX[0] / 2 < u[k] < 1 - LABEL_BOX[0] / 2
+                        and LABEL_BOX[1] / 2 < v[k] < 1 - LABEL_BOX[1] / 2
+                        and all(abs(u[k] - a) > LABEL_BOX[0] or abs(v[k] - b) > LABEL_BOX[1]
+                                for a, b in placed)):
+                    placed.append((float(u[k]), float(v[k])))
+                    labels["x"].append(float(path[k, 0]))
+                    labels["y"].append(float(path[k, 1]))
+                    labels["text"].append(_fmt(level, var.digits))
+                    break
     return out
 
 
@@ -325,16 +383,82 @@ def window_layers(s: xr.Dataset, mode: str, limits) -> dict:
         ixs, iys = _polys(pts, offs) if pts else ([], [])
         out["infeasible"] = {"xs": [ixs], "ys": [iys]}
         out["edge"] = _paths(fgen.lines(0.0))
+        out["carbon"] = _with_side_ticks(out["carbon"], x, y, np.asarray(carbon_margin(s),
+                                                                         dtype=float))
     X, Y = np.meshgrid(x, y)
-    feas = np.asarray(s["feasible"]) if "feasible" in s else np.ones(X.shape, bool)
-    carbon = np.asarray(s["carbon_deposit"]) > 0
     out["nodes"] = {
         "x": X.ravel().tolist(),
         "y": Y.ravel().tolist(),
-        "feasible": ["yes" if f else "no" for f in feas.ravel()],
-        "carbon": ["graphite" if c else "none" for c in carbon.ravel()],
+        "feasible": broken_limits(s, limits).ravel().tolist(),
+        "carbon": carbon_words(s).ravel().tolist(),
     }
     return out
+
+
+def broken_limits(s: xr.Dataset, limits) -> np.ndarray:
+    """At each node, the review limits broken there in words ("within all limits" where
+    none is), on the variables of thermo.sweep.LIMIT_VARIABLES."""
+    v = LIMIT_VARIABLES
+    shape = s["converged"].shape
+    words = np.full(shape, "", dtype=object)
+
+    def add(mask, text):
+        mask = np.asarray(mask, dtype=bool)
+        words[mask] = np.where(words[mask] == "", text, words[mask] + "; " + text)
+
+    if limits.max_methane_slip_dry is not None:
+        add(s[v["max_methane_slip_dry"]] > limits.max_methane_slip_dry,
+            f"methane slip above {limits.max_methane_slip_dry * 100:g} mol %")
+    if limits.min_h2_yield is not None:
+        add(s[v["min_h2_yield"]] < limits.min_h2_yield,
+            f"H2 below {limits.min_h2_yield:g} mol/mol C")
+    if limits.max_duty is not None:
+        add(s[v["max_duty"]] > limits.max_duty, f"duty above {limits.max_duty / 1e6:g} MW")
+    if limits.carbon_free:
+        add(carbon_forms(s), "carbon")
+    add(~np.asarray(s["converged"], dtype=bool), "not converged")
+    words[words == ""] = "within all limits"
+    return words
+
+
+def carbon_forms(s: xr.Dataset) -> np.ndarray:
+    """Where the carbon limit is broken: graphite in any reforming stage of the train."""
+    return np.asarray(s[LIMIT_VARIABLES["carbon_free"]] > 0)
+
+
+def carbon_words(s: xr.Dataset) -> np.ndarray:
+    """The carbon call at each node in words, with the outlet gas's carbon activity."""
+    act = np.asarray(s["carbon_activity"], dtype=float)
+    forms = carbon_forms(s)
+    out = np.empty(act.shape, dtype=object)
+    out[forms] = "forms here (graphite)"
+    out[~forms] = [f"free (activity {a:.2f})" for a in act[~forms]]
+    return out
+
+
+def _with_side_ticks(lines: dict, x: np.ndarray, y: np.ndarray, field: np.ndarray) -> dict:
+    """The carbon boundary with short ticks on the side where carbon forms (where `field`,
+    the signed carbon margin on the grid, is positive)."""
+    if not lines["xs"]:
+        return lines
+    sx, sy = float(x.max() - x.min()) or 1.0, float(y.max() - y.min()) or 1.0
+    gy, gx = np.gradient(field, y / sy, x / sx)
+    xs, ys = list(lines["xs"]), list(lines["ys"])
+    for px, py in zip(lines["xs"], lines["ys"], strict=True):
+        u, v = (np.asarray(px) - x.min()) / sx, (np.asarray(py) - y.min()) / sy
+        length = np.concatenate([[0.0], np.cumsum(np.hypot(np.diff(u), np.diff(v)))])
+        for d in np.arange(0.03, length[-1], 0.06):
+            k = int(np.searchsorted(length, d))
+            i = int(np.clip(np.searchsorted(y, py[k]), 0, len(y) - 1))
+            j = int(np.clip(np.searchsorted(x, px[k]), 0, len(x) - 1))
+            n = np.array([gx[i, j], gy[i, j]])
+            norm = float(np.hypot(*n))
+            if not np.isfinite(norm) or norm == 0.0:
+                continue
+            n = n / norm * 0.018
+            xs.append([float(px[k]), float(px[k] + n[0] * sx)])
+            ys.append([float(py[k]), float(py[k] + n[1] * sy)])
+    return {"xs": xs, "ys": ys}
 
 
 def combine(variable: dict, window: dict) -> dict[str, dict]:
@@ -379,7 +503,7 @@ def slice_layers(ds: xr.Dataset, var: Variable, mode: str, fixed: dict[str, int]
 def _band_colours(var: Variable, n: int) -> list[str]:
     pal = var.palette
     if n <= 1:
-        return [pal[len(pal) // 2]]
+        return [NO_CHANGE_COLOUR if pal is CHANGE_PALETTE else pal[len(pal) // 2]]
     return [pal[int(round(i * (len(pal) - 1) / (n - 1)))] for i in range(n)]
 
 
@@ -410,8 +534,8 @@ def hover_tooltips(var: Variable, mode: str) -> list[tuple[str, str]]:
         ("temperature", "@x{0.0} degC"),
         y_tip,
         (var.label, f"@value{{0.{'0' * max(var.digits, 1)}}} {var.unit}"),
-        ("within all limits", "@feasible"),
-        ("carbon at equilibrium", "@carbon"),
+        ("review limits", "@feasible"),
+        ("carbon", "@carbon"),
     ]
 
 
@@ -422,6 +546,7 @@ def restyle_figure(fig, src: dict, var: Variable, mode: str, levels: np.ndarray,
     the browser keeps its event subscriptions; the review file's script does the same)."""
     for k, data in layers.items():
         src[k].data = data
+    show_legend_entries(fig, layers, src["selected"].data)
     bar = fig.select_one({"type": ColorBar})
     bar.color_mapper.update(palette=_band_colours(var, len(levels) - 1),
                             low=float(levels[0]), high=float(levels[-1]))
@@ -455,19 +580,24 @@ def map_figure(var: Variable, mode: str, levels: np.ndarray, layers: dict[str, d
         y_axis_label=axis_label(mode),
         title=var.title,
     )
-    fig.title.text_font_size = "12pt"
+    fig.title.text_font_size = TITLE_PT
+    for axis in (fig.xaxis[0], fig.yaxis[0]):
+        axis.axis_label_text_font_size = AXIS_PT
+        axis.major_label_text_font_size = AXIS_PT
+        axis.axis_label_text_font_style = "normal"
     src = {k: ColumnDataSource(v) for k, v in layers.items()}
     src["selected"] = ColumnDataSource({"x": [], "y": [], "alpha": []})
     fig.multi_polygons("xs", "ys", fill_color="color", line_color="color",
                                line_width=0.5, source=src["bands"])
     fig.multi_line("xs", "ys", line_color="#222222", line_alpha=0.55, line_width=1,
                    source=src["lines"])
-    fig.text("x", "y", "text", source=src["labels"], text_font_size="8.5pt",
-             text_align="center", text_baseline="middle", text_color="#111111",
-             background_fill_color="#ffffff", background_fill_alpha=0.65)
     infeasible = fig.multi_polygons("xs", "ys", source=src["infeasible"], fill_color="#ffffff",
                                     fill_alpha=0.3, hatch_pattern="/", hatch_color=HATCH_COLOUR,
                                     hatch_alpha=0.3, hatch_scale=14, line_color=None)
+    # Labels above the hatching, so that they read cleanly.
+    fig.text("x", "y", "text", source=src["labels"], text_font_size=LABEL_PT,
+             text_align="center", text_baseline="middle", text_color="#111111",
+             background_fill_color="#ffffff", background_fill_alpha=0.8)
     edge = fig.multi_line("xs", "ys", source=src["edge"], line_color=EDGE_COLOUR, line_width=3.5)
     carbon = fig.multi_line("xs", "ys", source=src["carbon"], line_color=CARBON_COLOUR,
                             line_width=3, line_dash=[8, 4])
@@ -479,20 +609,46 @@ def map_figure(var: Variable, mode: str, levels: np.ndarray, layers: dict[str, d
     fig.add_tools(HoverTool(renderers=[nodes], tooltips=hover_tooltips(var, mode)))
     mapper = LinearColorMapper(palette=_band_colours(var, len(levels) - 1),
                                low=float(levels[0]), high=float(levels[-1]))
-    fig.add_layout(ColorBar(color_mapper=mapper, width=12, title=var.unit,
-                            title_text_font_size="9pt"), "right")
+    fig.add_layout(ColorBar(color_mapper=mapper, width=14, title=var.unit,
+                            title_text_font_size=LEGEND_PT,
+                            major_label_text_font_size=LEGEND_PT), "right")
     legend = Legend(
-        items=[
-            LegendItem(label="carbon boundary (graphite)", renderers=[carbon]),
-            LegendItem(label="feasible window edge", renderers=[edge]),
-            LegendItem(label="outside a review limit", renderers=[infeasible]),
-            LegendItem(label="selected point", renderers=[selected]),
-        ],
+        items=[LegendItem(label=LEGEND_LABELS[k], renderers=[r], index=0, name=k)
+               for k, r in (("carbon", carbon), ("edge", edge), ("infeasible", infeasible),
+                            ("selected", selected))],
         orientation="horizontal",
         ncols=2,
-        label_text_font_size="8.5pt",
+        label_text_font_size=LEGEND_PT,
         click_policy="hide",
     )
     fig.add_layout(legend, "below")
     fig.toolbar.logo = None
+    show_legend_entries(fig, layers, {"x": []})
     return fig, src, mapper
+
+
+#: Legend entries, by the layer they name (shown only when the slice draws that layer).
+LEGEND_LABELS = {
+    "carbon": "carbon boundary (ticks on the side where carbon forms)",
+    "edge": "feasible window edge",
+    "infeasible": "outside a review limit (hover a dot: which)",
+    "selected": "selected point",
+}
+
+
+def legend_visibility(layers: dict[str, dict], selected: dict) -> dict[str, bool]:
+    """Which legend entries the slice needs: those whose layer draws something."""
+    return {
+        "carbon": bool(layers["carbon"]["xs"]),
+        "edge": bool(layers["edge"]["xs"]),
+        "infeasible": any(bool(p) for p in layers["infeasible"]["xs"][0])
+        if layers["infeasible"]["xs"] else False,
+        "selected": bool(selected.get("x")),
+    }
+
+
+def show_legend_entries(fig, layers: dict[str, dict], selected: dict) -> None:
+    """Hide the legend entries of layers the slice does not draw (no sample without data)."""
+    vis = legend_visibility(layers, selected)
+    for item in fig.select_one({"type": Legend}).items:
+        item.visible = vis[item.name]

@@ -356,3 +356,25 @@ function compareHtml(a, b) {
   }
   return warn + table(["quantity", "unit", "base", "proposal", "change"], rows);
 }
+
+// The review limits broken at grid node (i, j) of a slice, and its carbon call, in words
+// (the same words as the map's hover).
+function nodeVerdict(common, i, j, nT) {
+  const k = j * nT + i;
+  const limits = common.nodes.feasible[k];
+  const ok = limits === "within all limits";
+  return `<p class="rw-verdict ${ok ? "rw-ok" : "rw-bad"}"><b>${ok ? "Within every review " +
+    "limit." : "Outside the feasible window: " + esc(limits) + "."}</b> Carbon: ` +
+    `${esc(common.nodes.carbon[k])}.</p>`;
+}
+
+// Legend entries only for the layers this slice draws (no sample without data).
+function showLegend(legend, common, selected) {
+  const drawn = {
+    carbon: common.carbon.xs.length > 0,
+    edge: common.edge.xs.length > 0,
+    infeasible: common.infeasible.xs.length > 0 && common.infeasible.xs[0].length > 0,
+    selected: selected,
+  };
+  for (const item of legend.items) item.visible = drawn[item.name];
+}

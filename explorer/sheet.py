@@ -100,6 +100,45 @@ def feasible_ranges_html(ds: xr.Dataset) -> str:
     return str(_sheet().ranges(feasible_ranges(ds)))
 
 
+def design_row_ranges(ds: xr.Dataset, sc: Scenario) -> tuple[str, float, float]:
+    """Feasible outlet temperatures [degC] on the grid row nearest the design pressure and
+    steam-to-carbon, as text, with that row's pressure [bar] and S/C."""
+    j = int(np.argmin(np.abs(ds.pressure.values - sc.pressure)))
+    k = int(np.argmin(np.abs(ds.steam_to_carbon.values - sc.feed.steam_to_carbon)))
+    sel = {"pressure": j, "steam_to_carbon": k}
+    for d in ("oxygen_to_carbon", "co2_to_carbon"):
+        if d in ds.dims:
+            sel[d] = int(np.argmin(np.abs(ds[d].values - getattr(sc.feed, d))))
+    row = ds.isel(sel)
+    T = ds.temperature.values - 273.15
+    if "feasible_t_low" in ds:
+        lo = row["feasible_t_low"].values - 273.15
+        hi = row["feasible_t_high"].values - 273.15
+        parts = [f"{a:.1f}-{b:.1f}" for a, b in zip(lo, hi, strict=True) if np.isfinite(a)]
+        words = ", ".join(parts) if parts else "none"
+    else:
+        words = _ranges_text(T, np.asarray(row["feasible"]))
+    return words, float(ds.pressure.values[j]) / 1e5, float(ds.steam_to_carbon.values[k])
+
+
+def summary_html(sc: Scenario, ds: xr.Dataset) -> Markup:
+    """The answer first: the verdict at the exact design point and the feasible outlet
+    temperatures on the grid row nearest it."""
+    from explorer.tables import verdict_html
+
+    kw = {"temperature": f"{sc.temperature!r} K", "pressure": f"{sc.pressure!r} Pa",
+          "steam_to_carbon": sc.feed.steam_to_carbon}
+    d = thermo.point(sc, **kw).to_dict()
+    where = (f"{sc.temperature - 273.15:.1f} degC, {sc.pressure / 1e5:.4g} bar abs, "
+             f"S/C {sc.feed.steam_to_carbon:g}")
+    words, p_bar, s_c = design_row_ranges(ds, sc)
+    exact = "feasible_t_low" in ds
+    return Markup(verdict_html(d, sc.limits, prefix=f"Design point ({where}, computed "
+                                                    "exactly there): ")) + _sheet().summary(
+        words=words, p_bar=f"{p_bar:.4g}", s_c=f"{s_c:g}", exact=exact,
+        n_ok=f"{int(ds['feasible'].sum()):,}", n=f"{int(ds['feasible'].size):,}")
+
+
 def _train_inputs(sc: Scenario) -> list[tuple[str, str]]:
     """The reforming train's stages as (name, settings) rows of the review sheet."""
     from thermo.scenario import STAGE_NAMES

@@ -269,9 +269,6 @@ class ExplorerState(param.Parameterized):
             self.scenario = self.scenario.with_notes(self.notes)
 
     # -- selection ------------------------------------------------------------------------
-    def window_dims(self) -> list[str]:
-        return [d for d in self.dataset["h2_yield"].dims]
-
     def design_index(self) -> dict[str, int]:
         """Grid indexes nearest the scenario's design point."""
         ds, sc = self.dataset, self.scenario
@@ -297,6 +294,33 @@ class ExplorerState(param.Parameterized):
         idx["temperature"] = i
         idx[self.mode] = j
         self.select_index(idx)
+
+    def design_point(self) -> thermo.PointResult:
+        """The core's result at the scenario's design point, exactly where it is (never
+        snapped to the grid)."""
+        sc = self.scenario
+        key = SHARED_CACHE.key(sc)
+        if getattr(self, "_design", (None, None))[0] != key:
+            kwargs = {"temperature": f"{sc.temperature!r} K", "pressure": f"{sc.pressure!r} Pa",
+                      "steam_to_carbon": sc.feed.steam_to_carbon}
+            self._design = (key, thermo.point(sc, **kwargs))
+        return self._design[1]
+
+    def design_in_window(self) -> list[str]:
+        """What of the design point lies outside the window, in words (empty if inside)."""
+        sc, out = self.scenario, []
+        for name, value, unit, scale, offset in (
+                ("temperature", sc.temperature, "degC", 1.0, -273.15),
+                ("pressure", sc.pressure, "bar abs", 1e-5, 0.0),
+                ("steam_to_carbon", sc.feed.steam_to_carbon, "", 1.0, 0.0)):
+            axis = sc.window.axes()[name]
+            lo, hi = sorted((axis.start, axis.stop))
+            if not lo - 1e-9 * abs(lo) <= value <= hi + 1e-9 * abs(hi):
+                words = name.replace("_", "-")
+                out.append(f"design {words} {value * scale + offset:.4g} {unit} lies outside "
+                           f"the window's {lo * scale + offset:.4g} to "
+                           f"{hi * scale + offset:.4g} {unit}".replace("  ", " "))
+        return out
 
     def selected_point(self) -> thermo.PointResult | None:
         """The core's result at the selected grid node (same numbers as the grid)."""

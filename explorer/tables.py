@@ -300,3 +300,62 @@ def comparison_html(points: list[dict]) -> str:
                     + [display(lookup(p, f"outlet.flow_mol_per_s.{s}"), "kmolh", 2)
                        for p in points])
     return _table(head, rows, "rw-table rw-compare")
+
+
+def limit_checks(d: dict, limits) -> list[tuple[str, bool, str]]:
+    """Each active review limit at one point (PointResult.to_dict()), as (name, met, words).
+
+    The limits apply as the sweep's feasible mask applies them (thermo.sweep.LIMIT_VARIABLES):
+    slip after the last reformer, H2 after the last stage, the primary's radiant duty, and
+    carbon in any reforming stage.
+    """
+    train = d.get("train") or {}
+    out = []
+    if limits.max_methane_slip_dry is not None:
+        slip = train.get("methane_slip_dry", d.get("methane_slip_dry"))
+        out.append(("methane slip", slip <= limits.max_methane_slip_dry,
+                    f"methane slip {slip * 100:.2f} mol % dry (limit "
+                    f"{limits.max_methane_slip_dry * 100:g})"))
+    if limits.min_h2_yield is not None:
+        h2 = train.get("h2_product", d.get("h2_yield"))
+        out.append(("H2", h2 >= limits.min_h2_yield,
+                    f"H2 {h2:.3f} mol per mol hydrocarbon C (limit at least "
+                    f"{limits.min_h2_yield:g})"))
+    if limits.max_duty is not None:
+        duty = d["duty_W"]
+        out.append(("duty", duty <= limits.max_duty,
+                    f"radiant duty {duty / 1e6:.2f} MW (limit {limits.max_duty / 1e6:g})"))
+    if limits.carbon_free:
+        free, words = carbon_verdict(d)
+        out.append(("carbon", free, words))
+    return out
+
+
+def carbon_verdict(d: dict) -> tuple[bool, str]:
+    """Whether a point is free of carbon, and the verdict in words."""
+    train = d.get("train") or {}
+    deposit = train.get("carbon_deposit_mol_per_s", d.get("carbon_deposit_mol_per_s", 0.0))
+    if deposit > 0:
+        return False, "graphite forms at equilibrium"
+    return True, (f"no graphite at equilibrium (outlet carbon activity "
+                  f"{d['carbon_activity']:.2f})")
+
+
+def verdict_html(d: dict, limits, prefix: str = "") -> str:
+    """The verdict at one point in words: within the window, or which limits it breaks
+    (after `prefix`, our own words naming the point)."""
+    checks = limit_checks(d, limits)
+    if not d.get("converged", True):
+        return ('<p class="rw-verdict rw-bad"><b>Not converged</b>: the solver found no '
+                "reliable answer at this point.</p>")
+    broken = [w for _, ok, w in checks if not ok]
+    met = [w for _, ok, w in checks if ok]
+    if not checks:
+        head = "<b>No review limits set.</b>"
+    elif broken:
+        head = "<b>Outside the feasible window</b>: " + "; ".join(text(w) for w in broken) + "."
+    else:
+        head = "<b>Within every review limit.</b>"
+    tail = (" Met: " + "; ".join(text(w) for w in met) + ".") if met else ""
+    cls = "rw-bad" if broken else "rw-ok"
+    return f'<p class="rw-verdict {cls}">{text(prefix)}{head}{tail}</p>'

@@ -77,3 +77,9 @@ def served_app(scenario, proposal=None):
         yield f"http://127.0.0.1:{port}/"
     finally:
         thread.stop()
+
+
+def open_scenario_form(page) -> None:
+    """Unfold the page's scenario section (the form is built when first opened)."""
+    page.get_by_text("4 Scenario:").first.click()
+    page.get_by_role("button", name="Apply and solve").wait_for(timeout=30000)

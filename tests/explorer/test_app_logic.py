@@ -23,7 +23,6 @@ import xarray as xr
 import thermo
 from explorer import state as state_module
 from explorer.app import (
-    MAX_UPLOAD_BYTES,
     BalanceView,
     MapsView,
     NotesView,
@@ -31,6 +30,7 @@ from explorer.app import (
     ScenarioForm,
     build_app,
 )
+from explorer.form import MAX_UPLOAD_BYTES
 from explorer.maps import VARIABLES
 from explorer.state import SHARED_CACHE
 from explorer.tables import display

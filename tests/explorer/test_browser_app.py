@@ -6,7 +6,13 @@ import pytest
 
 import thermo
 from explorer.tables import balance_html
-from tests.explorer.helpers import FIND_PIXEL, served_app, small_scenario, table_cells
+from tests.explorer.helpers import (
+    FIND_PIXEL,
+    open_scenario_form,
+    served_app,
+    small_scenario,
+    table_cells,
+)
 
 pytestmark = pytest.mark.usefixtures("chromium_path")
 
@@ -66,7 +72,9 @@ MAP_STATE = """() => {
 
 def test_invalid_entry_shows_its_message_and_keeps_the_maps(page, server):
     _ready(page, server[1])
+    page.wait_for_function(f"() => ({MAP_STATE})()[1] !== '[]'", timeout=30000)
     before = page.evaluate(MAP_STATE)
+    open_scenario_form(page)
     field = page.get_by_label("Window P from")
     field.fill("-5 bar")
     field.press("Enter")

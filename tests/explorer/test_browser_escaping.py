@@ -13,7 +13,7 @@ import sys
 
 import pytest
 
-from tests.explorer.helpers import served_app
+from tests.explorer.helpers import open_scenario_form, served_app
 from tests.explorer.hostile import HOSTILE, SENTINELS
 from tests.explorer.test_escaping import NOTES, TITLE, hostile_scenario
 
@@ -75,6 +75,8 @@ def test_app_runs_no_scenario_text_and_shows_it_as_typed(page):
         page.wait_for_timeout(1500)
         _check_inert(page, dialogs)
         assert TITLE in _heading_text(page)
+        open_scenario_form(page)  # the description stands in the scenario section
+        _check_inert(page, dialogs)
         text = page.evaluate(f"() => ({DEEP})('p').map(p => p.innerText).join('\\n')")
         for _, h in HOSTILE:
             assert " ".join(h.split()) in text

@@ -159,7 +159,7 @@ def test_comparison_file_maps_base_proposal_and_change_and_click_shows_both(page
                             ".title.text") for i in range(3)]
     assert titles[0].startswith("Base: H2 product")
     assert titles[1].startswith("Proposal: H2 product")
-    assert titles[2].startswith("Change (proposal - base): H2 product")
+    assert titles[2].startswith("Change: H2 product")
     _click(page, "map-2", 850.0, 20.0)
     page.wait_for_function("() => Bokeh.documents[0].get_model_by_name('balance-div')"
                            ".text.includes('Proposal')", timeout=10000)

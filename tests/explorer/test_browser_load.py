@@ -12,7 +12,7 @@ import time
 
 import pytest
 
-from tests.explorer.helpers import FIND_PIXEL, served_app, small_scenario
+from tests.explorer.helpers import FIND_PIXEL, open_scenario_form, served_app, small_scenario
 
 pytestmark = pytest.mark.usefixtures("chromium_path")
 
@@ -46,6 +46,7 @@ def test_eight_sessions_without_cross_talk(browser, server):
         opened = time.time() - start
         # Every session sets its own limit and applies it (interleaved).
         for pg, duty in zip(pages, DUTIES_MW, strict=True):
+            open_scenario_form(pg)
             field = pg.get_by_label("Max duty")
             field.fill(f"{duty} MW")
             field.press("Enter")

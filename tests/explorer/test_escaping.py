@@ -78,7 +78,8 @@ def app():
 def test_app_title_and_description_are_text(app):
     """The page's title and description panes hold the escaped text as typed."""
     page, s = app
-    title, desc = str(page[0].object), str(page[1].object)
+    title = str(page[0].object)
+    desc = str(page.explorer_parts["description"].object)
     assert title == f"<h1>{escape(TITLE)}</h1>"
     assert_inert(title)
     assert_inert(desc)

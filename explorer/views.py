@@ -1,0 +1,596 @@
+"""The page's sections: maps, the selected point's balance, the comparison with a proposal,
+pinned points and review notes. Views render state; thermodynamics comes from :mod:`thermo`
+through :class:`explorer.state.ExplorerState`.
+"""
+
+from __future__ import annotations
+
+import io as _io
+import json
+import math
+import os
+import subprocess
+import sys
+import tempfile
+from pathlib import Path
+
+import numpy as np
+import panel as pn
+from bokeh.events import Tap
+
+import thermo
+from explorer.form import _message_pane, read_upload, scenario_files
+from explorer.maps import (
+    CHANGE_TOLERANCE,
+    COMPARE_ORDER,
+    MODES,
+    VARIABLES,
+    change_levels,
+    change_tolerance,
+    change_variable,
+    combine,
+    empty_layers,
+    has_change,
+    map_figure,
+    quiet_change,
+    restyle_figure,
+    shared_levels,
+    show_legend_entries,
+    slice_fields,
+    slice_layers,
+    variable_layers,
+    variable_levels,
+    window_layers,
+)
+from explorer.safe import html, message_html, spreadsheet_text, text
+from explorer.sheet import design_row_ranges
+from explorer.state import ExplorerState
+from explorer.static import PAGE_CSS
+from explorer.tables import (
+    balance_csv,
+    balance_html,
+    compare_point_html,
+    comparison_html,
+    verdict_html,
+)
+from thermo import io as grid_io
+from thermo.errors import InputError
+from thermo.scenario import Scenario
+
+#: Map heights [px]: both maps on the first screen at 1366 x 768; taller when presenting.
+MAP_HEIGHT, PRESENT_HEIGHT = 400, 640
+
+
+class MapsView:
+    """Two maps side by side with the slice chooser; clicks select a grid point."""
+
+    def __init__(self, state: ExplorerState):
+        self.state = state
+        self.mode = pn.widgets.RadioButtonGroup(options={v: k for k, v in MODES.items()},
+                                                value=state.mode, color="light",
+                                                margin=(24, 10, 5, 10))
+        self.left = pn.widgets.Select(label="Left map", options=_var_options(),
+                                      value=state.left, width=250)
+        self.right = pn.widgets.Select(label="Right map", options=_var_options(),
+                                       value=state.right, width=250)
+        self.present = pn.widgets.Toggle(label="Presentation layout", value=False, width=170)
+        self.present.param.watch(self._presentation, "value")
+        self.sliders = pn.Row()
+        # The figures exist from the start (empty until the window is solved) and are only
+        # restyled afterwards: models added to a live page later can race its first render.
+        self.panes, self.sources = [], []
+        self.levels: dict[str, np.ndarray] = {}
+        for i, key in enumerate((state.left, state.right)):
+            var = VARIABLES[key]
+            fig, src, _ = map_figure(var, state.mode, np.array([0.0, 1.0]), empty_layers(),
+                                     f"map-{i}", (0.0, 1.0), (0.0, 1.0), height=MAP_HEIGHT)
+            fig.sizing_mode = "stretch_width"
+            fig.on_event(Tap, self._tap)
+            self.panes.append(pn.pane.Bokeh(fig, sizing_mode="stretch_width"))
+            self.sources.append(src)
+        self.status = pn.pane.HTML("", margin=(0, 10))
+        self.bar = pn.indicators.Progress(value=0, max=1000, width=300, visible=False)
+        self.mode.param.watch(lambda e: setattr(state, "mode", e.new), "value")
+        self.left.param.watch(lambda e: setattr(state, "left", e.new), "value")
+        self.right.param.watch(lambda e: setattr(state, "right", e.new), "value")
+        state.param.watch(self._rebuild, ["dataset", "mode", "left", "right"])
+        state.param.watch(self._redraw_slices, ["fixed"])
+        state.param.watch(self._mark_selected, ["selected"])
+        state.param.watch(self._progress, ["busy", "progress", "status"])
+        self._progress()
+        if state.dataset is not None:
+            self._rebuild()
+
+    def _progress(self, *_):
+        s = self.state
+        self.bar.visible = s.busy
+        self.bar.value = int(1000 * s.progress)
+        self.status.object = text(s.status)
+
+    def _rebuild(self, *_):
+        """New dataset, orientation or variable: the same figures show the new content."""
+        s = self.state
+        ds = s.dataset
+        if ds is None:
+            return
+        self.levels = {k: variable_levels(ds, VARIABLES[k]) for k in (s.left, s.right)}
+        x = ds.temperature.values - 273.15
+        y = ds[s.mode].values / (1e5 if s.mode == "pressure" else 1.0)
+        x_range = (float(x.min()), float(x.max()))
+        y_range = (float(y.min()), float(y.max()))
+        for i, key in enumerate((s.left, s.right)):
+            var = VARIABLES[key]
+            layers = slice_layers(ds, var, s.mode, s.fixed, s.scenario.limits, self.levels[key])
+            restyle_figure(self.panes[i].object, self.sources[i], var, s.mode,
+                           self.levels[key], layers, x_range, y_range)
+        self._build_sliders()
+        self._mark_selected()
+
+    def _build_sliders(self):
+        s, ds = self.state, self.state.dataset
+        widgets = []
+        for d in [d for d in ds["h2_yield"].dims if d not in ("temperature", s.mode)]:
+            vals = ds[d].values
+            if d == "pressure":
+                labels = [f"{v / 1e5:.2f} bar" for v in vals]
+                name = "Pressure (abs)"
+            else:
+                labels = [f"{v:.3g}" for v in vals]
+                name = {"steam_to_carbon": "Steam-to-carbon",
+                        "oxygen_to_carbon": "O2-to-carbon",
+                        "co2_to_carbon": "CO2-to-carbon"}[d]
+            options = dict(zip(labels, range(len(vals)), strict=True))
+            w = pn.widgets.DiscreteSlider(label=name, options=options,
+                                          value=s.fixed.get(d, 0), width=260)
+            w.param.watch(lambda e, d=d: self._set_fixed(d, e.new), "value")
+            widgets.append(w)
+        self.sliders[:] = widgets
+
+    def _set_fixed(self, dim: str, index: int) -> None:
+        self.state.fixed = dict(self.state.fixed, **{dim: index})
+
+    def _redraw_slices(self, *_):
+        """A new slice: recontour from the solved window (no thermodynamics)."""
+        s = self.state
+        if s.dataset is None or not self.levels:
+            return
+        cut = slice_fields(s.dataset, s.mode, s.fixed)
+        shared = window_layers(cut, s.mode, s.scenario.limits)
+        for i, key in enumerate((s.left, s.right)):
+            layers = combine(variable_layers(cut, VARIABLES[key], s.mode, self.levels[key]),
+                             shared)
+            for name, data in layers.items():
+                self.sources[i][name].data = data
+        self._mark_selected()
+
+    def _legends(self) -> None:
+        for pane, src in zip(self.panes, self.sources, strict=True):
+            show_legend_entries(pane.object, {k: src[k].data for k in src},
+                                src["selected"].data)
+
+    def _mark_selected(self, *_):
+        s = self.state
+        if s.selected is None or s.dataset is None:
+            for src in self.sources:
+                src["selected"].data = {"x": [], "y": [], "alpha": []}
+            self._legends()
+            return
+        sel = s.selected
+        x = sel["temperature"] - 273.15
+        y = sel[s.mode] / (1e5 if s.mode == "pressure" else 1.0)
+        ds = s.dataset
+        on_slice = all(
+            math.isclose(float(ds[d].values[i]), sel[d], rel_tol=1e-12)
+            for d, i in s.fixed.items() if d != s.mode and d in sel
+        )
+        for src in self.sources:
+            src["selected"].data = {"x": [x], "y": [y], "alpha": [1.0 if on_slice else 0.35]}
+        self._legends()
+
+    def _tap(self, event) -> None:
+        if event.x is None or event.y is None or self.state.dataset is None:
+            return
+        self.state.select_display(float(event.x), float(event.y))
+
+    def _presentation(self, event) -> None:
+        """Large maps for a projector: taller figures, one above the other."""
+        for pane in self.panes:
+            pane.object.height = PRESENT_HEIGHT if event.new else MAP_HEIGHT
+        self._maps_row.objects = [] if event.new else list(self.panes)
+        self._maps_column.objects = list(self.panes) if event.new else []
+
+    def __panel__(self):
+        self._maps_row = pn.Row(*self.panes, sizing_mode="stretch_width")
+        self._maps_column = pn.Column(sizing_mode="stretch_width")
+        return pn.Column(
+            pn.Row(self.mode, self.left, self.right, self.sliders),
+            pn.Row(self.bar, self.status, margin=(0, 0, 0, 0)),
+            self._maps_row,
+            self._maps_column,
+            pn.Row(pn.pane.Markdown(
+                "Click a map to select the nearest grid point. Dots are the solved grid "
+                "points (hover a dot for its values, the review limits it breaks and its "
+                "carbon call); colours and lines interpolate between them. Colour levels "
+                "are fixed over the whole window.",
+                styles={"font-size": "13px", "color": "#4a5a64"}, sizing_mode="stretch_width"),
+                self.present, sizing_mode="stretch_width"),
+            sizing_mode="stretch_width",
+        )
+
+
+def _var_options() -> dict[str, str]:
+    return {v.title: k for k, v in VARIABLES.items()}
+
+
+class BalanceView:
+    """Full balance of the selected grid point, computed by the core at that point."""
+
+    def __init__(self, state: ExplorerState):
+        self.state = state
+        self.heading = pn.pane.Markdown("")
+        self.tables = pn.pane.HTML("", stylesheets=[PAGE_CSS], sizing_mode="stretch_width")
+        self.pin = pn.widgets.Button(label="Pin this point", color="success")
+        self.pin.on_click(lambda e: state.pin())
+        self.csv = pn.widgets.FileDownload(callback=self._csv, filename="point-balance.csv",
+                                           label="Balance (CSV)", color="light")
+        self.json = pn.widgets.FileDownload(callback=self._json, filename="point-balance.json",
+                                            label="Balance (JSON)", color="light")
+        self.grid = pn.widgets.FileDownload(callback=self._grid, filename="window-grid.nc",
+                                            label="Whole grid (NetCDF)", color="light")
+        self._current: dict | None = None
+        state.param.watch(self._update, ["selected", "scenario"])
+        self._update()
+
+    def _update(self, *_):
+        pt = self.state.selected_point()
+        if pt is None:
+            self._current = None
+            self.heading.object = "Select a point on a map to see its balance."
+            self.tables.object = ""
+            return
+        d = pt.to_dict()
+        self._current = d
+        self.heading.object = (
+            f"**Grid node {d['temperature_K'] - 273.15:.1f} degC, "
+            f"{d['pressure_Pa'] / 1e5:.3f} bar abs, S/C {d['steam_to_carbon']:.3g}**"
+            + (f", O2/C {d['oxygen_to_carbon']:.3g}" if d["oxygen_to_carbon"] else "")
+            + (f", CO2/C {d['co2_to_carbon']:.3g}" if d["co2_to_carbon"] else "")
+            + f" (approach {d['approach_K']:g} K; a click takes the nearest solved node)"
+        )
+        self.tables.object = verdict_html(d, self.state.scenario.limits) + balance_html(d)
+
+    def _csv(self):
+        if not self._current:
+            return _io.StringIO("")
+        sc = self.state.scenario
+        return _io.StringIO(balance_csv(self._current, sc.title, self.state.notes))
+
+    def _json(self):
+        if not self._current:
+            return _io.StringIO("{}")
+        # The scenario's own words travel with the numbers, as text no spreadsheet runs.
+        about = {"scenario": {"title": spreadsheet_text(self.state.scenario.title),
+                              "review_notes": spreadsheet_text(self.state.notes)}}
+        return _io.StringIO(json.dumps({**about, **self._current}, indent=2, allow_nan=False))
+
+    def _grid(self):
+        ds = self.state.dataset
+        if ds is None:
+            return _io.BytesIO(b"")
+        fd, tmp = tempfile.mkstemp(suffix=".nc")
+        os.close(fd)
+        try:
+            grid_io.save(ds, tmp)
+            return _io.BytesIO(Path(tmp).read_bytes())
+        finally:
+            os.unlink(tmp)
+
+    def __panel__(self):
+        return pn.Column(self.heading, pn.Row(self.pin, self.csv, self.json, self.grid),
+                         self.tables)
+
+
+class ComparisonView:
+    """A proposal beside the scenario: maps of both and of the change, and both balances at
+    the selected point with the changes."""
+
+    NONE = "(no proposal)"
+
+    def __init__(self, state: ExplorerState):
+        self.state = state
+        files = scenario_files()
+        self.chooser = pn.widgets.Select(label="Proposal: shipped scenario",
+                                         options=[self.NONE] + list(files), value=self.NONE,
+                                         width=260)
+        self.upload = pn.widgets.FileInput(accept=".toml", multiple=False, width=260)
+        self.variable = pn.widgets.Select(label="Variable", options=_var_options(),
+                                          value="h2_product", width=320)
+        self.message = _message_pane()
+        self.status = pn.pane.HTML("", margin=(0, 10))
+        self.table = pn.pane.HTML("", stylesheets=[PAGE_CSS], sizing_mode="stretch_width")
+        # The three maps are built when the first proposal arrives (no empty plots before).
+        self.panes, self.sources = [], []
+        self.maps = pn.Column(sizing_mode="stretch_width")
+        self.note = pn.pane.HTML("", styles={"font-size": "13px", "color": "#4a5a64"},
+                                 sizing_mode="stretch_width")
+        self.titles = ("Base", "Proposal", "Change")
+        self.chooser.param.watch(self._choose, "value")
+        self.upload.param.watch(self._upload, "value")
+        self.variable.param.watch(self._redraw, "value")
+        # The base's dataset also changes alone (a limits edit: same numbers, new feasible
+        # window), and its hatching must follow.
+        state.param.watch(self._redraw, ["difference", "dataset", "mode", "fixed"])
+        state.param.watch(self._status, ["compare_status"])
+        state.param.watch(self._table, ["selected", "difference"])
+        state.param.watch(self._mark, ["selected"])
+        self._status()
+        self._redraw()
+        self._table()
+
+    def _status(self, *_):
+        self.status.object = text(self.state.compare_status)
+
+    def _adopt(self, sc: Scenario | None) -> None:
+        self.message.object = ""
+        try:
+            self.state.set_proposal(sc, background=pn.state.curdoc is not None
+                                    and pn.state.curdoc.session_context is not None)
+        except InputError as err:
+            self.message.object = message_html("Not compared: ", err)
+
+    def _choose(self, event) -> None:
+        if event.new == self.NONE:
+            self._adopt(None)
+            return
+        path = scenario_files().get(event.new)
+        if path is None:
+            return
+        try:
+            sc = thermo.load_scenario(path)
+        except InputError as err:
+            self.message.object = message_html(html("Could not open {}: ", event.new), err)
+            return
+        self._adopt(sc)
+
+    def _upload(self, event) -> None:
+        sc, message = read_upload(event.new, self.upload.filename)
+        if sc is None:
+            self.message.object = message
+            return
+        self._adopt(sc)
+
+    def _build_maps(self) -> None:
+        """The base, proposal and change maps (once; restyled afterwards)."""
+        var = VARIABLES[self.variable.value]
+        for i in range(3):
+            fig, src, _ = map_figure(var, self.state.mode, np.array([0.0, 1.0]),
+                                     empty_layers(), f"cmp-{i}", (0.0, 1.0), (0.0, 1.0),
+                                     height=MAP_HEIGHT)
+            fig.sizing_mode = "stretch_width"
+            fig.on_event(Tap, self._tap)
+            self.panes.append(pn.pane.Bokeh(fig, sizing_mode="stretch_width"))
+            self.sources.append(src)
+        self.maps[:] = [pn.Row(self.panes[0], self.panes[1], sizing_mode="stretch_width"),
+                        pn.Row(self.panes[2], self.note, sizing_mode="stretch_width")]
+
+    def _default_variable(self) -> None:
+        """Show a variable that changes: the chosen one if it does, else the first that
+        does in the chooser's order of importance."""
+        s = self.state
+        key = self.variable.value
+
+        def changes(k):
+            var = VARIABLES[k]
+            if ("mole_fraction_dry" if k.startswith("dry:") else k) not in s.difference:
+                return False
+            return has_change(s.difference, var, change_tolerance(s.dataset, var))
+
+        if not changes(key):
+            for k in COMPARE_ORDER:
+                if k in VARIABLES and changes(k):
+                    self.variable.value = k  # redraws through its watcher
+                    return
+
+    def _redraw(self, *_):
+        """Base, proposal and change of the chosen variable on the current slice."""
+        s = self.state
+        if s.difference is None or s.dataset is None or s.proposal_dataset is None:
+            for src in self.sources:
+                for name, data in empty_layers().items():
+                    src[name].data = data
+            return
+        if not self.panes:
+            self._build_maps()
+            self._default_variable()
+        base, prop, diff = s.dataset, s.proposal_dataset, s.difference
+        key = self.variable.value
+        var = VARIABLES[key]
+        levels = shared_levels((base, prop), var)
+        ch = change_variable(var)
+        tol = change_tolerance(base, var)
+        diff = quiet_change(diff, var, tol)
+        ch_levels = change_levels(diff, var, tol)
+        self.note.object = text(
+            f"Change = proposal minus base, in {var.unit} (blue where the proposal is higher). "
+            f"Changes within +-{tol:.2g} {var.unit} ({CHANGE_TOLERANCE:g} of the variable's "
+            "range over the base window) are shown as no change: solver round-off. Each map "
+            "carries its own carbon boundary and feasible window (the change map, the "
+            "proposal's); the slice and the selected point follow the maps above.")
+        x = base.temperature.values - 273.15
+        y = base[s.mode].values / (1e5 if s.mode == "pressure" else 1.0)
+        ranges = ((float(x.min()), float(x.max())), (float(y.min()), float(y.max())))
+        cut_b = slice_fields(base, s.mode, s.fixed)
+        cut_p = slice_fields(prop, s.mode, s.fixed)
+        sel = {d: i for d, i in s.fixed.items() if d in diff.dims
+               and d not in (s.mode, "temperature")}
+        cut_d = diff.isel(sel).transpose(s.mode, "temperature", ...)
+        common_p = window_layers(cut_p, s.mode, s.proposal.limits)
+        panels = [
+            (var, levels, combine(variable_layers(cut_b, var, s.mode, levels),
+                                  window_layers(cut_b, s.mode, s.scenario.limits))),
+            (var, levels, combine(variable_layers(cut_p, var, s.mode, levels), common_p)),
+            (ch, ch_levels, combine(variable_layers(cut_d, ch, s.mode, ch_levels), common_p)),
+        ]
+        for i, (v, lv, layers) in enumerate(panels):
+            fig = self.panes[i].object
+            restyle_figure(fig, self.sources[i], v, s.mode, lv, layers, *ranges)
+            fig.title.text = f"{self.titles[i]}: {v.label}"
+        self._mark()
+
+    def _mark(self, *_):
+        s = self.state
+        data = {"x": [], "y": [], "alpha": []}
+        if s.selected is not None and s.difference is not None:
+            data = {"x": [s.selected["temperature"] - 273.15],
+                    "y": [s.selected[s.mode] / (1e5 if s.mode == "pressure" else 1.0)],
+                    "alpha": [1.0]}
+        for src in self.sources:
+            src["selected"].data = data
+
+    def _tap(self, event) -> None:
+        if event.x is None or event.y is None or self.state.dataset is None:
+            return
+        self.state.select_display(float(event.x), float(event.y))
+
+    def _table(self, *_):
+        s = self.state
+        if s.difference is None:
+            self.table.object = ("<p class='rw-small'>Load a proposal (a shipped scenario or "
+                                 "a file) to compare it with this scenario over the same "
+                                 "window.</p>")
+            return
+        a, b = s.selected_point(), s.selected_proposal_point()
+        if a is None or b is None:
+            self.table.object = "<p class='rw-small'>Select a point on a map.</p>"
+            return
+        da, db = a.to_dict(), b.to_dict()
+        self.table.object = (f"<h4>Base and proposal at {da['temperature_K'] - 273.15:.1f} "
+                             f"degC, {da['pressure_Pa'] / 1e5:.3f} bar abs, S/C "
+                             f"{da['steam_to_carbon']:.3g}</h4>" + compare_point_html(da, db)
+                             + "<h4>Proposal: full balance</h4>" + balance_html(db))
+
+    def __panel__(self):
+        return pn.Column(
+            pn.Row(self.chooser, pn.Column("Or open a proposal file (.toml)", self.upload),
+                   self.variable),
+            self.message, self.status,
+            self.maps,
+            self.table,
+            sizing_mode="stretch_width",
+        )
+
+
+class PinnedView:
+    """Pinned points side by side."""
+
+    def __init__(self, state: ExplorerState):
+        self.state = state
+        self.table = pn.pane.HTML("", stylesheets=[PAGE_CSS], sizing_mode="stretch_width")
+        self.clear = pn.widgets.Button(label="Clear pinned points")
+        self.clear.on_click(lambda e: state.clear_pins())
+        state.param.watch(self._update, ["pinned"])
+        self._update()
+
+    def _update(self, *_):
+        self.table.object = comparison_html(self.state.pinned)
+
+    def __panel__(self):
+        return pn.Column(self.table, self.clear)
+
+
+class NotesView:
+    """Review notes, kept with the scenario and saved in its file."""
+
+    def __init__(self, state: ExplorerState):
+        self.state = state
+        self.text = pn.widgets.TextAreaInput(
+            value=state.notes, placeholder="Findings, decisions, open questions ...",
+            height=140, sizing_mode="stretch_width")
+        self.text.link(state, value="notes")
+        state.param.watch(lambda e: setattr(self.text, "value", e.new), ["notes"])
+        self.save = pn.widgets.FileDownload(callback=self._scenario, filename="scenario.toml",
+                                            label="Scenario with notes (TOML)",
+                                            color="light")
+        self.export = pn.widgets.FileDownload(callback=self._review, filename="review.html",
+                                              label="Review file (offline HTML)",
+                                              color="primary")
+        self.message = _message_pane()
+
+    def _scenario(self):
+        return _io.StringIO(self.state.scenario_with_notes().to_toml())
+
+    def _review(self):
+        """The review file, written by a fresh process (see explorer.export)."""
+        s = self.state
+        if s.dataset is None:
+            self.message.object = "The window is still being solved; export when it is done."
+            return _io.BytesIO(b"")
+        with tempfile.TemporaryDirectory() as tmp:
+            folder = Path(tmp)
+            (folder / "scenario.toml").write_text(s.scenario_with_notes().to_toml(), "utf-8")
+            grid_io.save(s.dataset, folder / "grid.nc")
+            (folder / "pinned.json").write_text(json.dumps(s.pinned, allow_nan=False), "utf-8")
+            out = folder / "review.html"
+            extra = []
+            if s.proposal is not None and s.proposal_dataset is not None:
+                # The comparison goes into the file as well.
+                (folder / "proposal.toml").write_text(s.proposal.to_toml(), "utf-8")
+                grid_io.save(s.proposal_dataset, folder / "proposal.nc")
+                extra = ["--compare", str(folder / "proposal.toml"), "--compare-grid",
+                         str(folder / "proposal.nc")]
+            proc = subprocess.run(
+                [sys.executable, "-m", "explorer.export", "--scenario",
+                 str(folder / "scenario.toml"), "--grid", str(folder / "grid.nc"),
+                 "--pinned", str(folder / "pinned.json"), *extra, "-o", str(out)],
+                capture_output=True, text=True, timeout=600)
+            if proc.returncode != 0 or not out.exists():
+                last = (proc.stderr.strip().splitlines() or ["unknown error"])[-1]
+                self.message.object = html("The review file could not be written: {}",
+                                           last)
+                return _io.BytesIO(b"")
+            self.message.object = ""
+            return _io.BytesIO(out.read_bytes())
+
+    def __panel__(self):
+        return pn.Column(self.text, pn.Row(self.save, self.export), self.message)
+
+
+class SummaryView:
+    """The answer first: the verdict at the design point and the feasible window around it,
+    in words and numbers."""
+
+    def __init__(self, state: ExplorerState):
+        self.state = state
+        self.pane = pn.pane.HTML("", stylesheets=[PAGE_CSS], sizing_mode="stretch_width",
+                                 margin=(0, 10))
+        state.param.watch(self._update, ["dataset", "scenario"])
+        self._update()
+
+    def _update(self, *_):
+        s = self.state
+        sc, ds = s.scenario, s.dataset
+        d = s.design_point().to_dict()
+        where = (f"{sc.temperature - 273.15:.1f} degC, {sc.pressure / 1e5:.4g} bar abs, "
+                 f"S/C {sc.feed.steam_to_carbon:g}")
+        parts = [verdict_html(d, sc.limits, prefix=f"Design point ({where}, computed "
+                                                   "exactly there): ")]
+        outside = s.design_in_window()
+        if outside:
+            parts.append('<p class="rw-warn">' + text("; ".join(outside)).capitalize()
+                         + ": the maps cannot mark it, but this verdict is computed at its "
+                         "exact values.</p>")
+        if ds is None:
+            parts.append("<p>Solving the window ...</p>")
+        else:
+            words, p_bar, s_c = design_row_ranges(ds, sc)
+            n_ok, n = int(ds["feasible"].sum()), int(ds["feasible"].size)
+            exact = "feasible_t_low" in ds
+            parts.append(
+                f"<p><b>Feasible outlet temperature</b> at {p_bar:.4g} bar abs and S/C "
+                f"{s_c:g} (the grid row nearest the design point): <b>{text(words)}</b> degC"
+                + ("" if exact else " (grid points)")
+                + f". Within every review limit: {n_ok:,} of {n:,} grid points.</p>")
+        self.pane.object = '<div class="rw-summary">' + "\n".join(parts) + "</div>"
+
+    def __panel__(self):
+        return self.pane
