@@ -357,7 +357,7 @@ class ScenarioForm:
         for name, _, key in self.FIELDS:
             if field == key or field.startswith(key + "."):
                 self.messages[name].object = html("{} (got {})", err.allowed,
-                                                  text(repr(err.value)))
+                                                  text(err.shown_value))
                 break
         self.general.object = message_html("Not applied: ", err, ". The maps still show the "
                                            "last valid scenario.")

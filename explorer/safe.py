@@ -87,14 +87,9 @@ def message_html(prefix: str, err: object, suffix: str = "") -> SafeHTML:
     An :class:`thermo.errors.InputError` shows its field and the value as typed in code
     spans; any other error shows its text escaped.
     """
-    field = getattr(err, "field", None)
-    if field is not None and hasattr(err, "allowed"):
-        shown = repr(err.value)
-        limit = getattr(err, "MAX_VALUE_CHARS", 200)
-        if len(shown) > limit:
-            shown = shown[: limit - 20] + f"... ({len(shown):,} characters)"
-        body = html("{} = {} is not allowed: expected {}", code(field), code(shown),
-                    err.allowed)
+    if hasattr(err, "shown_value"):
+        body = html("{} = {} is not allowed: expected {}", code(err.field),
+                    code(err.shown_value), err.allowed)
     else:
         body = text(err)
     return html("{}{}{}", prefix, body, suffix)

@@ -286,9 +286,3 @@ def comparison_context(sc: Scenario, ds: xr.Dataset, prop_sc: Scenario,
         "limits": limits_rows(prop_sc),
         "toml": prop_sc.to_toml(),
     }
-
-
-def comparison_sheet_html(sc: Scenario, ds: xr.Dataset, prop_sc: Scenario,
-                          prop_ds: xr.Dataset) -> str:
-    """The comparison part of a comparison review file, as HTML (autoescaped template)."""
-    return str(_sheet().comparison(comparison_context(sc, ds, prop_sc, prop_ds)))

@@ -78,6 +78,8 @@ class ExplorerState(param.Parameterized):
         # Each set_proposal call is one generation; only the newest one's result is kept.
         self._cmp_generation = 0
         self._cmp_lock = threading.Lock()
+        # (scenario content key, PointResult) of the design point, computed once per key.
+        self._design: tuple = (None, None)
 
     # -- solving -----------------------------------------------------------------------
     def solve_now(self) -> None:
@@ -300,7 +302,7 @@ class ExplorerState(param.Parameterized):
         snapped to the grid)."""
         sc = self.scenario
         key = SHARED_CACHE.key(sc)
-        if getattr(self, "_design", (None, None))[0] != key:
+        if self._design[0] != key:
             kwargs = {"temperature": f"{sc.temperature!r} K", "pressure": f"{sc.pressure!r} Pa",
                       "steam_to_carbon": sc.feed.steam_to_carbon}
             self._design = (key, thermo.point(sc, **kwargs))

@@ -28,7 +28,12 @@ class InputError(ValueError):
         self.field = field
         self.value = value
         self.allowed = allowed
-        shown = repr(value)
+        super().__init__(f"{field} = {self.shown_value} is not allowed: expected {allowed}")
+
+    @property
+    def shown_value(self) -> str:
+        """The value as the message quotes it: its ``repr``, cut at MAX_VALUE_CHARS."""
+        shown = repr(self.value)
         if len(shown) > self.MAX_VALUE_CHARS:
             shown = shown[: self.MAX_VALUE_CHARS - 20] + f"... ({len(shown):,} characters)"
-        super().__init__(f"{field} = {shown} is not allowed: expected {allowed}")
+        return shown

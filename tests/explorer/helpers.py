@@ -83,3 +83,19 @@ def open_scenario_form(page) -> None:
     """Unfold the page's scenario section (the form is built when first opened)."""
     page.get_by_text("4 Scenario:").first.click()
     page.get_by_role("button", name="Apply and solve").wait_for(timeout=30000)
+
+
+def offline(page) -> list[str]:
+    """Cut the page off the network: every request but file:// is aborted and its URL kept
+    in the returned list (which the caller asserts empty)."""
+    requests: list[str] = []
+
+    def route(r):
+        if r.request.url.startswith("file:"):
+            r.continue_()
+        else:
+            requests.append(r.request.url)
+            r.abort()
+
+    page.route("**/*", route)
+    return requests

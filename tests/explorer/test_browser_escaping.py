@@ -8,14 +8,11 @@ out of the page, and the title must read exactly as typed.
 
 from __future__ import annotations
 
-import subprocess
-import sys
-
 import pytest
 
-from tests.explorer.helpers import open_scenario_form, served_app
+from tests.explorer.helpers import offline, open_scenario_form, served_app
 from tests.explorer.hostile import HOSTILE, SENTINELS
-from tests.explorer.test_escaping import NOTES, TITLE, hostile_scenario
+from tests.explorer.test_escaping import NOTES, TITLE, hostile_scenario, write_hostile_review
 
 pytestmark = pytest.mark.usefixtures("chromium_path")
 
@@ -87,17 +84,7 @@ def test_app_runs_no_scenario_text_and_shows_it_as_typed(page):
 
 @pytest.fixture(scope="module")
 def hostile_review(tmp_path_factory):
-    folder = tmp_path_factory.mktemp("hostile-browser")
-    base = hostile_scenario()
-    prop = hostile_scenario(title="Proposal " + HOSTILE[3][1])
-    (folder / "s.toml").write_text(base.to_toml(), "utf-8")
-    (folder / "p.toml").write_text(prop.to_toml(), "utf-8")
-    out = folder / "review.html"
-    proc = subprocess.run([sys.executable, "-m", "explorer.export", "--scenario",
-                           str(folder / "s.toml"), "--compare", str(folder / "p.toml"),
-                           "-o", str(out)], capture_output=True, text=True, timeout=600)
-    assert proc.returncode == 0, proc.stderr
-    return out
+    return write_hostile_review(tmp_path_factory.mktemp("hostile-browser"))
 
 
 def test_review_file_runs_no_scenario_text_and_its_policy_blocks_nothing_of_its_own(
@@ -106,16 +93,7 @@ def test_review_file_runs_no_scenario_text_and_its_policy_blocks_nothing_of_its_
     request, no policy violation (the page's own scripts all run: the maps render), and the
     title, description and notes read as typed."""
     dialogs, errors = _watch(page)
-    requests = []
-
-    def route(r):
-        if r.request.url.startswith("file:"):
-            r.continue_()
-        else:
-            requests.append(r.request.url)
-            r.abort()
-
-    page.route("**/*", route)
+    requests = offline(page)
     page.goto(hostile_review.as_uri())
     page.wait_for_function("() => window.Bokeh && Object.keys(Bokeh.index).length > 0",
                            timeout=30000)

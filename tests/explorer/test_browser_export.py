@@ -12,7 +12,7 @@ import pytest
 
 import thermo
 from explorer.tables import balance_html
-from tests.explorer.helpers import FIND_PIXEL, small_scenario, table_cells
+from tests.explorer.helpers import FIND_PIXEL, offline, small_scenario, table_cells
 
 pytestmark = pytest.mark.usefixtures("chromium_path")
 
@@ -38,17 +38,9 @@ def review(tmp_path_factory):
 
 def _open(page, path):
     """Open the file with every non-file request aborted; returns (requests, page errors)."""
-    requests, errors = [], []
+    errors = []
     page.on("pageerror", lambda e: errors.append(str(e)))
-
-    def route(r):
-        if r.request.url.startswith("file:"):
-            r.continue_()
-        else:
-            requests.append(r.request.url)
-            r.abort()
-
-    page.route("**/*", route)
+    requests = offline(page)
     page.goto(path.as_uri())
     page.wait_for_function("() => window.Bokeh && Object.keys(Bokeh.index).length > 0",
                            timeout=30000)

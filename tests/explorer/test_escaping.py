@@ -137,11 +137,9 @@ def test_app_downloads_write_user_text_a_spreadsheet_does_not_run(app):
     assert balance_csv(view._current, title="=cmd").splitlines()[1] == "scenario,title,'=cmd,"
 
 
-@pytest.fixture(scope="module")
-def review_file(tmp_path_factory):
+def write_hostile_review(folder):
     """A comparison review file of a hostile base and a hostile proposal, written as the app
-    writes it (a fresh process)."""
-    folder = tmp_path_factory.mktemp("hostile-review")
+    writes it (a fresh process); returns its path."""
     base = hostile_scenario()
     prop = hostile_scenario(title="Proposal " + HOSTILE[3][1])
     (folder / "s.toml").write_text(base.to_toml(), "utf-8")
@@ -151,7 +149,12 @@ def review_file(tmp_path_factory):
                            str(folder / "s.toml"), "--compare", str(folder / "p.toml"),
                            "-o", str(out)], capture_output=True, text=True, timeout=600)
     assert proc.returncode == 0, proc.stderr
-    return out.read_text("utf-8")
+    return out
+
+
+@pytest.fixture(scope="module")
+def review_file(tmp_path_factory):
+    return write_hostile_review(tmp_path_factory.mktemp("hostile-review")).read_text("utf-8")
 
 
 def test_review_file_holds_no_markup_from_the_scenarios(review_file):
