@@ -80,7 +80,7 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
         f"weights. Reformer window explorer {thermo.__version__}.",
         styles={"font-size": "12px", "color": "#4a5a64"})
     # The scenario form folds away; its widgets are built the first time it is opened.
-    scenario_card = pn.Card(title="4 Scenario: description, feed, design point, window, "
+    scenario_card = pn.Card(title="3 Scenario: description, feed, design point, window, "
                                   "limits and train (open to edit)",
                             collapsed=True, sizing_mode="stretch_width",
                             header_css_classes=["rw-card-header"])
@@ -93,12 +93,12 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
     page = pn.Column(
         title, caution,
         summary,
-        _section("2 Operating-window maps", maps),
-        _section("3 Balance at the selected grid point", balance),
+        _section("1 Operating-window maps", maps),
+        _section("2 Balance at the selected grid point", balance),
         scenario_card,
-        _section("5 Comparison with a proposal", compare),
-        _section("6 Pinned points", pinned),
-        _section("7 Review notes", notes),
+        _section("4 Comparison with a proposal", compare),
+        _section("5 Pinned points", pinned),
+        _section("6 Review notes", notes),
         footer,
         sizing_mode="stretch_width",
         styles={"max-width": "1500px", "margin": "0 auto"},

@@ -81,7 +81,7 @@ def served_app(scenario, proposal=None):
 
 def open_scenario_form(page) -> None:
     """Unfold the page's scenario section (the form is built when first opened)."""
-    page.get_by_text("4 Scenario:").first.click()
+    page.get_by_text("3 Scenario:").first.click()
     page.get_by_role("button", name="Apply and solve").wait_for(timeout=30000)
 
 
