@@ -12,6 +12,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
+from thermo import carbon as carbon_check
 from thermo import units
 from thermo.balances import Balance, adiabatic_temperature
 from thermo.constants import P_REF
@@ -52,6 +53,9 @@ class PointResult:
     train : TrainResult
         Every stage of the scenario's train (the primary alone if it names none), one point
         long.
+    carbon : dict
+        The carbon check (thermo.carbon.point_check): the Dataset's carbon variables, one
+        point long.
     """
 
     scenario: Scenario
@@ -61,6 +65,12 @@ class PointResult:
     adiabatic: bool
     balance: Balance
     train: TrainResult
+    carbon: dict
+
+    @property
+    def carbon_free(self) -> bool:
+        """The binding carbon verdict (thermo.carbon)."""
+        return bool(self.carbon["carbon_free"][0])
 
     def __getattr__(self, name: str):
         # Scalar view of the one-point balance: pt.h2_yield, pt.duty, ...
@@ -164,9 +174,46 @@ class PointResult:
             },
             "element_closure": {k: float(v[0]) for k, v in b.element_closure.items()},
             "train": self._train_dict(),
+            **self._carbon_dict(),
         }
         out["converged"] = bool(self.train.converged[0])
         return _strict(out)
+
+    def _carbon_dict(self) -> dict:
+        """Top-level carbon keys of the point JSON (DESIGN.md) and their detail."""
+        c = {k: v[0] for k, v in self.carbon.items()}
+        routes = {k: float(c[f"carbon_activity_real_gas_{k}"])
+                  for k in carbon_check.CARBON_ROUTES}
+        code = carbon_check.BINDING[int(c["carbon_binding"])]
+        chk = self.scenario.carbon
+        out = {
+            "carbon_free": bool(c["carbon_free"]),
+            "carbon_activity_path_max": float(c["carbon_activity_path_max"]),
+            "carbon_path_max_temperature": float(c["carbon_path_max_temperature"]),
+            "carbon_activity_real_gas": float(c["carbon_activity_real_gas"]),
+            "carbon_check": {
+                "binding": code,
+                "binding_words": carbon_check.BINDING_WORDS[code],
+                "verdict_ln_activity": float(c["carbon_verdict_ln_activity"]),
+                "reference": chk.reference,
+                "catalyst_carbon_offset_J_per_mol": chk.catalyst_carbon_offset,
+                "real_gas_by_route": routes,
+                "real_gas_route": max(routes, key=routes.get),
+                "outlet_ln_activity": float(c["carbon_ln_activity_outlet"]),
+                "path_start_temperature_K": self.scenario.feed.inlet_temperature,
+                "path_temperatures_K": list(chk.path_temperatures),
+                "higher_hydrocarbons": bool(c["carbon_higher_hydrocarbons"]),
+                "higher_hydrocarbon_cracking_temperature_K": chk.cracking_temperature,
+                "other_stage": bool(c["carbon_other_stage"]),
+            },
+        }
+        if chk.catalyst_carbon_offset is not None:
+            out["carbon_check"]["catalyst"] = {
+                "path_max": float(c["carbon_activity_path_max_catalyst"]),
+                "real_gas": float(c["carbon_activity_real_gas_catalyst"]),
+                "verdict_ln_activity": float(c["carbon_verdict_ln_activity_catalyst"]),
+            }
+        return out
 
     def _train_dict(self) -> dict:
         tr = self.train
@@ -326,4 +373,5 @@ def point(
         raise InputError("approach", f"{dT:g} K",
                          f"an approach that keeps T - approach at or above 300 K (T = {T:.2f} K)")
     tr = train_balance(sc.train, n_in[None, :], T, P, f.inlet_temperature, dT)
-    return PointResult(sc, float(T), float(P), float(dT), adiabatic, tr.primary, tr)
+    chk = carbon_check.point_check(tr, T, P, dT, f.inlet_temperature, sc.carbon)
+    return PointResult(sc, float(T), float(P), float(dT), adiabatic, tr.primary, tr, chk)

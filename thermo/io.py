@@ -94,8 +94,8 @@ def load(path: str | os.PathLike) -> xr.Dataset:
             f"schema version {SCHEMA_VERSION} (this file has {version!r}); re-run the sweep "
             "with 'explorer grid'",
         )
-    if "converged" in ds:
-        ds["converged"] = ds["converged"].astype(bool)
-    if "feasible" in ds:
-        ds["feasible"] = ds["feasible"].astype(bool)
+    for name in ("converged", "feasible", "carbon_free", "carbon_higher_hydrocarbons",
+                 "carbon_other_stage"):
+        if name in ds:
+            ds[name] = ds[name].astype(bool)
     return ds

@@ -640,6 +640,7 @@ class Scenario:
     limits: Limits
     notes: str = ""
     train: Train = Train()
+    carbon: CarbonCheck = field(default_factory=lambda: CarbonCheck())
     text: str = field(default="", compare=False, repr=False)
     path: str | None = field(default=None, compare=False)
 
@@ -778,6 +779,7 @@ class Scenario:
                 f'max_duty = "{lim.max_duty!r} W"  # {units.MW_from_W(lim.max_duty):.6g} MW'
             )
         lines += _train_toml(self.train)
+        lines += _carbon_toml(self.carbon)
         return "\n".join(lines) + "\n"
 
 
@@ -785,7 +787,7 @@ class Scenario:
 
 
 _TOP_KEYS = ("title", "description", "notes", "feed", "design_point", "window", "limits",
-             "train")
+             "train", "carbon")
 _TRAIN_KEYS = ("pre_reformer", "secondary_reformer", "high_temperature_shift",
                "low_temperature_shift")
 _FEED_KEYS = (
@@ -1211,6 +1213,7 @@ def _from_dict(data: Mapping, text: str, path: str | None) -> Scenario:
         limits=limits,
         notes=notes,
         train=train,
+        carbon=_carbon(_table(data, "carbon", "", required=False)),
         text=text,
         path=path,
     )
@@ -1345,3 +1348,103 @@ def _toml_string(s: str) -> str:
             out.append(c)
     body = "".join(out)
     return f'"""\n{body}"""' if multiline else f'"{body}"'
+
+
+# ------------------------------------------------------------------- [carbon]: the carbon check
+# One local block (the parser, the writer and the dataclass of the optional [carbon] table);
+# the rest of the module touches it in three lines: the Scenario field, _TOP_KEYS and
+# _from_dict / to_toml.
+
+#: Default temperature above which higher hydrocarbons (C2+) entering the primary reformer are
+#: flagged as a cracking risk [K]: 600 degC, common practice, no source.
+CRACKING_TEMPERATURE_K = 873.15
+#: Allowed Gibbs energy offset of catalyst carbon above graphite [J mol-1].
+CATALYST_OFFSET_RANGE = (0.0, 60_000.0)
+_CARBON_KEYS = ("path_temperatures", "reference", "catalyst_carbon_offset",
+                "higher_hydrocarbon_cracking_temperature")
+CARBON_REFERENCES = ("graphite", "catalyst")
+
+
+@dataclass(frozen=True)
+class CarbonCheck:
+    """How the carbon verdict is made (the optional ``[carbon]`` table; thermo.carbon).
+
+    Attributes
+    ----------
+    path_temperatures : tuple of float
+        Gas temperatures at stations along the primary tube between its inlet and its outlet
+        [K], in flow order; empty (default) for a linear rise from the mixed feed's inlet
+        temperature to the outlet temperature. The path is then inlet -> stations -> outlet.
+    reference : {"graphite", "catalyst"}
+        Carbon the verdict is referred to: graphite (default, the conservative one) or the
+        carbon formed on the nickel catalyst, less stable than graphite by
+        `catalyst_carbon_offset` ([ROSTRUP-NIELSEN1972]).
+    catalyst_carbon_offset : float or None
+        Molar Gibbs energy of catalyst (filamentous) carbon above graphite [J mol-1], as the
+        user takes it from published data for the catalyst; None when not given.
+    cracking_temperature : float
+        Primary inlet temperature above which C2+ hydrocarbons reaching the primary are
+        flagged [K] (default :data:`CRACKING_TEMPERATURE_K`, common practice, no source).
+    """
+
+    path_temperatures: tuple[float, ...] = ()
+    reference: str = "graphite"
+    catalyst_carbon_offset: float | None = None
+    cracking_temperature: float = CRACKING_TEMPERATURE_K
+
+
+def _molar_energy_J(value: object, field_: str) -> float:
+    allowed = "a molar energy with its unit, e.g. \"8 kJ/mol\""
+    if not isinstance(value, str):
+        raise InputError(field_, value, allowed)
+    q = units.parse_quantity(value, field_)
+    try:
+        x = float(q.to("J/mol").magnitude)
+    except Exception:  # pint's DimensionalityError and friends
+        raise InputError(field_, value, allowed) from None
+    lo, hi = CATALYST_OFFSET_RANGE
+    if not (math.isfinite(x) and lo <= x <= hi):
+        raise InputError(field_, value, f"an offset from {lo / 1000:g} to {hi / 1000:g} kJ/mol "
+                         "(catalyst carbon is less stable than graphite, never more)")
+    return x
+
+
+def _carbon(data: Mapping) -> CarbonCheck:
+    _check_keys(data, "carbon", _CARBON_KEYS)
+    stations: list[float] = []
+    raw = data.get("path_temperatures", [])
+    if not isinstance(raw, list):
+        raise InputError("carbon.path_temperatures", raw,
+                         'a list of temperatures, e.g. ["560 degC", "640 degC"]')
+    for k, item in enumerate(raw):
+        f = f"carbon.path_temperatures[{k}]"
+        stations.append(check_temperature(units.temperature_K(item, f), f, item))
+    reference = data.get("reference", "graphite")
+    if reference not in CARBON_REFERENCES:
+        raise InputError("carbon.reference", reference, '"graphite" or "catalyst"')
+    offset = None
+    if "catalyst_carbon_offset" in data:
+        offset = _molar_energy_J(data["catalyst_carbon_offset"], "carbon.catalyst_carbon_offset")
+    if reference == "catalyst" and offset is None:
+        raise InputError("carbon.catalyst_carbon_offset", _MISSING,
+                         'a value: reference = "catalyst" needs the catalyst carbon\'s offset')
+    crack = CRACKING_TEMPERATURE_K
+    key = "higher_hydrocarbon_cracking_temperature"
+    if key in data:
+        crack = check_temperature(units.temperature_K(data[key], f"carbon.{key}"),
+                                  f"carbon.{key}", data[key])
+    return CarbonCheck(tuple(stations), reference, offset, crack)
+
+
+def _carbon_toml(check: CarbonCheck) -> list[str]:
+    """TOML lines of a non-default carbon check (none for the default)."""
+    if check == CarbonCheck():
+        return []
+    temps = ", ".join(f'"{t!r} K"' for t in check.path_temperatures)
+    lines = ["", "[carbon]", f"path_temperatures = [{temps}]",
+             f'reference = "{check.reference}"']
+    if check.catalyst_carbon_offset is not None:
+        lines.append(f'catalyst_carbon_offset = "{check.catalyst_carbon_offset!r} J/mol"')
+    lines.append(f'higher_hydrocarbon_cracking_temperature = "{check.cracking_temperature!r} K"'
+                 f"  # {units.degC_from_K(check.cracking_temperature):.6g} degC")
+    return lines

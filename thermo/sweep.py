@@ -26,13 +26,14 @@ from importlib import resources
 import numpy as np
 import xarray as xr
 
+from thermo import carbon
 from thermo.constants import P_REF
 from thermo.scenario import Limits, Scenario
 from thermo.species import GAS_SPECIES
 from thermo.train import train_balance
 
 #: Version of the Dataset layout; io.load refuses files of another version.
-SCHEMA_VERSION = "2"
+SCHEMA_VERSION = "3"
 #: Points solved per chunk (memory stays near 200 MB per chunk in flight).
 CHUNK_POINTS = 65_536
 
@@ -70,6 +71,7 @@ _VARIABLES: dict[str, tuple[str, str]] = {
     "product_flow": ("mol s-1", "gas after the last stage of the train"),
     "prereformer_temperature": ("K", "adiabatic pre-reformer outlet temperature"),
     "secondary_temperature": ("K", "adiabatic secondary reformer outlet temperature"),
+    **carbon.VARIABLES,
     "converged": ("1", "equilibrium solver converged (every stage of the train)"),
     "iterations": ("1", "equilibrium solver iterations"),
 }
@@ -139,7 +141,13 @@ def train_results(scenario: Scenario, n_in, T, P, row: int = 1) -> dict[str, np.
         st = tr.stage(name)
         if st is not None:
             out[key] = st.temperature
+    for k, v in carbon.local_terms(tr, T, P, scenario.approach, scenario.carbon).items():
+        out[_CARBON_LOCAL + k] = v
     return out
+
+
+#: Prefix of the carbon check's per-point parts in chunk results (not Dataset variables).
+_CARBON_LOCAL = "_carbon_"
 
 
 def _chunks(n: int, size: int) -> list[tuple[int, int]]:
@@ -162,7 +170,7 @@ LIMIT_VARIABLES = {
     "max_methane_slip_dry": "train_methane_slip_dry",
     "min_h2_yield": "h2_product",
     "max_duty": "duty",
-    "carbon_free": "train_carbon_deposit",
+    "carbon_free": "carbon_free",
 }
 
 
@@ -174,7 +182,7 @@ def feasible_mask(ds: xr.Dataset, limits) -> xr.DataArray:
     if limits.max_methane_slip_dry is not None:
         ok = ok & (ds[v["max_methane_slip_dry"]] <= limits.max_methane_slip_dry)
     if limits.carbon_free:
-        ok = ok & (ds[v["carbon_free"]] <= 0.0)
+        ok = ok & ds[v["carbon_free"]].astype(bool)
     if limits.min_h2_yield is not None:
         ok = ok & (ds[v["min_h2_yield"]] >= limits.min_h2_yield)
     if limits.max_duty is not None:
@@ -264,6 +272,9 @@ def assemble(scenario: Scenario, results: list[dict[str, np.ndarray]]) -> xr.Dat
     dims = list(axes)
     shape = tuple(len(v) for v in axes.values())
     flat = {k: np.concatenate([r[k] for r in results]) for k in results[0]}
+    local = {k[len(_CARBON_LOCAL):]: flat.pop(k) for k in list(flat)
+             if k.startswith(_CARBON_LOCAL)}
+    flat.update(carbon.window_check(scenario, local, axes))
     data_vars = {}
     for k, v in flat.items():
         if k in _PER_SPECIES:
@@ -280,6 +291,12 @@ def assemble(scenario: Scenario, results: list[dict[str, np.ndarray]]) -> xr.Dat
             ds[k].attrs = {"units": u, "long_name": ln}
     ds["converged"] = ds["converged"].astype(bool)
     ds["converged"].attrs = {"units": "1", "long_name": _VARIABLES["converged"][1]}
+    for k in ("carbon_free", "carbon_higher_hydrocarbons", "carbon_other_stage"):
+        ds[k] = ds[k].astype(bool)
+        ds[k].attrs = {"units": "1", "long_name": _VARIABLES[k][1]}
+    ds["carbon_binding"].attrs.update(
+        flag_values=np.arange(len(carbon.BINDING), dtype=np.int8),
+        flag_meanings=" ".join(carbon.BINDING))
     coord_attrs = {
         "temperature": ("K", "reformer outlet temperature"),
         "pressure": ("Pa", "reformer outlet pressure, absolute"),

@@ -362,7 +362,11 @@ def _by_hand(d: xr.Dataset, lim: Limits) -> np.ndarray:
     if lim.max_methane_slip_dry is not None:
         ok &= d["methane_slip_dry"].values <= lim.max_methane_slip_dry
     if lim.carbon_free:
-        ok &= d["carbon_deposit"].values <= 0.0
+        # The binding carbon verdict (thermo.carbon), rebuilt from its parts: the path
+        # maximum and the real-gas maximum below 1, and neither flag set.
+        ok &= d["carbon_activity_path_max"].values < 1.0
+        ok &= d["carbon_activity_real_gas"].values < 1.0
+        ok &= ~d["carbon_higher_hydrocarbons"].values & ~d["carbon_other_stage"].values
     if lim.min_h2_yield is not None:
         ok &= d["h2_yield"].values >= lim.min_h2_yield
     if lim.max_duty is not None:

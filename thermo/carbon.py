@@ -1,0 +1,578 @@
+r"""The carbon verdict: along the tube, on the real gas, for the chosen carbon.
+
+Three checks, each on the primary reformer, and two flags make the verdict a review signs
+(``carbon_free``); :data:`BINDING` names the one that binds at each point.
+
+1. **Equilibrated gas along the tube** (the principle of equilibrated gas,
+   [ROSTRUP-NIELSEN1984]). The gas heats from the primary's inlet temperature (the mixed
+   feed's, or the reheated pre-reformed gas's) to the outlet temperature T. At every path
+   temperature :math:`\tau` the gas is taken at reforming and shift equilibrium, without
+   carbon, at :math:`\tau - \Delta T_{app}` (the outlet's approach convention), and its carbon
+   activity is evaluated there: :math:`\ln a_C = \lambda_C - \mu_{gr}/RT`, the element
+   potential of carbon against graphite's chemical potential (solid pressure term included).
+   The path maximum is the largest activity over the temperatures the path visits: the
+   interval from the inlet to the outlet (linear rise, the default) or, with stations of a
+   user profile, the intervals between consecutive stations. Above 1 the equilibrated gas
+   would deposit graphite; the value is continuous across 1.
+2. **The real gas at the catalyst temperature.** With an approach, the outlet gas is the
+   equilibrium at T - approach while the catalyst is at T. Its carbon activity by each
+   carbon-forming reaction, :math:`a_C = K(T, P)\,\prod_i p_i^{-\nu_i}` over its gases
+   (partial pressures in bar): methane cracking CH4 = C + 2 H2, CO reduction CO + H2 = C + H2O,
+   Boudouard 2 CO = C + CO2 (thermo.reactions). At zero approach the gas is equilibrated at
+   T and all three equal the equilibrium activity.
+3. **Which carbon.** Graphite (default) or the carbon formed on the nickel catalyst, whose
+   molar Gibbs energy lies above graphite's by an offset the user takes from published data
+   ([ROSTRUP-NIELSEN1972]): :math:`\ln a_{cat} = \ln a_{gr} - \Delta G_{cat}/RT`. Catalyst
+   carbon is less stable than graphite, so its limit is the less restrictive one.
+4. **Flags.** C2+ hydrocarbons reaching the primary reformer at an inlet temperature above
+   the cracking threshold (``[carbon] higher_hydrocarbon_cracking_temperature``; default
+   600 degC, common practice, no source), and graphite at equilibrium in another reforming
+   stage of the train (pre-reformer or secondary reformer).
+
+The verdict field ``carbon_verdict_ln_activity`` is the ln of the largest activity of checks
+1 and 2 on the chosen carbon, raised to at least :data:`FLAG_LN_ACTIVITY` where a flag is set:
+continuous in T wherever the physics is, zero on the binding carbon boundary, negative where
+the point is carbon-free.
+
+What the check assumes and leaves out: the gas along the path is at (approach-shifted)
+equilibrium at the gas temperature; the kinetics of carbon formation and gasification, the
+tube wall and catalyst surface running hotter than the gas, and catalyst poisoning (sulphur)
+are not modelled.
+
+Speed: the equilibrated gas at a path temperature depends on the primary inlet gas, the
+pressure and that temperature only, not on the outlet temperature. Along the window's
+temperature axis the grid's own outlet solves are the path's nodes; the temperatures below
+the window (and one step above it) are solved once per row of the other axes, and each local
+maximum of the activity between nodes is refined by successive parabolic interpolation
+(a few solves per row), so the path maximum is that of the continuous path, and a grid value
+equals :func:`thermo.point` at the same coordinates.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from thermo.constants import P_REF, R
+from thermo.equilibrium import equilibrate
+from thermo.reactions import CARBON_ROUTES, ln_K_at_pressure
+from thermo.scenario import CarbonCheck
+from thermo.species import GAS_SPECIES, formula_matrix
+
+#: Largest spacing of the path's scan nodes [K]; local maxima between nodes are refined.
+PATH_STEP = 25.0
+#: Verdict value where a discrete flag breaks the carbon limit [-] (ln of activity e).
+FLAG_LN_ACTIVITY = 1.0
+#: C2+ carbon above this fraction of the hydrocarbon carbon entering the primary sets the
+#: higher-hydrocarbon flag [-]: 0.1 %, common practice, no source (natural gas carries a few
+#: per cent; a pre-reformer's equilibrium near 400-450 degC leaves about 1e-5).
+HIGHER_HYDROCARBON_FRACTION = 1e-3
+#: Stop refining a maximum when the parabola's step is below this [K].
+REFINE_XTOL = 1e-5
+#: Iteration cap of the refinement.
+REFINE_ITERATIONS = 40
+#: Binding criterion codes (``carbon_binding``: value = index), CF-style flag meanings.
+BINDING = ("outlet_equilibrium", "path_equilibrium", "real_gas", "higher_hydrocarbons",
+           "other_stage")
+#: Plain words of each binding criterion, for tables and the review sheet.
+BINDING_WORDS = {
+    "outlet_equilibrium": "equilibrated gas at the outlet",
+    "path_equilibrium": "equilibrated gas upstream in the tube",
+    "real_gas": "real (non-equilibrated) gas at the catalyst temperature",
+    "higher_hydrocarbons": "C2+ hydrocarbons entering above their cracking temperature",
+    "other_stage": "graphite in another reforming stage of the train",
+}
+#: Species lower and upper data limits [K].
+_T_DATA = (300.0, 3500.0)
+
+_I = {s: i for i, s in enumerate(GAS_SPECIES)}
+_C2PLUS = np.array([2.0 if s == "C2H6" else 3.0 if s == "C3H8" else 0.0 for s in GAS_SPECIES])
+_HC = np.array([1.0 if s == "CH4" else 0.0 for s in GAS_SPECIES]) + _C2PLUS
+
+
+def gas_ln_activity(T_eq, P, elements, warm=None, row: int = 1):
+    """ln carbon activity (graphite) of the gas at equilibrium without carbon, and its
+    element potentials; NaN where the solve did not converge.
+
+    Parameters
+    ----------
+    T_eq, P : array_like (N,)
+        Equilibrium temperature [K] and absolute pressure [Pa].
+    elements : array_like (N, E)
+        Element abundances [mol s-1].
+    warm : array_like (N, E), optional
+        Element potentials to start from.
+    row : int
+        Warm-start rows (thermo.equilibrium.equilibrate).
+    """
+    eq = equilibrate(T_eq, P, elements, allow_carbon=False, warm_start=warm, row=row)
+    return np.where(eq.converged, eq.ln_carbon_activity, np.nan), eq.element_potentials
+
+
+def real_gas_ln_activities(mole_fraction, T, P) -> dict[str, np.ndarray]:
+    """ln carbon activity (graphite) of a gas by each carbon-forming reaction at T, P [-].
+
+    ``ln a = ln K(T, P) - sum_i nu_i ln(x_i P / P°)`` over the reaction's gases; -inf where a
+    reactant is absent (route unavailable; also where the route's species are all absent).
+
+    Parameters
+    ----------
+    mole_fraction : array_like (N, S)
+        Gas mole fractions, wet [-].
+    T, P : array_like (N,)
+        Catalyst temperature [K], absolute pressure [Pa].
+    """
+    x = np.atleast_2d(np.asarray(mole_fraction, dtype=float))
+    T = np.broadcast_to(np.asarray(T, dtype=float), (x.shape[0],))
+    P = np.broadcast_to(np.asarray(P, dtype=float), (x.shape[0],))
+    with np.errstate(divide="ignore"):
+        ln_p = np.log(x) + np.log(P / P_REF)[:, None]
+    out = {}
+    for key, rx in CARBON_ROUTES.items():
+        val = ln_K_at_pressure(rx, T, P).astype(float)
+        with np.errstate(invalid="ignore"):
+            for s, nu in rx.stoich.items():
+                if s in _I:
+                    val = val - nu * ln_p[:, _I[s]]
+        out[key] = np.where(np.isnan(val), -np.inf, val)
+    return out
+
+
+# ------------------------------------------------------------------------------ path maximum
+
+
+def _nodes(required: np.ndarray, step: float) -> np.ndarray:
+    """Sorted required temperatures with gaps wider than `step` filled evenly [K]."""
+    r = np.sort(required)
+    keep = np.r_[True, np.diff(r) > 1e-9]
+    r = r[keep]
+    out = [r[:1]]
+    for a, b in zip(r[:-1], r[1:], strict=True):
+        k = int(np.ceil((b - a) / step))
+        if k > 1:
+            out.append(a + (b - a) * np.arange(1, k) / k)
+        out.append(np.array([b]))
+    return np.concatenate(out)
+
+
+def _refine(f, line, a, m, c, fa, fm, fc, warm):
+    """Maximize f between a and c from the bracket a < m < c, fm >= fa, fc (vectorized).
+
+    Successive parabolic interpolation, keeping the bracket; `f(tau, line, warm)` returns
+    values and element potentials. Returns (tau, value) of each maximum.
+    """
+    active = np.ones(m.size, dtype=bool)
+    for _ in range(REFINE_ITERATIONS):
+        k = np.flatnonzero(active)
+        if k.size == 0:
+            break
+        ak, mk, ck, fak, fmk, fck = a[k], m[k], c[k], fa[k], fm[k], fc[k]
+        d1, d2 = mk - ak, mk - ck
+        num = d1 * d1 * (fmk - fck) - d2 * d2 * (fmk - fak)
+        den = d1 * (fmk - fck) - d2 * (fmk - fak)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            v = mk - 0.5 * num / den
+        wide_right = (ck - mk) > (mk - ak)
+        mid = np.where(wide_right, 0.5 * (mk + ck), 0.5 * (ak + mk))
+        bad = ~np.isfinite(v) | (v <= ak) | (v >= ck)
+        v = np.where(bad, mid, v)
+        done = ~bad & (np.abs(v - mk) < REFINE_XTOL)
+        active[k[done]] = False
+        k, v = k[~done], v[~done]
+        if k.size == 0:
+            break
+        fv, lam = f(v, line[k], warm[k])
+        ok = np.isfinite(fv)
+        fv = np.where(ok, fv, -np.inf)
+        up = fv > fm[k]
+        left = v < m[k]
+        # New best: the bracket shrinks to the side of v; else v replaces that side's end.
+        c[k] = np.where(up & left, m[k], np.where(~up & ~left, v, c[k]))
+        fc[k] = np.where(up & left, fm[k], np.where(~up & ~left, fv, fc[k]))
+        a[k] = np.where(up & ~left, m[k], np.where(~up & left, v, a[k]))
+        fa[k] = np.where(up & ~left, fm[k], np.where(~up & left, fv, fa[k]))
+        m[k] = np.where(up, v, m[k])
+        fm[k] = np.where(up, fv, fm[k])
+        warm[k] = np.where(up[:, None], lam, warm[k])
+        active[k[c[k] - a[k] < REFINE_XTOL]] = False
+    return m, fm
+
+
+@dataclass(frozen=True)
+class PathMaximum:
+    """Largest ln carbon activity along each point's path, and where it is.
+
+    Attributes
+    ----------
+    ln_activity : ndarray (L, M)
+        ln of the path maximum [-] (one row per line, one column per outlet temperature).
+    temperature : ndarray (L, M)
+        Path (gas) temperature where it occurs [K].
+    """
+
+    ln_activity: np.ndarray
+    temperature: np.ndarray
+
+
+def path_maxima(elements, pressure, approach: float, start: float, stations, outlet,
+                offsets=(0.0,), known=None) -> list[PathMaximum]:
+    """Path maximum of the equilibrated gas's carbon activity, for lines of outlets.
+
+    Parameters
+    ----------
+    elements : array_like (L, E)
+        Element flows of the gas entering the primary reformer, one line each [mol s-1].
+    pressure : array_like (L,)
+        Absolute pressure of each line [Pa].
+    approach : float
+        Approach to equilibrium [K]: the gas at path temperature tau is equilibrated and its
+        activity taken at tau - approach.
+    start : float
+        Path start, the primary inlet temperature [K].
+    stations : sequence of float
+        Temperatures of a user profile between start and outlet, in flow order [K].
+    outlet : array_like (M,)
+        Outlet temperatures, ascending, shared by all lines [K].
+    offsets : sequence of float
+        Gibbs energy offsets of the carbon referred to [J mol-1] (0 for graphite); one result
+        per offset.
+    known : (ndarray (L, M), ndarray (L, M, E)), optional
+        ln activity and element potentials of the gas-only equilibrium already solved at the
+        outlet temperatures (a grid's own points).
+
+    Returns
+    -------
+    list of PathMaximum, one per offset.
+    """
+    b = np.atleast_2d(np.asarray(elements, dtype=float))
+    L = b.shape[0]
+    P = np.broadcast_to(np.asarray(pressure, dtype=float), (L,))
+    T_out = np.asarray(outlet, dtype=float)
+    dT = float(approach)
+    lo_ok, hi_ok = _T_DATA[0] + dT, _T_DATA[1] + dT
+    ends = np.clip(np.array([start, *stations], dtype=float), lo_ok, hi_ok)
+    lo = max(min(ends.min(), T_out.min()) - PATH_STEP, lo_ok)
+    hi = min(max(ends.max(), T_out.max()) + PATH_STEP, _T_DATA[1])
+    nodes = _nodes(np.r_[T_out, ends, lo, hi], PATH_STEP)
+    K = nodes.size
+
+    def index(t):  # nearest node (every required temperature is one, to 1e-9 K)
+        return int(np.argmin(np.abs(nodes - t)))
+
+    out_idx = np.array([index(t) for t in T_out])
+    end_idx = [index(t) for t in ends]
+    E = b.shape[1]
+    F = np.full((L, K), np.nan)
+    LAM = np.zeros((L, K, E))
+    unknown = np.ones(K, dtype=bool)
+    if known is not None:
+        F[:, out_idx] = known[0]
+        LAM[:, out_idx] = known[1]
+        unknown[out_idx] = False
+    u = np.flatnonzero(unknown)
+    if u.size:
+        Tq = np.tile(nodes[u] - dT, L)
+        ln, lam = gas_ln_activity(Tq, np.repeat(P, u.size), np.repeat(b, u.size, axis=0),
+                                  row=u.size)
+        F[:, u] = ln.reshape(L, u.size)
+        LAM[:, u] = lam.reshape(L, u.size, E)
+    bad_line = np.isnan(F).any(axis=1)
+    results = []
+    for off in offsets:
+        results.append(_path_for_offset(F, LAM, nodes, b, P, dT, float(off), out_idx,
+                                        end_idx, bad_line))
+    return results
+
+
+def _path_for_offset(F, LAM, nodes, b, P, dT, off, out_idx, end_idx, bad_line):
+    L, K = F.shape
+    T_eq = nodes - dT
+    G = F - off / (R * T_eq)[None, :]
+    Gs = np.where(np.isfinite(G), G, -np.inf)
+    mid = (Gs[:, 1:-1] >= Gs[:, :-2]) & (Gs[:, 1:-1] > Gs[:, 2:]) & np.isfinite(G[:, 1:-1])
+    line, kk = np.nonzero(mid)
+    kk = kk + 1
+
+    def f(tau, ln_idx, warm):
+        ln, lam = gas_ln_activity(tau - dT, P[ln_idx], b[ln_idx], warm=warm)
+        return ln - off / (R * (tau - dT)), lam
+
+    if line.size:
+        tau, val = _refine(f, line, nodes[kk - 1].copy(), nodes[kk].copy(),
+                           nodes[kk + 1].copy(), Gs[line, kk - 1].copy(), Gs[line, kk].copy(),
+                           Gs[line, kk + 1].copy(), LAM[line, kk].copy())
+        Q = int(np.bincount(line, minlength=L).max())
+    else:
+        tau = val = np.empty(0)
+        Q = 1
+    TAU = np.full((L, Q), np.nan)
+    GQ = np.full((L, Q), -np.inf)
+    slot = np.zeros(L, dtype=int)
+    for j in range(line.size):
+        TAU[line[j], slot[line[j]]] = tau[j]
+        GQ[line[j], slot[line[j]]] = val[j]
+        slot[line[j]] += 1
+    rows = np.arange(L)
+
+    def interval(ia, ib, prefer_b):
+        """Max over the path interval between nodes ia and ib (both ends and maxima)."""
+        ta, tb = nodes[ia], nodes[ib]
+        ga, gb = Gs[:, ia], Gs[:, ib]
+        take_b = gb >= ga if prefer_b else gb > ga
+        best = np.where(take_b, gb, ga)
+        tbest = np.where(take_b, tb, ta)
+        lo, hi = min(ta, tb), max(ta, tb)
+        with np.errstate(invalid="ignore"):
+            inside = (TAU >= lo) & (TAU <= hi)
+        cand = np.where(inside, GQ, -np.inf)
+        j = np.argmax(cand, axis=1)
+        cv = cand[rows, j]
+        better = cv > best
+        return np.where(better, cv, best), np.where(better, TAU[rows, j], tbest)
+
+    # Fixed part of the path: inlet -> stations (the same for every outlet temperature).
+    fixed_v = Gs[:, end_idx[0]].copy()
+    fixed_t = np.full(L, nodes[end_idx[0]])
+    for ia, ib in zip(end_idx[:-1], end_idx[1:], strict=True):
+        v, t = interval(ia, ib, False)
+        up = v > fixed_v
+        fixed_v, fixed_t = np.where(up, v, fixed_v), np.where(up, t, fixed_t)
+    M = out_idx.size
+    lnmax = np.empty((L, M))
+    tmax = np.empty((L, M))
+    for m in range(M):
+        v, t = interval(end_idx[-1], out_idx[m], True)
+        up = v >= fixed_v
+        lnmax[:, m] = np.where(up, v, fixed_v)
+        tmax[:, m] = np.where(up, t, fixed_t)
+    lnmax[bad_line] = np.nan
+    tmax[bad_line] = np.nan
+    return PathMaximum(lnmax, tmax)
+
+
+# ------------------------------------------------------------------------- the point's terms
+
+
+def local_terms(train_result, temperature, pressure, approach, check: CarbonCheck) -> dict:
+    """Per-point parts of the carbon check that need no other point (arrays over N).
+
+    Keys: ``elements`` (N, E) of the primary's inlet gas; ``ln_outlet`` and ``lam_outlet``,
+    the gas-only equilibrium at the outlet's T - approach (re-solved without carbon where
+    graphite deposits there); ``ln_real_<route>`` at T; ``higher_hydrocarbons`` and
+    ``other_stage`` flags.
+    """
+    tr = train_result
+    bal = tr.primary
+    N = bal.temperature.size
+    T = np.broadcast_to(np.asarray(temperature, dtype=float), (N,))
+    P = np.broadcast_to(np.asarray(pressure, dtype=float), (N,))
+    prim = tr.stage("primary_reformer")
+    n_in = prim.inlet_flow
+    b = n_in @ formula_matrix()
+    with np.errstate(divide="ignore"):
+        ln_out = np.log(bal.carbon_activity)
+    lam = bal.element_potentials.copy()
+    dep = np.flatnonzero(bal.carbon_deposit > 0)
+    if dep.size:
+        ln_g, lam_g = gas_ln_activity(bal.equilibrium_temperature[dep], P[dep], b[dep],
+                                      warm=lam[dep])
+        ln_out[dep] = ln_g
+        lam[dep] = lam_g
+    ln_out = np.where(bal.converged, ln_out, np.nan)
+    out = {"elements": b, "ln_outlet": ln_out, "lam_outlet": lam}
+    for key, v in real_gas_ln_activities(bal.mole_fraction, T, P).items():
+        out[f"ln_real_{key}"] = v
+    hc = n_in @ _HC
+    c2 = n_in @ _C2PLUS
+    with np.errstate(invalid="ignore", divide="ignore"):
+        frac = np.where(hc > 0, c2 / hc, 0.0)
+    out["higher_hydrocarbons"] = (frac > HIGHER_HYDROCARBON_FRACTION) & (
+        prim.inlet_temperature > check.cracking_temperature)
+    other = np.zeros(N)
+    for st in tr.stages:
+        if st.name in ("pre_reformer", "secondary_reformer"):
+            other = other + np.nan_to_num(st.carbon_deposit)
+    out["other_stage"] = other > 0
+    return out
+
+
+def _verdict(ln_path, T_path, ln_real, T, c2, stage):
+    with np.errstate(invalid="ignore"):
+        ln = np.maximum(ln_path, ln_real)
+        code = np.where(ln_real > ln_path, 2, np.where(T_path == T, 0, 1))
+    flag = c2 | stage
+    ln = np.where(flag, np.fmax(ln, FLAG_LN_ACTIVITY), ln)
+    code = np.where(stage, 4, np.where(c2, 3, code))
+    return ln, code
+
+
+def finish(local: dict, path: list[PathMaximum], T, check: CarbonCheck) -> dict:
+    """Dataset variables of the carbon check (flat arrays over N points).
+
+    Parameters
+    ----------
+    local : dict
+        :func:`local_terms` of the points.
+    path : list of PathMaximum
+        Path maxima of the points, flattened to (N,) each: graphite first, then catalyst
+        carbon when the scenario gives its offset.
+    T : array_like (N,)
+        Outlet temperature [K].
+    check : CarbonCheck
+        The scenario's ``[carbon]`` table.
+    """
+    T = np.asarray(T, dtype=float)
+    routes = {k: local[f"ln_real_{k}"] for k in CARBON_ROUTES}
+    ln_real = np.maximum.reduce(list(routes.values()))
+    gr = path[0]
+    c2, stage = local["higher_hydrocarbons"], local["other_stage"]
+    ln_v_gr, code_gr = _verdict(gr.ln_activity, gr.temperature, ln_real, T, c2, stage)
+    with np.errstate(over="ignore"):
+        out = {
+            "carbon_activity_path_max": np.exp(gr.ln_activity),
+            "carbon_path_max_temperature": gr.temperature,
+            "carbon_activity_real_gas": np.exp(ln_real),
+            "carbon_ln_activity_outlet": local["ln_outlet"],
+            "carbon_higher_hydrocarbons": c2,
+            "carbon_other_stage": stage,
+        }
+        for k, v in routes.items():
+            out[f"carbon_activity_real_gas_{k}"] = np.exp(v)
+    ln_v, code = ln_v_gr, code_gr
+    off = check.catalyst_carbon_offset
+    if off is not None:
+        cat = path[1]
+        ln_real_cat = ln_real - off / (R * T)
+        ln_v_cat, code_cat = _verdict(cat.ln_activity, cat.temperature, ln_real_cat, T, c2,
+                                      stage)
+        with np.errstate(over="ignore"):
+            out["carbon_activity_path_max_catalyst"] = np.exp(cat.ln_activity)
+            out["carbon_activity_real_gas_catalyst"] = np.exp(ln_real_cat)
+        out["carbon_verdict_ln_activity_graphite"] = ln_v_gr
+        out["carbon_verdict_ln_activity_catalyst"] = ln_v_cat
+        if check.reference == "catalyst":
+            ln_v, code = ln_v_cat, code_cat
+    out["carbon_verdict_ln_activity"] = ln_v
+    with np.errstate(invalid="ignore"):
+        out["carbon_free"] = ln_v < 0.0
+    out["carbon_binding"] = code.astype(np.int8)
+    return out
+
+
+def offsets(check: CarbonCheck) -> tuple[float, ...]:
+    """Gibbs offsets of the carbons the check refers to: graphite, then catalyst carbon."""
+    off = check.catalyst_carbon_offset
+    return (0.0,) if off is None else (0.0, off)
+
+
+def window_check(scenario, flat: dict, axes: dict[str, np.ndarray]) -> dict:
+    """The carbon check over a whole window from its points' :func:`local_terms`.
+
+    Lines along the temperature axis share their path: the grid's own gas-only outlet
+    solves are reused as the path's nodes (see the module notes).
+
+    Parameters
+    ----------
+    scenario : Scenario
+    flat : dict
+        :func:`local_terms` over the window's points, flat in C order of `axes`.
+    axes : dict
+        The window's coordinates by dimension, temperature first.
+    """
+    names = list(axes)
+    shape = tuple(len(v) for v in axes.values())
+    it = names.index("temperature")
+    T_axis = np.asarray(axes["temperature"], dtype=float)
+    order = np.argsort(T_axis, kind="stable")
+    M = T_axis.size
+
+    def lines(a):  # (N, ...) -> (L, M, ...) with temperature last among the window dims
+        a = np.asarray(a).reshape(shape + a.shape[1:])
+        a = np.moveaxis(a, it, len(shape) - 1)
+        return a.reshape((-1, M) + a.shape[len(shape):])[:, order]
+
+    b = lines(flat["elements"])[:, 0]
+    P_grid = np.broadcast_to(
+        np.asarray(axes["pressure"]).reshape([-1 if n == "pressure" else 1 for n in names]),
+        shape).reshape(-1)
+    P = lines(P_grid)[:, 0]
+    check = scenario.carbon
+    res = path_maxima(b, P, scenario.approach, scenario.feed.inlet_temperature,
+                      check.path_temperatures, T_axis[order], offsets(check),
+                      known=(lines(flat["ln_outlet"]), lines(flat["lam_outlet"])))
+    inv = np.argsort(order)
+
+    def back(a):  # (L, M) -> flat window order
+        a = a[:, inv].reshape(tuple(s for i, s in enumerate(shape) if i != it) + (M,))
+        return np.moveaxis(a, len(shape) - 1, it).reshape(-1)
+
+    path = [PathMaximum(back(r.ln_activity), back(r.temperature)) for r in res]
+    T_grid = np.broadcast_to(T_axis.reshape([-1 if n == "temperature" else 1 for n in names]),
+                             shape).reshape(-1)
+    return finish(flat, path, T_grid, check)
+
+
+def point_check(train_result, temperature, pressure, approach, start, check: CarbonCheck):
+    """The carbon check of N points, each with its own path (no grid reuse).
+
+    Parameters
+    ----------
+    train_result : thermo.train.TrainResult
+        The points' train.
+    temperature, pressure : array_like (N,)
+        Outlet temperature [K], absolute pressure [Pa].
+    approach : float
+        Approach to equilibrium [K].
+    start : float
+        Primary inlet temperature [K].
+    check : CarbonCheck
+
+    Returns
+    -------
+    dict of flat arrays (the Dataset's carbon variables)
+    """
+    loc = local_terms(train_result, temperature, pressure, approach, check)
+    N = loc["elements"].shape[0]
+    T = np.broadcast_to(np.asarray(temperature, dtype=float), (N,))
+    P = np.broadcast_to(np.asarray(pressure, dtype=float), (N,))
+    per = [[] for _ in offsets(check)]
+    for i in range(N):
+        res = path_maxima(loc["elements"][i:i + 1], P[i:i + 1], approach, start,
+                          check.path_temperatures, T[i:i + 1], offsets(check))
+        for j, r in enumerate(res):
+            per[j].append(r)
+    path = [PathMaximum(np.concatenate([r.ln_activity[:, 0] for r in rs]),
+                        np.concatenate([r.temperature[:, 0] for r in rs])) for rs in per]
+    return finish(loc, path, T, check)
+
+
+#: Dataset variables of the check: (units, long_name).
+VARIABLES: dict[str, tuple[str, str]] = {
+    "carbon_activity_path_max": ("1", "largest carbon activity (graphite) of the equilibrated "
+                                 "gas along the tube, inlet to outlet"),
+    "carbon_path_max_temperature": ("K", "gas temperature on the tube's path where that "
+                                    "largest activity occurs"),
+    "carbon_activity_real_gas": ("1", "largest carbon activity (graphite) of the outlet gas at "
+                                 "the catalyst temperature T, over methane cracking, CO "
+                                 "reduction and Boudouard"),
+    "carbon_activity_real_gas_methane_cracking": ("1", "carbon activity of the outlet gas at "
+                                                  "T by CH4 = C + 2 H2 (graphite)"),
+    "carbon_activity_real_gas_co_reduction": ("1", "carbon activity of the outlet gas at T by "
+                                              "CO + H2 = C + H2O (graphite)"),
+    "carbon_activity_real_gas_boudouard": ("1", "carbon activity of the outlet gas at T by "
+                                           "2 CO = C + CO2 (graphite)"),
+    "carbon_ln_activity_outlet": ("1", "ln carbon activity (graphite) of the equilibrated gas "
+                                  "at the outlet alone (zero on the outlet-only boundary)"),
+    "carbon_higher_hydrocarbons": ("1", "C2+ hydrocarbons enter the primary reformer above "
+                                   "their cracking temperature"),
+    "carbon_other_stage": ("1", "graphite at equilibrium in another reforming stage"),
+    "carbon_activity_path_max_catalyst": ("1", "path maximum referred to catalyst carbon"),
+    "carbon_activity_real_gas_catalyst": ("1", "real-gas maximum referred to catalyst carbon"),
+    "carbon_verdict_ln_activity_graphite": ("1", "carbon verdict field on graphite"),
+    "carbon_verdict_ln_activity_catalyst": ("1", "carbon verdict field on catalyst carbon"),
+    "carbon_verdict_ln_activity": ("1", "ln of the binding carbon activity (positive where a "
+                                   "flag breaks the limit); zero on the binding boundary"),
+    "carbon_free": ("1", "carbon-free by the binding criterion"),
+    "carbon_binding": ("1", "which carbon criterion binds"),
+}
