@@ -252,7 +252,9 @@ def _points_source(ds: xr.Dataset, sc: Scenario | None = None):
     flows = ds["outlet_flow"].transpose(*dims, "species").values.reshape(-1, len(GAS_SPECIES))
     data = {f"n_{s}": np.ascontiguousarray(flows[:, j]) for j, s in enumerate(GAS_SPECIES)}
     for k in ("carbon_deposit", "carbon_activity", "duty", "approach_reforming",
-              "approach_shift"):
+              "approach_shift", "carbon_activity_path_max", "carbon_path_max_temperature",
+              "carbon_activity_real_gas", "carbon_verdict_ln_activity", "carbon_binding",
+              "carbon_free"):
         data[k] = np.ascontiguousarray(ds[k].transpose(*dims).values.ravel().astype(float))
     data["converged"] = ds["converged"].transpose(*dims).values.ravel().astype(np.int8)
     if sc is not None:
@@ -545,7 +547,8 @@ for (let i = 0; i < 2; i++) {
   const L = R.layers[v][m][k];
   const C = R.common[m][k];
   for (const name of ["bands", "lines", "labels"]) srcs[i][name].data = L[name];
-  for (const name of ["carbon", "infeasible", "edge"]) srcs[i][name].data = C[name];
+  for (const name of ["carbon", "carbon_outlet", "carbon_catalyst", "carbon_graphite",
+                     "infeasible", "edge"]) srcs[i][name].data = C[name];
   srcs[i].nodes.data = Object.assign({}, C.nodes, {value: L.values});
   const pal = R.palettes[v];
   mappers[i].palette = pal.palette;
@@ -594,7 +597,8 @@ for (let i = 0; i < 3; i++) {
   const L = layers[v][m][k];
   const C = common[m][k];
   for (const name of ["bands", "lines", "labels"]) srcs[i][name].data = L[name];
-  for (const name of ["carbon", "infeasible", "edge"]) srcs[i][name].data = C[name];
+  for (const name of ["carbon", "carbon_outlet", "carbon_catalyst", "carbon_graphite",
+                     "infeasible", "edge"]) srcs[i][name].data = C[name];
   srcs[i].nodes.data = Object.assign({}, C.nodes, {value: L.values});
   const pal = palettes[v];
   mappers[i].palette = pal.palette;

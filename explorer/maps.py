@@ -34,6 +34,7 @@ from bokeh.models import (
 from bokeh.palettes import Cividis256, Inferno256, RdBu11, Viridis256, interp_palette
 from bokeh.plotting import figure
 
+from thermo.carbon import BINDING, BINDING_WORDS
 from thermo.species import GAS_SPECIES
 from thermo.sweep import LIMIT_VARIABLES
 
@@ -52,6 +53,8 @@ TITLE_PT, AXIS_PT, LABEL_PT, LEGEND_PT = "15pt", "14pt", "11pt", "12pt"
 
 # Colours of the overlays (our own choice).
 CARBON_COLOUR = "#5b1a18"
+OUTLET_CARBON_COLOUR = "#8a7b76"
+REFERENCE_CARBON_COLOUR = "#b0602c"
 EDGE_COLOUR = "#00a37a"
 SELECTED_COLOUR = "#ff3b30"
 HATCH_COLOUR = "#3b3b3b"
@@ -216,7 +219,17 @@ NO_CHANGE_COLOUR = "#d9dee2"
 
 #: Dataset variables the overlays read (limits, carbon boundary, nodes).
 OVERLAY_VARIABLES = ("h2_yield", "methane_slip_dry", "duty", "carbon_deposit",
-                     "carbon_activity", "converged", "feasible", *LIMIT_VARIABLES.values())
+                     "carbon_activity", "converged", "feasible", *LIMIT_VARIABLES.values(),
+                     "carbon_verdict_ln_activity", "carbon_ln_activity_outlet",
+                     "carbon_binding", "carbon_activity_path_max",
+                     "carbon_path_max_temperature", "carbon_activity_real_gas",
+                     "carbon_verdict_ln_activity_catalyst",
+                     "carbon_verdict_ln_activity_graphite")
+
+
+#: Carbon lines drawn beside the binding boundary: the outlet-only graphite boundary, and the
+#: boundary on the carbon reference that does not bind (when a catalyst offset is given).
+CARBON_LINES = ("carbon_outlet", "carbon_catalyst", "carbon_graphite")
 
 
 def slice_fields(ds: xr.Dataset, mode: str, fixed: dict[str, int]) -> xr.Dataset:
@@ -270,11 +283,9 @@ def infeasibility(s: xr.Dataset, limits) -> np.ndarray:
     if limits.max_duty is not None:
         terms.append((s[v["max_duty"]] - limits.max_duty) / max(abs(limits.max_duty), 1.0))
     if limits.carbon_free:
-        margin = carbon_margin(s)
-        # Graphite in a pre- or secondary reformer where the primary has none.
-        other = s[v["carbon_free"]] - s["carbon_deposit"]
-        hc = float(s.attrs.get("hydrocarbon_carbon_mol_per_s", 1.0)) or 1.0
-        terms.append(xr.where(other > 0, np.maximum(margin, other / hc + 1e-9), margin))
+        # The binding carbon verdict's field (thermo.carbon): negative exactly where
+        # carbon_free holds; NaN (no verdict) counts as carbon.
+        terms.append(carbon_margin(s).fillna(1.0))
     if not terms:
         field = xr.full_like(s["h2_yield"], -1.0)
     else:
@@ -286,12 +297,30 @@ def infeasibility(s: xr.Dataset, limits) -> np.ndarray:
 
 
 def carbon_margin(s: xr.Dataset) -> xr.DataArray:
-    """Signed carbon field: ln(carbon activity) (< 0) where no graphite forms, deposit per
-    hydrocarbon carbon (> 0) where it does; its zero line is the carbon boundary [-]."""
-    hc = float(s.attrs.get("hydrocarbon_carbon_mol_per_s", 1.0)) or 1.0
-    with np.errstate(divide="ignore"):
-        ln_a = np.log(s["carbon_activity"].clip(min=1e-300))
-    return xr.where(s["carbon_deposit"] > 0, s["carbon_deposit"] / hc + 1e-9, ln_a.clip(max=0))
+    """Signed carbon field of the binding verdict, ``carbon_verdict_ln_activity``: ln of the
+    binding carbon activity (path maximum, real gas, flags; thermo.carbon), negative where the
+    point is carbon-free; its zero line is the binding carbon boundary [-]."""
+    return s["carbon_verdict_ln_activity"].clip(min=-700.0)
+
+
+def outlet_carbon_margin(s: xr.Dataset) -> xr.DataArray:
+    """ln carbon activity (graphite) of the equilibrated gas at the outlet alone: its zero
+    line is the outlet-only graphite boundary, drawn beside the binding one [-]."""
+    return s["carbon_ln_activity_outlet"].clip(min=-700.0)
+
+
+def reference_carbon_layers(s: xr.Dataset) -> dict[str, str]:
+    """The verdict fields on the carbon reference that does not bind, by layer name: the
+    catalyst carbon's when the verdict is on graphite and its offset is given, graphite's
+    when the verdict is on catalyst carbon."""
+    ref = s["carbon_verdict_ln_activity"].attrs.get("reference", "graphite")
+    out = {}
+    if "carbon_verdict_ln_activity_catalyst" in s:
+        if ref == "graphite":
+            out["carbon_catalyst"] = "carbon_verdict_ln_activity_catalyst"
+        else:
+            out["carbon_graphite"] = "carbon_verdict_ln_activity_graphite"
+    return out
 
 
 def _paths(paths) -> dict:
@@ -373,7 +402,16 @@ def window_layers(s: xr.Dataset, mode: str, limits) -> dict:
     y = _y_display(mode, s[mode].values)
     out = {"carbon": {"xs": [], "ys": []}, "infeasible": {"xs": [[]], "ys": [[]]},
            "edge": {"xs": [], "ys": []}}
+    for k in CARBON_LINES:
+        out[k] = {"xs": [], "ys": []}
     if len(x) >= 2 and len(y) >= 2:
+        ogen = contourpy.contour_generator(x, y, np.asarray(outlet_carbon_margin(s), float),
+                                           line_type="Separate")
+        out["carbon_outlet"] = _paths(ogen.lines(0.0))
+        for layer, name in reference_carbon_layers(s).items():
+            rgen = contourpy.contour_generator(x, y, np.asarray(s[name].clip(min=-700.0),
+                                                                float), line_type="Separate")
+            out[layer] = _paths(rgen.lines(0.0))
         cgen = contourpy.contour_generator(x, y, np.asarray(carbon_margin(s), dtype=float),
                                            line_type="Separate")
         out["carbon"] = _paths(cgen.lines(0.0))
@@ -422,17 +460,27 @@ def broken_limits(s: xr.Dataset, limits) -> np.ndarray:
 
 
 def carbon_forms(s: xr.Dataset) -> np.ndarray:
-    """Where the carbon limit is broken: graphite in any reforming stage of the train."""
-    return np.asarray(s[LIMIT_VARIABLES["carbon_free"]] > 0)
+    """Where the carbon limit is broken: the binding verdict (thermo.carbon) is not
+    carbon-free."""
+    return ~np.asarray(s[LIMIT_VARIABLES["carbon_free"]], dtype=bool)
 
 
 def carbon_words(s: xr.Dataset) -> np.ndarray:
-    """The carbon call at each node in words, with the outlet gas's carbon activity."""
-    act = np.asarray(s["carbon_activity"], dtype=float)
+    """The carbon call at each node in words: the binding criterion and its activity."""
+    ln_a = np.asarray(s["carbon_verdict_ln_activity"], dtype=float)
+    code = np.asarray(s["carbon_binding"], dtype=int)
     forms = carbon_forms(s)
-    out = np.empty(act.shape, dtype=object)
-    out[forms] = "forms here (graphite)"
-    out[~forms] = [f"free (activity {a:.2f})" for a in act[~forms]]
+    out = np.empty(ln_a.shape, dtype=object)
+    for idx in np.ndindex(ln_a.shape):
+        name = BINDING[code[idx]]
+        why = BINDING_WORDS[name]
+        if name in ("higher_hydrocarbons", "other_stage"):
+            out[idx] = f"forms here ({why})"
+        elif forms[idx]:
+            a = math.exp(min(ln_a[idx], 700.0)) if math.isfinite(ln_a[idx]) else float("nan")
+            out[idx] = f"forms here (activity {a:.2f}, {why})"
+        else:
+            out[idx] = f"free (activity {math.exp(ln_a[idx]):.2f}, {why})"
     return out
 
 
@@ -463,7 +511,7 @@ def _with_side_ticks(lines: dict, x: np.ndarray, y: np.ndarray, field: np.ndarra
 
 def combine(variable: dict, window: dict) -> dict[str, dict]:
     """The ColumnDataSource data of every layer of one map from its two parts."""
-    out = {k: window[k] for k in ("carbon", "infeasible", "edge")}
+    out = {k: window[k] for k in ("carbon", "infeasible", "edge", *CARBON_LINES)}
     out.update({k: variable[k] for k in ("bands", "lines", "labels")})
     out["nodes"] = dict(window["nodes"], value=variable["values"])
     return out
@@ -520,6 +568,7 @@ def empty_layers() -> dict[str, dict]:
         "lines": {"xs": [], "ys": []},
         "labels": {"x": [], "y": [], "text": []},
         "carbon": {"xs": [], "ys": []},
+        **{k: {"xs": [], "ys": []} for k in CARBON_LINES},
         "infeasible": {"xs": [[]], "ys": [[]]},
         "edge": {"xs": [], "ys": []},
         "nodes": {"x": [], "y": [], "value": [], "feasible": [], "carbon": []},
@@ -601,6 +650,17 @@ def map_figure(var: Variable, mode: str, levels: np.ndarray, layers: dict[str, d
     edge = fig.multi_line("xs", "ys", source=src["edge"], line_color=EDGE_COLOUR, line_width=3.5)
     carbon = fig.multi_line("xs", "ys", source=src["carbon"], line_color=CARBON_COLOUR,
                             line_width=3, line_dash=[8, 4])
+    extra = {
+        "carbon_outlet": fig.multi_line("xs", "ys", source=src["carbon_outlet"],
+                                        line_color=OUTLET_CARBON_COLOUR, line_width=2,
+                                        line_dash="dotted"),
+        "carbon_catalyst": fig.multi_line("xs", "ys", source=src["carbon_catalyst"],
+                                          line_color=REFERENCE_CARBON_COLOUR, line_width=2,
+                                          line_dash="dashdot"),
+        "carbon_graphite": fig.multi_line("xs", "ys", source=src["carbon_graphite"],
+                                          line_color=REFERENCE_CARBON_COLOUR, line_width=2,
+                                          line_dash="dashdot"),
+    }
     nodes = fig.scatter("x", "y", source=src["nodes"], size=3.5, fill_color="#000000",
                         fill_alpha=0.25, line_color=None)
     selected = fig.scatter("x", "y", source=src["selected"], size=15, marker="circle",
@@ -614,8 +674,8 @@ def map_figure(var: Variable, mode: str, levels: np.ndarray, layers: dict[str, d
                             major_label_text_font_size=LEGEND_PT), "right")
     legend = Legend(
         items=[LegendItem(label=LEGEND_LABELS[k], renderers=[r], index=0, name=k)
-               for k, r in (("carbon", carbon), ("edge", edge), ("infeasible", infeasible),
-                            ("selected", selected))],
+               for k, r in (("carbon", carbon), *extra.items(), ("edge", edge),
+                            ("infeasible", infeasible), ("selected", selected))],
         orientation="horizontal",
         ncols=2,
         label_text_font_size=LEGEND_PT,
@@ -629,7 +689,10 @@ def map_figure(var: Variable, mode: str, levels: np.ndarray, layers: dict[str, d
 
 #: Legend entries, by the layer they name (shown only when the slice draws that layer).
 LEGEND_LABELS = {
-    "carbon": "carbon boundary (ticks on the side where carbon forms)",
+    "carbon": "carbon boundary, binding criterion (ticks on the side where carbon forms)",
+    "carbon_outlet": "graphite boundary of the outlet gas alone",
+    "carbon_catalyst": "carbon boundary on catalyst carbon",
+    "carbon_graphite": "carbon boundary on graphite",
     "edge": "feasible window edge",
     "infeasible": "outside a review limit (hover a dot: which)",
     "selected": "selected point",
@@ -640,6 +703,7 @@ def legend_visibility(layers: dict[str, dict], selected: dict) -> dict[str, bool
     """Which legend entries the slice needs: those whose layer draws something."""
     return {
         "carbon": bool(layers["carbon"]["xs"]),
+        **{k: bool(layers[k]["xs"]) for k in CARBON_LINES},
         "edge": bool(layers["edge"]["xs"]),
         "infeasible": any(bool(p) for p in layers["infeasible"]["xs"][0])
         if layers["infeasible"]["xs"] else False,

@@ -195,6 +195,11 @@ function assemble(p, D = R, Q = pts) {
              mole_fraction: byName(x), mole_fraction_dry: byName(xd), enthalpy_W: hin + duty},
     carbon_deposit_mol_per_s: carbon,
     carbon_activity: P.carbon_activity[p],
+    // The binding carbon verdict (thermo.carbon), computed by the core and embedded.
+    carbon_free: P.carbon_free[p] > 0,
+    carbon_activity_path_max: P.carbon_activity_path_max[p],
+    carbon_path_max_temperature: P.carbon_path_max_temperature[p],
+    carbon_activity_real_gas: P.carbon_activity_real_gas[p],
     h2_yield: h2 / cin, h2_potential: (h2 + co) / cin,
     methane_slip_dry: xd[S.indexOf("CH4")],
     methane_conversion: 1 - hcC(nout) / cin,
@@ -372,6 +377,9 @@ function nodeVerdict(common, i, j, nT) {
 function showLegend(legend, common, selected) {
   const drawn = {
     carbon: common.carbon.xs.length > 0,
+    carbon_outlet: common.carbon_outlet.xs.length > 0,
+    carbon_catalyst: common.carbon_catalyst.xs.length > 0,
+    carbon_graphite: common.carbon_graphite.xs.length > 0,
     edge: common.edge.xs.length > 0,
     infeasible: common.infeasible.xs.length > 0 && common.infeasible.xs[0].length > 0,
     selected: selected,

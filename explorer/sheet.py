@@ -199,17 +199,42 @@ def _inputs(sc: Scenario) -> list[tuple[str, str]]:
          for n, a in w.axes().items()] + _train_inputs(sc)
 
 
+def _path_words(sc: Scenario) -> str:
+    stations = sc.carbon.path_temperatures
+    if not stations:
+        return "linear rise"
+    return "through " + ", ".join(f"{t - 273.15:g}" for t in stations) + " degC"
+
+
+def _reference_words(sc: Scenario) -> str:
+    off = sc.carbon.catalyst_carbon_offset
+    if sc.carbon.reference == "catalyst":
+        return f"catalyst carbon, {off / 1000:g} kJ/mol above graphite (user value)"
+    extra = "" if off is None else (f"; the catalyst-carbon boundary ({off / 1000:g} kJ/mol "
+                                    "above graphite, user value) is drawn too")
+    return "graphite, the conservative reference" + extra
+
+
 def _assumptions(sc: Scenario) -> list[tuple[str, str]]:
     rows = [
         ("Phases", "ideal-gas mixture of CH4, C2H6, C3H8, H2O, H2, CO, CO2, O2, N2, Ar; pure "
                    "graphite where it is stable"),
         ("Equilibrium", "Gibbs energy minimum at the outlet T and P (element potentials); "
                         "composition at T minus the approach, enthalpy at T"),
-        ("Carbon", "graphite limit of the equilibrated gas, the conservative thermodynamic "
-                   "bound: the filamentous carbon formed on nickel catalysts is less stable "
-                   "than graphite. Carbon that forms earlier in practice does so by kinetics "
-                   "(cracking of higher hydrocarbons, the gas near the tube inlet), which "
-                   "equilibrium does not describe"),
+        ("Carbon", "carbon-free binds on the worst of: the equilibrated gas at every gas "
+                   "temperature along the primary tube, from its inlet to its outlet "
+                   f"({_path_words(sc)}); the real (non-equilibrated) outlet gas at the "
+                   "catalyst temperature by methane cracking, CO reduction and Boudouard; C2+ "
+                   "hydrocarbons entering above "
+                   f"{sc.carbon.cracking_temperature - 273.15:g} degC; graphite in another "
+                   "reforming stage. Referred to "
+                   f"{_reference_words(sc)}. The filamentous carbon formed on nickel "
+                   "catalysts is less stable than graphite, so its limit is less restrictive; "
+                   "carbon that forms earlier in practice does so by kinetics (cracking of "
+                   "higher hydrocarbons, gas near the tube inlet not yet equilibrated)"),
+        ("Not covered by the carbon check", "kinetics of carbon formation and of cracking; "
+                                            "tube-wall and catalyst temperatures above the "
+                                            "gas temperature; catalyst poisoning"),
         ("Duty", "enthalpy of the outlet at T minus that of the mixed feed at its inlet "
                  "temperature"),
         ("Standard state", f"{P_REF / 1e5:g} bar; normal volume at 0 degC and 1.01325 bar"),
@@ -222,7 +247,8 @@ def _assumptions(sc: Scenario) -> list[tuple[str, str]]:
                                 "frozen), equilibrium at the stage temperature plus the "
                                 "approach"),
             ("Review limits with a train", "slip after the last reformer, H2 after the last "
-                                           "stage, graphite in any reforming stage; duty "
+                                           "stage, the carbon verdict (graphite in any "
+                                           "reforming stage included); duty "
                                            "limit on the primary's radiant duty"),
         ]
     return rows

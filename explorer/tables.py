@@ -12,6 +12,7 @@ import io
 import math
 
 from explorer.safe import spreadsheet_text, text
+from thermo.carbon import BINDING_WORDS
 from thermo.constants import V_NORMAL
 from thermo.species import GAS_SPECIES
 
@@ -45,6 +46,9 @@ SUMMARY_ROWS: list[tuple[str, str, str, str, int]] = [
     ("H2/CO", "mol/mol", "h2_co_ratio", "", 3),
     ("Carbon deposit (graphite)", "kmol/h", "carbon_deposit_mol_per_s", "kmolh", 3),
     ("Carbon activity (graphite = 1)", "-", "carbon_activity", "", 4),
+    ("Carbon activity along the tube, largest", "-", "carbon_activity_path_max", "", 4),
+    ("  at gas temperature", "degC", "carbon_path_max_temperature", "degC", 1),
+    ("Carbon activity of the real gas at T", "-", "carbon_activity_real_gas", "", 4),
 ]
 
 ENERGY_ROWS: list[tuple[str, str, str, str, int]] = [
@@ -332,13 +336,20 @@ def limit_checks(d: dict, limits) -> list[tuple[str, bool, str]]:
 
 
 def carbon_verdict(d: dict) -> tuple[bool, str]:
-    """Whether a point is free of carbon, and the verdict in words."""
-    train = d.get("train") or {}
-    deposit = train.get("carbon_deposit_mol_per_s", d.get("carbon_deposit_mol_per_s", 0.0))
-    if deposit > 0:
-        return False, "graphite forms at equilibrium"
-    return True, (f"no graphite at equilibrium (outlet carbon activity "
-                  f"{d['carbon_activity']:.2f})")
+    """Whether a point is free of carbon by the binding criterion (thermo.carbon), and the
+    verdict in words naming that criterion."""
+    chk = d.get("carbon_check") or {}
+    free = bool(d["carbon_free"])
+    binding = chk.get("binding", "outlet_equilibrium")
+    why = BINDING_WORDS[binding]
+    ln_a = chk.get("verdict_ln_activity")
+    ref = "catalyst carbon" if chk.get("reference") == "catalyst" else "graphite"
+    if binding in ("higher_hydrocarbons", "other_stage"):
+        return False, f"carbon risk: {why}"
+    a = math.exp(min(ln_a, 700.0)) if ln_a is not None else float("nan")
+    if not free:
+        return False, f"carbon forms: {why}, carbon activity {a:.2f} ({ref} = 1)"
+    return True, f"carbon-free: binding is the {why}, carbon activity {a:.2f} ({ref} = 1)"
 
 
 def verdict_html(d: dict, limits, prefix: str = "") -> str:
