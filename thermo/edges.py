@@ -730,7 +730,7 @@ class Margins:
     sensitivities : dict[str, dict[str, tuple[float, float]]]
         ``{quantity: {axis: (step, change)}}``: the change of each quantity for a step up
         the axis, ``(f(x + step) - f(x - step)) / 2`` [SI of the quantity; step in SI of the
-        axis].
+        axis] (one-sided where ``x - step`` would fall below the axis's floor).
     """
 
     coordinates: dict[str, float]
@@ -831,16 +831,25 @@ def margins(scenario: Scenario, temperature=None, pressure=None, steam_to_carbon
     here = at()
     # Sensitivities: six shifted points in one batch.
     steps = dict(SENSITIVITY_STEPS if steps is None else steps)
-    shifts = [(a, s * h) for a, h in steps.items() for s in (1.0, -1.0)]
-    ax_vals = {k: np.array([c[k] + (d if a == k else 0.0) for a, d in shifts]) for k in c}
+    # Each axis stepped up and down; the step down stops at the axis's floor (ratios >= 0,
+    # T - approach >= 300 K, P > 0), where the difference becomes one-sided.
+    floor = {"temperature": 300.0 + sc.approach, "pressure": 0.5 * c["pressure"],
+             "steam_to_carbon": 0.0}
+    shifted_at = []
+    for a, h in steps.items():
+        shifted_at.append((a, c[a] + h))
+        shifted_at.append((a, max(c[a] - h, floor[a])))
+    ax_vals = {k: np.array([x if a == k else c[k] for a, x in shifted_at]) for k in c}
     shifted = evaluate(sc, ax_vals["temperature"], ax_vals["pressure"],
                        ax_vals["steam_to_carbon"], ax_vals["oxygen_to_carbon"],
                        ax_vals["co2_to_carbon"])
     sens: dict[str, dict[str, tuple[float, float]]] = {}
     for q, (_label, _unit, getter) in SENSITIVITY_QUANTITIES.items():
         v = np.asarray(getter(shifted).values, dtype=float)
-        sens[q] = {a: (h, float(v[2 * i] - v[2 * i + 1]) / 2.0)
-                   for i, (a, h) in enumerate(steps.items())}
+        sens[q] = {}
+        for i, (a, h) in enumerate(steps.items()):
+            up, dn = shifted_at[2 * i][1], shifted_at[2 * i + 1][1]
+            sens[q][a] = (h, float(v[2 * i] - v[2 * i + 1]) * h / (up - dn))
     # Scans along temperature and steam-to-carbon.
     win = sc.window
     t_lo = min(win.temperature.start, win.temperature.stop, c["temperature"])
