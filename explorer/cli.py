@@ -1,4 +1,4 @@
-"""Command line: ``explorer point | grid | serve | export``.
+"""Command line: ``explorer point | best | grid | serve | export``.
 
 User errors print one line to stderr and exit with status 2; no traceback.
 """
@@ -54,10 +54,37 @@ def _cmd_point(args: argparse.Namespace) -> int:
         approach=args.approach,
         adiabatic=args.adiabatic,
     )
+    m = thermo.margins(sc, point=pt)
     if args.json:
-        print(json.dumps(pt.to_dict(), indent=2, allow_nan=False))
+        d = pt.to_dict()
+        d["margins"] = m.to_dict()
+        d["sensitivities"] = m.sensitivities_dict()
+        print(json.dumps(d, indent=2, allow_nan=False))
     else:
-        print(point_report(pt))
+        from explorer.limits_report import margins_text
+
+        print(point_report(pt) + "\n\n" + margins_text(m))
+    return 0
+
+
+def _cmd_best(args: argparse.Namespace) -> int:
+    import thermo
+    from explorer.limits_report import best_text
+    from thermo.edges import objective
+
+    sc = thermo.load_scenario(args.scenario)
+    obj = objective(args.objective)
+    _kernel_notice()
+    bar = _progress_bar(sc.window.size(), "solving window")
+    try:
+        ds = thermo.sweep(sc, progress=lambda done, total: bar.update(done - bar.n))
+    finally:
+        bar.close()
+    bp = thermo.best_point(sc, obj.name, ds=ds)
+    if args.json:
+        print(json.dumps(bp.to_dict(), indent=2, allow_nan=False))
+    else:
+        print(best_text(bp))
     return 0
 
 
@@ -224,6 +251,19 @@ def build_parser() -> argparse.ArgumentParser:
     pt.add_argument("--json", action="store_true", help="print one strict JSON object (SI)")
     pt.set_defaults(func=_cmd_point)
 
+    from thermo.edges import DEFAULT_OBJECTIVE, OBJECTIVES
+
+    bs = sub.add_parser("best", help="the best feasible point of the window for an objective, "
+                                     "with its balance and margins")
+    bs.add_argument("scenario", nargs="?", default=None,
+                    help="scenario TOML file (default: the shipped demo)")
+    bs.add_argument("--objective", default=DEFAULT_OBJECTIVE,
+                    help="what to make best: " + "; ".join(
+                        f"{k} ({o.label})" for k, o in OBJECTIVES.items())
+                    + f" (default {DEFAULT_OBJECTIVE})")
+    bs.add_argument("--json", action="store_true", help="print one strict JSON object (SI)")
+    bs.set_defaults(func=_cmd_best)
+
     gr = sub.add_parser("grid", help="solve the whole window and write a NetCDF grid file")
     gr.add_argument("scenario", nargs="?", default=None,
                     help="scenario TOML file (default: the shipped demo)")
@@ -264,6 +304,7 @@ _OPTION_NAMES = {
     "co2_to_carbon": "--co2-to-carbon",
     "inlet_temperature": "--inlet-temperature",
     "approach": "--approach",
+    "objective": "--objective",
 }
 
 

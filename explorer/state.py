@@ -17,7 +17,7 @@ import thermo
 from explorer.maps import VARIABLES
 from thermo.errors import InputError
 from thermo.scenario import Scenario
-from thermo.sweep import SweepCache, feasible_mask
+from thermo.sweep import SweepCache, apply_limits
 
 #: Most grid points one app session solves: about 4 s and 0.3 GB on the project's 2-core
 #: machine; larger windows belong to `explorer grid` (a shared server must not be stalled
@@ -138,8 +138,7 @@ class ExplorerState(param.Parameterized):
             return True
         # Same numbers; notes, title or limits may have changed meanwhile: adopt with the
         # current scenario's text and feasible window.
-        ds = payload.copy()
-        ds["feasible"] = feasible_mask(ds, self.scenario.limits)
+        ds = apply_limits(self.scenario, payload)
         ds.attrs = dict(ds.attrs, scenario=self.scenario.to_toml())
         self._adopt(self.scenario, ds)
         return True
@@ -249,8 +248,7 @@ class ExplorerState(param.Parameterized):
         same_numbers = SHARED_CACHE.key(sc) == SHARED_CACHE.key(self.scenario)
         self.scenario = sc.with_notes(self.notes) if self.notes != sc.notes else sc
         if same_numbers and self.dataset is not None:
-            ds = self.dataset.copy()
-            ds["feasible"] = feasible_mask(ds, sc.limits)
+            ds = apply_limits(sc, self.dataset)
             ds.attrs = dict(ds.attrs, scenario=self.scenario.text)
             self.dataset = ds
             return

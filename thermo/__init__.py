@@ -14,6 +14,7 @@ from __future__ import annotations
 __version__ = "0.1.0"
 
 from thermo.api import PointResult, point
+from thermo.edges import best_point, margins
 from thermo.errors import InputError
 from thermo.scenario import Scenario, load_scenario, parse_scenario
 from thermo.sweep import sweep
@@ -23,7 +24,9 @@ __all__ = [
     "PointResult",
     "Scenario",
     "__version__",
+    "best_point",
     "load_scenario",
+    "margins",
     "parse_scenario",
     "point",
     "sweep",

@@ -191,6 +191,17 @@ def feasible_mask(ds: xr.Dataset, limits) -> xr.DataArray:
     return ok
 
 
+def apply_limits(scenario: Scenario, ds: xr.Dataset) -> xr.Dataset:
+    """`ds` (a sweep of `scenario`'s numbers) with the feasible window of `scenario`'s
+    limits: the grid mask ``feasible`` and the exact intervals of thermo.edges.with_edges
+    (``feasible_t_low`` / ``feasible_t_high``)."""
+    from thermo.edges import with_edges
+
+    ds = ds.copy()
+    ds["feasible"] = feasible_mask(ds, scenario.limits)
+    return with_edges(scenario, ds)
+
+
 def sweep(
     scenario: Scenario,
     *,
@@ -217,7 +228,8 @@ def sweep(
     Returns
     -------
     xarray.Dataset
-        The DESIGN.md contract plus ``feasible`` (all review limits met).
+        The DESIGN.md contract plus ``feasible`` (all review limits met at the node) and the
+        exact feasible temperature intervals of every row (:func:`apply_limits`).
     """
     axes = window_axes(scenario)
     shape = tuple(len(v) for v in axes.values())
@@ -235,7 +247,7 @@ def sweep(
             done += b - a
             if progress is not None:
                 progress(done, n)
-    return assemble(scenario, results)
+    return apply_limits(scenario, assemble(scenario, results))
 
 
 def _solve_distributed(scenario, chunks, workers, scheduler, progress, n):
@@ -377,5 +389,4 @@ class SweepCache:
                     self._store.popitem(last=False)
         ds = ds.copy()
         ds.attrs = dict(ds.attrs, title=scenario.title, scenario=scenario.to_toml())
-        ds["feasible"] = feasible_mask(ds, scenario.limits)
-        return ds
+        return apply_limits(scenario, ds)

@@ -1,0 +1,143 @@
+"""Margins, sensitivities, the best point and the exact feasible intervals, in display units.
+
+One place turns thermo.edges results into rows of text; the CLI prints them, the app and the
+review sheet put them in tables (every cell escaped by :mod:`explorer.safe`).
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from explorer import safe
+from thermo.edges import LIMITS, SENSITIVITY_QUANTITIES, BestPoint, Margins
+
+#: How each quantity is shown: (display scale per SI, unit, digits).
+_SHOWN = {
+    "methane_slip": (100.0, "mol % dry", 3),
+    "h2": (1.0, "mol/mol C", 4),
+    "duty": (1e-6, "MW", 3),
+    "carbon": (1.0, "ln a", 3),
+}
+#: Steps of the sensitivities as the tables name them.
+_STEP_WORDS = {"temperature": ("+5 K", 1.0), "pressure": ("+1 bar", 1e-5),
+               "steam_to_carbon": ("+0.1 S/C", 1.0)}
+
+MARGIN_HEAD = ["limit", "value", "limit value", "margin", "to its edge along T [K]",
+               "to its edge along S/C"]
+
+
+def _num(v, digits: int, signed: bool = False) -> str:
+    if v is None or not math.isfinite(v):
+        return "-"
+    return f"{v:+.{digits}f}" if signed else f"{v:.{digits}f}"
+
+
+def margin_rows(m: Margins) -> list[list[str]]:
+    """One row per active limit: value, limit, margin (positive inside) and the distances
+    to its edge, in display units."""
+    rows = []
+    for name, lm in m.limits.items():
+        scale, unit, digits = _SHOWN[name]
+        rows.append([
+            LIMITS[name].label,
+            f"{_num(lm.value * scale, digits)} {unit}",
+            f"{'max' if LIMITS[name].kind == 'max' else 'min'} "
+            f"{_num(lm.limit_value * scale, digits)} {unit}",
+            f"{_num(lm.margin * scale, digits, signed=True)} {unit}",
+            "no edge in the window" if lm.temperature_margin is None
+            else _num(lm.temperature_margin, 1, signed=True),
+            "no edge in the window" if lm.steam_to_carbon_margin is None
+            else _num(lm.steam_to_carbon_margin, 3, signed=True),
+        ])
+    return rows
+
+
+def sensitivity_head() -> list[str]:
+    return ["change of"] + [w for w, _ in _STEP_WORDS.values()]
+
+
+def sensitivity_rows(m: Margins) -> list[list[str]]:
+    """One row per quantity: its change for each step up an axis (central differences)."""
+    rows = []
+    for q, by_axis in m.sensitivities.items():
+        scale, unit, digits = _SHOWN[q]
+        rows.append([f"{SENSITIVITY_QUANTITIES[q][0]} [{unit}]"]
+                    + [_num(by_axis[a][1] * scale, digits + 1, signed=True)
+                       for a in _STEP_WORDS if a in by_axis])
+    return rows
+
+
+def _text_table(head: list[str], rows: list[list[str]]) -> list[str]:
+    widths = [max(len(str(r[i])) for r in [head, *rows]) for i in range(len(head))]
+    line = "  ".join(h.ljust(w) for h, w in zip(head, widths, strict=True))
+    out = [line, "-" * len(line)]
+    out += ["  ".join(str(c).ljust(w) for c, w in zip(r, widths, strict=True)) for r in rows]
+    return out
+
+
+def margins_text(m: Margins) -> str:
+    """The margins and sensitivities as aligned text (CLI)."""
+    lines = ["Margins to the review limits (positive inside the window)"]
+    lines += ["  " + s for s in _text_table(MARGIN_HEAD, margin_rows(m))] if m.limits else \
+        ["  no review limit is set"]
+    lines += ["", "Sensitivities (central differences through the core)"]
+    lines += ["  " + s for s in _text_table(sensitivity_head(), sensitivity_rows(m))]
+    return "\n".join(lines)
+
+
+def best_summary(bp: BestPoint) -> str:
+    """One sentence: where the best point is and its value, or which limit excludes most."""
+    o = bp.objective
+    if not bp.feasible:
+        share = bp.exclusion.get(bp.excluded_by or "", 0.0)
+        what = LIMITS[bp.excluded_by].label if bp.excluded_by in LIMITS else "the solver"
+        return (f"No point of the window meets every review limit; the {what} limit "
+                f"excludes the most of it ({share * 100:.0f} % of the grid points).")
+    c = bp.coordinates
+    where = (f"{c['temperature'] - 273.15:.1f} degC, {c['pressure'] / 1e5:.3f} bar abs, "
+             f"S/C {c['steam_to_carbon']:.3f}")
+    for d, label in (("oxygen_to_carbon", "O2/C"), ("co2_to_carbon", "CO2/C")):
+        if d in c:
+            where += f", {label} {c[d]:.3f}"
+    return (f"Best point for {o.label}: {where}; {o.name.replace('_', ' ')} "
+            f"{bp.value * o.scale:.4g} {o.unit} (best grid node {bp.grid_value * o.scale:.4g}).")
+
+
+def best_text(bp: BestPoint) -> str:
+    """The best point, its balance and its margins as text (CLI ``explorer best``)."""
+    from explorer.report import point_report
+
+    parts = [best_summary(bp)]
+    if bp.feasible:
+        parts += ["", point_report(bp.point), "", margins_text(bp.margins)]
+    else:
+        parts += ["Share of grid points each limit excludes: "
+                  + ", ".join(f"{k} {v * 100:.0f} %" for k, v in bp.exclusion.items())]
+    return "\n".join(parts)
+
+
+def table_html(head: list[str], rows: list[list[str]], kind: str,
+               cls: str = "rw-table") -> safe.SafeHTML:
+    """A table of text cells, each escaped; `kind` names it (``data-table``)."""
+    cell = safe.SafeHTML("")
+    h = cell.join(safe.html("<th>{}</th>", c) for c in head)
+    b = cell.join(safe.html("<tr>{}</tr>", cell.join(safe.html("<td>{}</td>", c) for c in r))
+                  for r in rows)
+    return safe.html('<table class="{}" data-table="{}"><thead><tr>{}</tr></thead>'
+                     "<tbody>{}</tbody></table>", cls, kind, h, b)
+
+
+def margins_html(m: Margins, cls: str = "rw-table") -> safe.SafeHTML:
+    """The margins and sensitivities tables as HTML (cells escaped)."""
+    return (table_html(MARGIN_HEAD, margin_rows(m), "margins", cls)
+            + table_html(sensitivity_head(), sensitivity_rows(m), "sensitivities", cls))
+
+
+def intervals_text(lows, highs) -> str:
+    """Exact feasible intervals [K arrays, NaN-padded] as degC text ('none' if empty)."""
+    parts = [f"{a - 273.15:.1f}-{b - 273.15:.1f}" if b - a > 0.05 else f"{a - 273.15:.1f}"
+             for a, b in zip(np.asarray(lows), np.asarray(highs), strict=True)
+             if np.isfinite(a)]
+    return ", ".join(parts) if parts else "none"
