@@ -448,6 +448,7 @@ def finish(local: dict, path: list[PathMaximum], T, check: CarbonCheck) -> dict:
                                       stage)
         with np.errstate(over="ignore"):
             out["carbon_activity_path_max_catalyst"] = np.exp(cat.ln_activity)
+            out["carbon_path_max_temperature_catalyst"] = cat.temperature
             out["carbon_activity_real_gas_catalyst"] = np.exp(ln_real_cat)
         out["carbon_verdict_ln_activity_graphite"] = ln_v_gr
         out["carbon_verdict_ln_activity_catalyst"] = ln_v_cat
@@ -533,6 +534,16 @@ def point_check(train_result, temperature, pressure, approach, start, check: Car
     dict of flat arrays (the Dataset's carbon variables)
     """
     loc = local_terms(train_result, temperature, pressure, approach, check)
+    return points_check(loc, temperature, pressure, approach, start, check)
+
+
+def points_check(loc: dict, temperature, pressure, approach, start, check: CarbonCheck):
+    """The carbon check of N points from their :func:`local_terms`, each on its own path.
+
+    The same as :func:`point_check` for points whose train is already solved (the exact
+    edges of thermo.edges evaluate arbitrary points through thermo.sweep.train_results,
+    which returns these local terms).
+    """
     N = loc["elements"].shape[0]
     T = np.broadcast_to(np.asarray(temperature, dtype=float), (N,))
     P = np.broadcast_to(np.asarray(pressure, dtype=float), (N,))
@@ -545,6 +556,46 @@ def point_check(train_result, temperature, pressure, approach, start, check: Car
     path = [PathMaximum(np.concatenate([r.ln_activity[:, 0] for r in rs]),
                         np.concatenate([r.temperature[:, 0] for r in rs])) for rs in per]
     return finish(loc, path, T, check)
+
+
+def path_from_nodes(loc: dict, T, approach: float, check: CarbonCheck, T_below,
+                    below: list[PathMaximum], above: list[PathMaximum]) -> list[PathMaximum]:
+    """Path maxima of points that lie between two outlet temperatures already solved.
+
+    A point at outlet temperature T with T_below <= T <= T_above, on the same line (feed,
+    pressure) as two solved outlets, has the path of the lower one extended from T_below to T.
+    Its maximum is the lower outlet's, the gas at T itself (``loc["ln_outlet"]``, the path's
+    function at its end), or the upper outlet's maximum where that one lies in (T_below, T]:
+    exact where the path's activity has at most one local maximum between the two outlets,
+    the same condition the refinement of :func:`path_maxima` works under.
+
+    Parameters
+    ----------
+    loc : dict
+        :func:`local_terms` of the N points.
+    T, T_below : array_like (N,)
+        Outlet temperature of each point and of the solved outlet below it [K]. The path's last
+        fixed temperature (inlet or last station) must not exceed T_below.
+    approach : float
+        Approach to equilibrium [K].
+    check : CarbonCheck
+    below, above : list of PathMaximum
+        Path maxima (flat (N,) arrays) of the solved outlets below and above, per carbon of
+        :func:`offsets`.
+    """
+    T = np.asarray(T, dtype=float)
+    T_below = np.asarray(T_below, dtype=float)
+    out = []
+    for off, lo, hi in zip(offsets(check), below, above, strict=True):
+        with np.errstate(invalid="ignore"):
+            end = loc["ln_outlet"] - off / (R * (T - approach))
+            take_hi = (hi.temperature > T_below) & (hi.temperature <= T) & (
+                hi.ln_activity >= lo.ln_activity)
+            v = np.where(take_hi, hi.ln_activity, lo.ln_activity)
+            t = np.where(take_hi, hi.temperature, lo.temperature)
+            up = end >= v
+        out.append(PathMaximum(np.where(up, end, v), np.where(up, T, t)))
+    return out
 
 
 #: Dataset variables of the check: (units, long_name).
@@ -568,6 +619,8 @@ VARIABLES: dict[str, tuple[str, str]] = {
                                    "their cracking temperature"),
     "carbon_other_stage": ("1", "graphite at equilibrium in another reforming stage"),
     "carbon_activity_path_max_catalyst": ("1", "path maximum referred to catalyst carbon"),
+    "carbon_path_max_temperature_catalyst": ("K", "gas temperature of the path maximum "
+                                             "referred to catalyst carbon"),
     "carbon_activity_real_gas_catalyst": ("1", "real-gas maximum referred to catalyst carbon"),
     "carbon_verdict_ln_activity_graphite": ("1", "carbon verdict field on graphite"),
     "carbon_verdict_ln_activity_catalyst": ("1", "carbon verdict field on catalyst carbon"),

@@ -31,8 +31,15 @@ from dataclasses import dataclass, field
 import numpy as np
 import xarray as xr
 
+from thermo import carbon
 from thermo.scenario import Limits, Scenario
-from thermo.sweep import LIMIT_VARIABLES, RATIO_AXES, train_results, window_axes
+from thermo.sweep import (
+    _CARBON_LOCAL,
+    LIMIT_VARIABLES,
+    RATIO_AXES,
+    train_results,
+    window_axes,
+)
 
 #: Edges are located to this width [K] (the reported edge is the middle of the last bracket,
 #: so it lies within half of it of the true crossing).
@@ -145,7 +152,7 @@ def _ok_fields(ds: xr.Dataset, limits: Limits) -> dict[str, xr.DataArray]:
 
 
 def evaluate(scenario: Scenario, temperature, pressure, steam_to_carbon=None,
-             oxygen_to_carbon=None, co2_to_carbon=None) -> xr.Dataset:
+             oxygen_to_carbon=None, co2_to_carbon=None, *, path_nodes=None) -> xr.Dataset:
     """The Dataset's per-point variables at N arbitrary points, over a ``point`` dimension.
 
     Parameters
@@ -156,6 +163,11 @@ def evaluate(scenario: Scenario, temperature, pressure, steam_to_carbon=None,
         Outlet temperature [K] and absolute pressure [Pa], broadcast together.
     steam_to_carbon, oxygen_to_carbon, co2_to_carbon : array_like, optional
         Ratios [mol per mol hydrocarbon carbon].
+    path_nodes : (ndarray, list of PathMaximum, list of PathMaximum), optional
+        For points that lie between two solved outlets of their row: the lower outlet
+        temperature [K] and the path maxima there and at the upper one
+        (:func:`thermo.carbon.path_from_nodes`). Without it every point's carbon path is
+        solved on its own (:func:`thermo.carbon.points_check`).
 
     Returns
     -------
@@ -177,6 +189,16 @@ def evaluate(scenario: Scenario, temperature, pressure, steam_to_carbon=None,
                                      ratio(co2_to_carbon))
     n_in = np.broadcast_to(n_in.reshape(n_in.shape[0], -1).T, (T.size, n_in.shape[0]))
     res = train_results(scenario, np.ascontiguousarray(n_in), T, P)
+    local = {k[len(_CARBON_LOCAL):]: res.pop(k) for k in list(res)
+             if k.startswith(_CARBON_LOCAL)}
+    if path_nodes is None:
+        res.update(carbon.points_check(local, T, P, scenario.approach,
+                                       scenario.feed.inlet_temperature, scenario.carbon))
+    else:
+        T_below, below, above = path_nodes
+        path = carbon.path_from_nodes(local, T, scenario.approach, scenario.carbon, T_below,
+                                      below, above)
+        res.update(carbon.finish(local, path, T, scenario.carbon))
     data = {k: ("point", v) for k, v in res.items() if np.ndim(v) == 1}
     ds = xr.Dataset(data, coords={"temperature": ("point", T), "pressure": ("point", P)})
     ds["converged"] = ds["converged"].astype(bool)
@@ -227,13 +249,43 @@ class RowEdges:
 
 
 def _row_points(scenario: Scenario, row_coords: dict[str, np.ndarray], rows: np.ndarray,
-                T: np.ndarray) -> xr.Dataset:
+                T: np.ndarray, path_nodes=None) -> xr.Dataset:
     """The core at temperatures `T` on rows `rows` (flat row indexes)."""
     shape = tuple(len(v) for v in row_coords.values())
     idx = np.unravel_index(rows, shape) if shape else ()
     coords = {d: row_coords[d][i] for d, i in zip(row_coords, idx, strict=True)}
     return evaluate(scenario, T, coords["pressure"], coords.get("steam_to_carbon"),
-                    coords.get("oxygen_to_carbon"), coords.get("co2_to_carbon"))
+                    coords.get("oxygen_to_carbon"), coords.get("co2_to_carbon"),
+                    path_nodes=path_nodes)
+
+
+#: The Dataset's path maxima per carbon of thermo.carbon.offsets: (ln activity variable
+#: [as activity], path temperature variable).
+_PATH_VARIABLES = (("carbon_activity_path_max", "carbon_path_max_temperature"),
+                   ("carbon_activity_path_max_catalyst", "carbon_path_max_temperature_catalyst"))
+
+
+def _path_nodes(scenario: Scenario, ds: xr.Dataset, row_dims, rows, steps, T):
+    """Path maxima of the grid outlets around each bracket (see :func:`evaluate`), or None
+    where the path's fixed part reaches above a bracket's lower node (then each point's path
+    is solved on its own)."""
+    check = scenario.carbon
+    fixed_top = max([scenario.feed.inlet_temperature, *check.path_temperatures])
+    if (rows.size == 0 or np.any(np.diff(T) <= 0)
+            or fixed_top > float(T[steps].min()) + 1e-9):
+        return None
+    below, above = [], []
+    for (a_var, t_var), _off in zip(_PATH_VARIABLES, carbon.offsets(check), strict=False):
+        if a_var not in ds or t_var not in ds:
+            return None
+        with np.errstate(divide="ignore"):
+            ln = np.log(np.asarray(ds[a_var].transpose(*row_dims, "temperature").values,
+                                   dtype=float).reshape(-1, T.size))
+        tp = np.asarray(ds[t_var].transpose(*row_dims, "temperature").values,
+                        dtype=float).reshape(-1, T.size)
+        below.append(carbon.PathMaximum(ln[rows, steps], tp[rows, steps]))
+        above.append(carbon.PathMaximum(ln[rows, steps + 1], tp[rows, steps + 1]))
+    return T[steps], below, above
 
 
 def _curvature_warning(g: np.ndarray, T: np.ndarray) -> np.ndarray:
@@ -309,9 +361,10 @@ def feasible_intervals(scenario: Scenario, ds: xr.Dataset,
     lo, hi = T[step_i].copy(), T[step_i + 1].copy()
     ok_lo = np.array([ok[names[k]][r, i] for k, r, i in zip(lim_i, row_i, step_i, strict=True)],
                      dtype=bool)
+    path_nodes = _path_nodes(scenario, ds, row_dims, row_i, step_i, T)
     while lo.size and float(np.max(hi - lo)) > tolerance:
         mid = 0.5 * (lo + hi)
-        pts = _row_points(scenario, row_coords, row_i, mid)
+        pts = _row_points(scenario, row_coords, row_i, mid, path_nodes)
         okp = _ok_fields(pts, limits)
         okm = np.array([bool(okp[names[k]].values[n]) for n, k in enumerate(lim_i)], dtype=bool)
         go_up = okm == ok_lo
