@@ -98,7 +98,7 @@ class PointResult:
         return {s: float(v) for s, v in zip(GAS_SPECIES, np.asarray(array)[0], strict=True)}
 
     def to_dict(self) -> dict:
-        """The strict-JSON object of ``explorer point --json`` (DESIGN.md contract).
+        """The strict-JSON object of ``explorer point --json`` (the project's contract).
 
         Non-finite numbers (H2/CO with no CO in the outlet) become None.
         """

@@ -51,7 +51,7 @@ def test_options_override_the_scenario_and_gauge_pressure_is_understood(capsys):
                        "--approach", "0 K", "--json")
     assert code == 0
     d = json.loads(out)
-    # DOMAIN.md: gauge pressure is absolute minus 1.01325 bar.
+    # Gauge pressure is absolute minus 1 atm = 1.01325 bar (NIST-SP811 for the atmosphere).
     assert d["pressure_Pa"] == pytest.approx(24e5 + 101325.0, rel=1e-15)
     assert d["co2_to_carbon"] == 0.5
     assert d["inlet"]["temperature_K"] == pytest.approx(773.15)

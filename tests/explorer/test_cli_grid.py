@@ -1,7 +1,7 @@
 """The `explorer grid` command: writes a readable grid file; user errors are one line, exit 2.
 
 No published numbers here: the window is a choice (5 x 3 x 4 = 60 points, small enough to
-solve in well under a second) and the exit status 2 is the DESIGN.md CLI contract.
+solve in well under a second) and exit status 2 is the CLI's contract for user error (README).
 """
 
 from __future__ import annotations

@@ -152,7 +152,7 @@ def test_review_table_closure_is_what_balance_html_prints():
     assert _shown(balance_html(d), ",") == {"C": 3.2e-11, "H": 0.0, "O": 7.5e-14, "N": 1.0}
 
 
-@pytest.mark.skipif(NODE is None, reason="Node.js is not installed")
+@pytest.mark.usefixtures("node")  # skips without Node.js, fails in CI (tests/conftest.py)
 def test_review_file_closure_is_the_closure_of_its_flows(tmp_path):
     """The review file's script (review.js under Node.js) assembles, at every node of a small
     window, an element_closure equal to the exact closure of the flows it assembles, and its

@@ -3,7 +3,7 @@
 Sources of the numbers used here:
 
 * standard heats of reaction at 298.15 K: NIST-JANAF (Chase 1998) formation enthalpies from
-  tests/references/janaf_formation.toml, and the rounded reaction heats DOMAIN.md quotes from
+  tests/references/janaf_formation.toml, and the reaction heats rounded to 0.1 kJ/mol from
   the same tables (reforming +206.2, shift -41.2 kJ/mol);
 * directions of change of methane slip: common practice, no source (marked at the test);
 * everything else is a closure or consistency property of the definitions (no number).
@@ -119,7 +119,7 @@ def test_methane_slip_directions():
     """Common practice, no source: at equilibrium and without carbon, the dry methane slip
     falls as temperature rises, falls as steam-to-carbon rises, and rises with pressure
     (reforming is endothermic and makes 2 mol of gas per mol). Checked over the typical
-    operating ranges of DOMAIN.md (common practice): 700-950 degC, 10-40 bar, S/C 2-5."""
+    operating ranges (common practice, no source): 700-950 degC, 10-40 bar, S/C 2-5."""
     T = np.linspace(973.15, 1223.15, 6)
     P = np.linspace(10e5, 40e5, 4)
     SC = np.linspace(2.0, 5.0, 4)
@@ -145,8 +145,8 @@ def _janaf_dfH(species):
 
 
 def test_standard_heats_of_reaction_at_298K():
-    """Reforming +206.2 and shift -41.2 kJ/mol (NIST-JANAF, Chase 1998, as quoted in
-    DOMAIN.md), and the same from JANAF's formation enthalpies in
+    """Reforming +206.2 and shift -41.2 kJ/mol (NIST-JANAF, Chase 1998, rounded to 0.1, as
+    test_species_data.HEATS_298), and the same from JANAF's formation enthalpies in
     tests/references/janaf_formation.toml. Tolerance 0.5 kJ/mol: the model's GRI-Mech CH4
     formation enthalpy is 0.27 kJ/mol less negative than JANAF's (data-set difference, see
     that file), plus rounding of the quoted heats to 0.1 kJ/mol."""
@@ -154,8 +154,8 @@ def test_standard_heats_of_reaction_at_298K():
     r = pt.to_dict()["reactions"]
     ref_kJ = r["reforming"]["heat_298_J_per_mol"] / 1000
     shift_kJ = r["shift"]["heat_298_J_per_mol"] / 1000
-    assert ref_kJ == pytest.approx(206.2, abs=0.5)  # NIST-JANAF (Chase 1998), DOMAIN.md
-    assert shift_kJ == pytest.approx(-41.2, abs=0.5)  # NIST-JANAF (Chase 1998), DOMAIN.md
+    assert ref_kJ == pytest.approx(206.2, abs=0.5)  # NIST-JANAF (Chase 1998), rounded
+    assert shift_kJ == pytest.approx(-41.2, abs=0.5)  # NIST-JANAF (Chase 1998), rounded
     janaf_ref = _janaf_dfH("CO") + 3 * _janaf_dfH("H2") - _janaf_dfH("CH4") - _janaf_dfH("H2O")
     janaf_shift = _janaf_dfH("CO2") + _janaf_dfH("H2") - _janaf_dfH("CO") - _janaf_dfH("H2O")
     assert ref_kJ == pytest.approx(janaf_ref, abs=0.5)

@@ -45,9 +45,8 @@ LNAC_TOL = 1e-9
 TRACE = 1e-12
 
 #: Smallest nonzero amount of any fed species drawn [mol per mol of the other feed, about].
-#: Elements fed at below about 1e-6 of the total atoms are a known failure (see the trace
-#: tests at the end), so the general properties are drawn at 1e-4 and above, a factor 100
-#: from where the failures start, and the trace case is tested on its own.
+#: The general properties are drawn at 1e-4 and above; elements fed in traces (1e-30 to 1e-9
+#: of the carbon, and below TRACE_LIMIT) are tested on their own by the trace tests at the end.
 SMALLEST = 1e-4
 
 

@@ -7,7 +7,7 @@ records declare (see ``tests/thermo/cantera_ref.py``). With identical data the t
 differ only by solver precision, so tolerances are tight:
 
 * mole fractions: |dx| <= 1e-8 absolute. Cantera's multiphase solver is precise to about 1e-7
-  relative on trace species (SOLVER-NOTES.md), i.e. far below 1e-8 absolute; the project's
+  relative on trace species (seen with Cantera 3.2, no source), far below 1e-8 absolute; our
   solver closes element balances to 1e-10 relative. 1e-8 leaves room for the former.
 * graphite amount: see CARBON_RTOL.
 * duty: 1e-6 of the inlet enthalpy flow's magnitude (mixture enthalpies are sums of the same
@@ -233,7 +233,7 @@ def test_trace_species_finite(extremes):
     x = extremes["eq"].mole_fractions[k, IDX["O2"]]
     x_ct = extremes["ct_x"][k, IDX["O2"]]
     assert np.isfinite(x) and 0 < x < 1e-30
-    # Relative: Cantera is precise to ~1e-7 relative on trace species (SOLVER-NOTES.md).
+    # Relative: Cantera is precise to ~1e-7 relative on trace species (module docstring).
     assert abs(x / x_ct - 1) <= 1e-6
 
 

@@ -190,7 +190,7 @@ def test_shift_alone_agrees_with_minimization_where_methane_is_absent(T, P):
 
     On this CO + H2O + CO2 + H2 feed the full solver's CH4 exceeds 1e-7 below about 1400 K at
     1 bar (shift converters, far colder, are treated as shift-only because methanation is
-    kinetically frozen there: DOMAIN.md, common practice, no source), so this
+    kinetically frozen there: common practice, no source), so this
     comparison is made hot and at low pressure, where the full solver's CH4 is below 1e-7 and
     no graphite forms (both checked); the extent method's missing CH4 then moves the other
     mole fractions by < 1e-6. (At 1373 K and 1 bar CH4 is still 2e-7, at 1273 K 1.2e-6.)

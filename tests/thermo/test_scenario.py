@@ -65,7 +65,7 @@ def test_base_parses_to_si():
     s = sc.parse_scenario(BASE, "base.toml")
     assert s.path == "base.toml" and s.text == BASE
     assert s.temperature == pytest.approx(1123.15, rel=1e-15)  # 850 degC + 273.15 (definition)
-    assert s.pressure == pytest.approx(2601325.0, rel=1e-15)  # 25 barg, DOMAIN.md
+    assert s.pressure == pytest.approx(2601325.0, rel=1e-15)  # 25 barg + 1 atm (NIST-SP811)
     assert s.approach == 10.0
     assert s.feed.flow == pytest.approx(1000.0 / 3.6, rel=1e-15)  # kmol/h to mol/s
     assert s.feed.inlet_temperature == pytest.approx(773.15, rel=1e-15)
@@ -80,7 +80,7 @@ def test_base_parses_to_si():
 
 def test_carbon_flow_counts_hydrocarbon_carbon_only():
     feed = sc.parse_scenario(BASE).feed
-    # DOMAIN.md: CH4 counts 1, C2H6 2; CO2 does not count.
+    # S/C (common practice, no source): CH4 counts 1, C2H6 2; CO2 does not count.
     assert feed.carbon_flow() == pytest.approx(feed.flow * (0.90 + 2 * 0.05), rel=1e-14)
 
 

@@ -250,32 +250,32 @@ def test_log10K_with_per_record_pressures(reaction):
 
 # ----------------------------------------------------- standard heats and K = 1 temperatures
 
-# DOMAIN.md, "Reference values for checks": standard heats at 298.15 K from NIST-JANAF
+# Standard heats at 298.15 K rounded to 0.1 kJ/mol from the formation enthalpies of NIST-JANAF
 # (Chase 1998) [kJ mol-1].
 HEATS_298 = {
-    "reforming": 206.2,  # DOMAIN.md (JANAF1998)
-    "shift": -41.2,  # DOMAIN.md (JANAF1998)
-    "cracking": 74.9,  # DOMAIN.md (JANAF1998)
-    "boudouard": -172.5,  # DOMAIN.md (JANAF1998)
+    "reforming": 206.2,  # JANAF1998: -110.527 + 74.873 + 241.826 = 206.172
+    "shift": -41.2,  # JANAF1998: -393.522 + 110.527 + 241.826 = -41.169
+    "cracking": 74.9,  # JANAF1998: 0 + 0 + 74.873
+    "boudouard": -172.5,  # JANAF1998: -393.522 + 2 x 110.527 = -172.468
 }
 
 
 @pytest.mark.parametrize("reaction", list(HEATS_298))
 def test_standard_heat_of_reaction(reaction):
     # Tolerance 0.5 kJ/mol: data-set difference in CH4's formation enthalpy (-74.87 JANAF vs
-    # -74.60 GRI-Mech, DOMAIN.md); measured model - JANAF: reforming -0.31, shift +0.05,
+    # -74.60 GRI-Mech, GRI30 and JANAF1998); measured model - JANAF: reforming -0.31, shift +0.05,
     # cracking -0.30, Boudouard +0.05 kJ/mol.
     dH = sum(v * model_H_kJ(k, 298.15) for k, v in REACTIONS[reaction].items())
     assert dH == pytest.approx(HEATS_298[reaction], abs=0.5)
 
 
-# DOMAIN.md, "Reference values for checks": temperatures where K = 1, from JANAF [K], given
+# Temperatures where K = 1, read off NIST-JANAF's log10 K rows (JANAF1998) to 1 K [K], given
 # as "about" (1 bar basis).
 K_EQUALS_ONE_DOMAIN = {
-    "reforming": 893.0,  # DOMAIN.md (JANAF1998), bar basis
-    "shift": 1097.0,  # DOMAIN.md (JANAF1998)
-    "cracking": 822.0,  # DOMAIN.md (JANAF1998)
-    "boudouard": 976.0,  # DOMAIN.md (JANAF1998)
+    "reforming": 893.0,  # JANAF1998, bar basis
+    "shift": 1097.0,  # JANAF1998
+    "cracking": 822.0,  # JANAF1998
+    "boudouard": 976.0,  # JANAF1998
 }
 
 #: Allowed |model - JANAF| of the K = 1 temperature [K] and why. Measured model minus JANAF
@@ -296,7 +296,7 @@ def _janaf_K_equals_one(reaction: str, in_inverse_T: bool) -> float:
     """T where JANAF's log10 K (janaf_logK.toml, 100 K rows) crosses 0 [K].
 
     Linear interpolation between the two rows around the sign change, in 1/T (log K is
-    nearly linear in 1/T: van 't Hoff) or, for comparison with DOMAIN.md, in T.
+    nearly linear in 1/T: van 't Hoff) or, for comparison with K_EQUALS_ONE_DOMAIN, in T.
     """
     pts = sorted((r.T_K, r.value) for r in load_refs("janaf_logK.toml", subject=reaction))
     (T1, k1), (T2, k2) = next(
@@ -320,7 +320,7 @@ def test_temperature_where_K_is_one(reaction):
 
 @pytest.mark.parametrize("reaction", list(K_EQUALS_ONE_DOMAIN))
 def test_domain_K_equals_one_figures_are_linear_in_T(reaction):
-    # Provenance of DOMAIN.md's figures (not a model check): they are JANAF's rows interpolated
+    # Provenance of K_EQUALS_ONE_DOMAIN (not a model check): they are JANAF's rows interpolated
     # linearly in T (893.03, 1096.88, 821.64, 975.46 K), printed to 1 K: tolerance 0.6 K =
     # rounding 0.5 + 0.1. The 1/T interpolation used above is 0.3-2.0 K lower.
     T_lin = _janaf_K_equals_one(reaction, in_inverse_T=False)
@@ -499,7 +499,7 @@ def test_range_limits_themselves_are_accepted(name):
 
 @pytest.mark.parametrize("name", ALL_SPECIES)
 def test_low_range_used_at_exactly_t_mid(name):
-    # SOLVER-NOTES.md: use the low range at exactly t_mid (as Cantera does). Equality up to
+    # Common practice, no source: the low range at exactly t_mid (as in Cantera). Equality up to
     # the different order of float operations (1e-13 relative).
     # s/R includes the record's standard-pressure shift (0 except N2, Ar).
     rec = sp.record(name)
@@ -520,6 +520,6 @@ def test_graphite_pressure_term():
     assert float(sp.graphite_mu_RT(T, P)) == pytest.approx(
         float(sp.g_RT(T, sp.GRAPHITE)) + term, rel=1e-12
     )
-    # SOLVER-NOTES.md: "0.0026 at 40 bar" (printed to 2 significant digits).
+    # thermo.species.graphite_mu_RT's docstring: "about 0.0026 at 40 bar and 1000 K".
     assert term == pytest.approx(0.0026, abs=0.00005)
     assert float(sp.graphite_mu_RT(T, P_REF)) == float(sp.g_RT(T, sp.GRAPHITE))

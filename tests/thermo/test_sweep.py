@@ -26,7 +26,7 @@ from thermo.scenario import Limits
 from thermo.species import GAS_SPECIES, formula_matrix, gas_table, graphite_mu_RT
 from thermo.sweep import SCHEMA_VERSION, SweepCache, feasible_mask, sweep
 
-# DESIGN.md, "Dataset contract": variable -> (dims beyond the window, units attribute).
+# The Dataset contract (thermo/sweep.py): variable -> (dims beyond the window, units attribute).
 # "window" dims are the axes present; inlet_flow is over the ratio axes only (handled apart).
 CONTRACT = {
     "mole_fraction": (("species",), "1"),
@@ -39,14 +39,14 @@ CONTRACT = {
     "methane_conversion": ((), "1"),
     "h2_co_ratio": ((), "1"),
     "duty": ((), "W"),
-    # DESIGN.md lists "bool" for converged: the dtype; its units attribute is the UDUNITS "1".
+    # The contract lists "bool" for converged: the dtype; its units attribute is the UDUNITS "1".
     "converged": ((), "1"),
 }
 CONTRACT_VARS = tuple(CONTRACT) + ("inlet_flow",)
 RATIO_AXES = ("steam_to_carbon", "oxygen_to_carbon", "co2_to_carbon")
-SPECIES = ("CH4", "C2H6", "C3H8", "H2O", "H2", "CO", "CO2", "O2", "N2", "Ar")  # DESIGN.md
+SPECIES = ("CH4", "C2H6", "C3H8", "H2O", "H2", "CO", "CO2", "O2", "N2", "Ar")  # the contract
 
-# Relative tolerance of grid == point: the DESIGN.md contract ("to 1e-9 relative").
+# Relative tolerance of grid == point: the Dataset contract ("to 1e-9 relative").
 GRID_POINT_RTOL = 1e-9
 
 # Window of the demo scenario used by most tests: 5 x 3 x 4 = 60 points. The S/C range
@@ -131,7 +131,7 @@ def test_dataset_follows_the_contract(ds, sc):
     assert ds.attrs["thermo_version"] == thermo.__version__
     assert thermo.parse_scenario(ds.attrs["scenario"]) == sc
     sources = ds.attrs["data_sources"]
-    # The two data sources DESIGN.md names for the species data.
+    # The two data sources of the species data (GRI30, TM4513).
     assert "GRI-Mech 3.0" in sources and "4513" in sources
     # No NaN in any contract variable; h2_co_ratio is non-finite only as +inf where no CO.
     for name in CONTRACT_VARS:
@@ -152,7 +152,7 @@ def test_dataset_follows_the_contract(ds, sc):
 def test_inlet_flow_is_the_feed_at_each_steam_to_carbon(ds, sc):
     carbon = sc.feed.carbon_flow()
     h2o = ds["inlet_flow"].sel(species="H2O")
-    # H2O in = S/C x hydrocarbon carbon (DESIGN.md definition of S/C); rtol: float round-off.
+    # H2O in = S/C x hydrocarbon carbon (S/C, common practice); rtol: float round-off.
     np.testing.assert_allclose(h2o, ds["steam_to_carbon"] * carbon, rtol=1e-14)
     ch4 = ds["inlet_flow"].sel(species="CH4").values
     assert (ch4 == ch4[0]).all()  # the dry gas does not depend on S/C
@@ -238,8 +238,6 @@ def test_chunking_changes_nothing_and_progress_counts_up(sc, ds):
 
 
 def test_grid_matches_cantera_including_carbon():
-    if not (Path(__file__).parent / "cantera_ref.py").is_file():
-        pytest.skip("tests/thermo/cantera_ref.py (the Cantera builder) is not there yet")
     pytest.importorskip("cantera")
     from tests.thermo import cantera_ref
     # Down to S/C 0.2 and 500 degC, 1 bar, so that a good part of the window deposits carbon.
@@ -255,7 +253,7 @@ def test_grid_matches_cantera_including_carbon():
     for flat in rng.choice(int(np.prod(shape)), size=20, replace=False):
         idx = dict(zip(dims, np.unravel_index(int(flat), shape), strict=True))
         g = d.isel(idx)
-        # The composition is the equilibrium at T - approach (DESIGN.md, approach).
+        # The composition is the equilibrium at T - approach (README, Method).
         T = float(g["temperature"]) - approach
         inlet = d["inlet_flow"].isel(steam_to_carbon=idx["steam_to_carbon"]).values
         moles, n_carbon = cantera_ref.equilibrate(T, float(g["pressure"]), inlet)
@@ -308,7 +306,7 @@ def test_carbon_region_equals_single_point_calls():
                 single[i, j, k] = eq.carbon[0] > 0
     np.testing.assert_array_equal(region, single)
     assert region.any() and not region.all()  # the window straddles the boundary
-    # Carbon activity is 1 where carbon deposits (DESIGN.md); rtol: round-off of exp(0).
+    # Carbon activity is 1 where carbon deposits (Dataset contract); rtol: round-off of exp(0).
     np.testing.assert_allclose(d["carbon_activity"].values[region], 1.0, rtol=1e-12)
 
 
@@ -486,7 +484,7 @@ DASK_TIMEOUT_S = 180
 
 
 def _assert_same_numbers(a: xr.Dataset, b: xr.Dataset) -> None:
-    # 1e-9 relative: the DESIGN.md grid tolerance; workers run the same code on the same
+    # 1e-9 relative: the contract's grid tolerance; workers run the same code on the same
     # inputs, so in practice the numbers are equal.
     xr.testing.assert_allclose(a.drop_vars(["converged", "feasible"]),
                                b.drop_vars(["converged", "feasible"]), rtol=1e-9, atol=0)

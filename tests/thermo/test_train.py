@@ -1,7 +1,9 @@
 """The reforming train: shift stages, adiabatic stages, train totals and the scenario keys.
 
 References: the shift stage against the extent-of-reaction solution of the shift reaction
-alone (thermo.extent, itself checked against NIST-JANAF K values in test_extent.py); the
+alone (thermo.extent, checked against its definitions and the full minimization in
+test_extent.py; its K comes from species data checked against NIST-JANAF log10 K in
+test_species_data.py); the
 adiabatic stages against energy-balance closure and against Cantera's HP equilibrium
 (https://cantera.org, a general-purpose reference library, tests only) on the same
 GRI-Mech 3.0 species data.
@@ -33,7 +35,7 @@ from thermo.train import shift_equilibrium, train_balance
 IX = {s: i for i, s in enumerate(GAS_SPECIES)}
 
 #: A whole train on the demo feed. Its temperatures, ratios and approaches are test inputs in
-#: the usual ranges (common practice, no source; DOMAIN.md gives the shift inlet ranges).
+#: the usual ranges (common practice, no source, as are the shift inlet ranges).
 FULL_TRAIN = """
 [train.pre_reformer]
 inlet_temperature = "490 degC"
@@ -306,7 +308,7 @@ def train_ds(full):
 
 
 def test_train_grid_equals_point(train_ds):
-    """DESIGN.md: grid values equal point() at the same coordinates to 1e-9 relative."""
+    """Grid values equal point() at the same coordinates to 1e-9 relative (Dataset contract)."""
     win, ds = train_ds
     assert ds.attrs["train"] == ", ".join(win.train.stages())
     rng = np.random.default_rng(7)

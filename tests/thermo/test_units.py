@@ -11,7 +11,7 @@ from thermo.constants import V_NORMAL
 from thermo.errors import InputError
 
 # One standard atmosphere is 101325 Pa exactly (10th CGPM 1954, resolution 4; from memory).
-# DOMAIN.md: "25 barg" must be understood as 26.01325 bar absolute.
+# "25 barg" is 26.01325 bar absolute: gauge + 1 atm (1 atm = 1.01325 bar, NIST-SP811).
 ATM_PA = 101325.0
 
 
@@ -23,7 +23,7 @@ ATM_PA = 101325.0
     ["25 barg", "25 bar(g)", "25 bar (g)", "25 bar g", "25barg", "25 bar(G)", "2.5e1 barg"],
 )
 def test_gauge_bar_is_absolute_plus_one_atmosphere(text):
-    # DOMAIN.md: 25 barg = 26.01325 bar absolute = 2601325 Pa.
+    # 25 barg = 26.01325 bar absolute = 2601325 Pa (1 atm = 101325 Pa, NIST-SP811).
     assert units.pressure_Pa(text, "pressure") == pytest.approx(2601325.0, rel=1e-15)
 
 
@@ -69,7 +69,7 @@ def test_pressure_must_be_positive_absolute():
 
 
 def test_small_vacuum_gauge_is_fine():
-    # -0.5 barg is 0.51325 bar absolute (gauge + 1 atm, DOMAIN.md).
+    # -0.5 barg is 0.51325 bar absolute (gauge + 1 atm, NIST-SP811).
     assert units.pressure_Pa("-0.5 barg", "p") == pytest.approx(51325.0, rel=1e-15)
 
 
