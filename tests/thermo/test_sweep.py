@@ -119,6 +119,9 @@ def _check_contract(d: xr.Dataset, window_dims: tuple[str, ...]) -> None:
 
 
 def test_dataset_follows_the_contract(ds, sc):
+    """The demo Dataset has the contract's variables, dims and units; SI coordinates; the
+    version, scenario text (read back equal) and data sources as attributes; no NaN; h2_co_ratio
+    +inf exactly where no CO; every point converged."""
     _check_contract(ds, ("temperature", "pressure", "steam_to_carbon"))
     # Coordinates in SI: 273.15 K is the degC offset and 1 bar = 1e5 Pa, both by definition
     # (SI Brochure, 9th ed., 2019, from memory).
@@ -150,6 +153,8 @@ def test_dataset_follows_the_contract(ds, sc):
 
 
 def test_inlet_flow_is_the_feed_at_each_steam_to_carbon(ds, sc):
+    """Inlet H2O is S/C times the hydrocarbon carbon at each S/C, and the dry gas (CH4) does not
+    vary with S/C."""
     carbon = sc.feed.carbon_flow()
     h2o = ds["inlet_flow"].sel(species="H2O")
     # H2O in = S/C x hydrocarbon carbon (S/C, common practice); rtol: float round-off.
@@ -163,6 +168,8 @@ def test_inlet_flow_is_the_feed_at_each_steam_to_carbon(ds, sc):
     ("co2_to_carbon", (0.0, 1.0, 3)),
 ])
 def test_optional_cofeed_axis(sc, cofeed, axis):
+    """A co-feed axis appears with the contract's dims and its values; inlet H2O follows S/C only
+    and the co-fed species follows the co-feed only; the co-feed changes the outlet H2."""
     small = sc.with_window(temperature=("750 degC", "900 degC", 3),
                            pressure=("10 bar", "30 bar", 2),
                            steam_to_carbon=(2.0, 4.0, 2), **{cofeed: axis})
@@ -191,6 +198,8 @@ def test_optional_cofeed_axis(sc, cofeed, axis):
 
 @pytest.mark.parametrize("cofeed", [None, "co2_to_carbon"])
 def test_grid_equals_point(sc, cofeed):
+    """At 10 random grid points (with and without a co-feed axis) every contract variable and the
+    inlet flow equal thermo.point's at the same coordinates to GRID_POINT_RTOL."""
     extra = {} if cofeed is None else {cofeed: (0.0, 0.8, 3)}
     win = sc.with_window(**extra)
     assert win.approach == 10.0  # the demo's approach, so T - approach is exercised
@@ -222,6 +231,8 @@ def test_grid_equals_point(sc, cofeed):
 
 
 def test_chunking_changes_nothing_and_progress_counts_up(sc, ds):
+    """A sweep in 7-point chunks is identical to the unchunked one; progress is called 15 times,
+    increasing, ending at the total."""
     calls = []
     small = sweep(sc, chunk_points=7, progress=lambda done, total: calls.append((done, total)))
     xr.testing.assert_identical(_without_created(small), _without_created(ds))
@@ -238,6 +249,9 @@ def test_chunking_changes_nothing_and_progress_counts_up(sc, ds):
 
 
 def test_grid_matches_cantera_including_carbon():
+    """At 20 random points of a carbon-forming window, mole fractions equal Cantera's (1e-8
+    absolute) and the carbon / no-carbon call is the same; the draw covers both sides of the
+    boundary."""
     pytest.importorskip("cantera")
     from tests.thermo import cantera_ref
     # Down to S/C 0.2 and 500 degC, 1 bar, so that a good part of the window deposits carbon.
@@ -291,6 +305,8 @@ def test_methane_slip_trends_in_the_carbon_free_region():
 
 
 def test_carbon_region_equals_single_point_calls():
+    """The grid's carbon region equals that of single-point equilibrate calls, straddles the
+    boundary, and carbon activity is 1 inside it."""
     sc = thermo.load_scenario().with_window(temperature=("500 degC", "900 degC", 5),
                                             pressure=("1 bar", "30 bar", 2),
                                             steam_to_carbon=(0.3, 2.0, 4))
@@ -331,6 +347,8 @@ def _ln_carbon_activity_of_the_gas(d: xr.Dataset, approach: float) -> np.ndarray
 
 
 def test_carbon_activity_is_that_of_the_outlet_gas():
+    """Where no carbon deposits, the reported carbon activity equals the methane-cracking
+    activity of the outlet gas recomputed here (1e-8 in ln a_C)."""
     sc = thermo.load_scenario().with_window(**BOUNDARY_WINDOW)
     d = sweep(sc)
     free = d["carbon_deposit"].values == 0.0
@@ -343,6 +361,7 @@ def test_carbon_activity_is_that_of_the_outlet_gas():
 
 
 def test_no_carbon_free_point_is_supersaturated():
+    """No carbon-free point has a gas whose carbon activity exceeds 1 (ln a_C above 1e-8)."""
     sc = thermo.load_scenario().with_window(**BOUNDARY_WINDOW)
     d = sweep(sc)
     free = d["carbon_deposit"].values == 0.0
@@ -380,6 +399,8 @@ LIMIT_SETS = [
 
 
 def test_feasible_mask_is_the_conjunction_of_the_limits(ds, sc):
+    """The Dataset's feasible variable and feasible_mask for each limit set equal the limits
+    checked by hand, and each limit set bites (some points in, some out)."""
     np.testing.assert_array_equal(ds["feasible"].values, _by_hand(ds, sc.limits))
     for lim in LIMIT_SETS:
         mask = feasible_mask(ds, lim)
@@ -390,6 +411,8 @@ def test_feasible_mask_is_the_conjunction_of_the_limits(ds, sc):
 
 
 def test_cache_reuses_the_sweep_for_new_limits(sc, monkeypatch):
+    """SweepCache solves once for the same window with new limits (one sweep, a hit), recomputes
+    feasible for them without changing the first result, and solves again only for a new window."""
     # thermo/__init__ re-exports the function as thermo.sweep, hiding the module attribute.
     sweep_module = importlib.import_module("thermo.sweep")
 
@@ -423,6 +446,7 @@ def test_cache_reuses_the_sweep_for_new_limits(sc, monkeypatch):
 
 
 def test_scenario_attr_describes_a_replaced_scenario(sc):
+    """A cached Dataset's scenario attribute reads back as the scenario with its replaced limits."""
     loose = dataclasses.replace(sc, limits=LIMIT_SETS[0])
     d = SweepCache().get(loose)
     assert thermo.parse_scenario(d.attrs["scenario"]) == loose
@@ -432,6 +456,8 @@ def test_scenario_attr_describes_a_replaced_scenario(sc):
 
 
 def test_netcdf_round_trip_is_identical(ds, tmp_path):
+    """Saving and loading NetCDF gives an identical Dataset (attributes included), bool dtypes
+    and a +inf h2_co_ratio kept."""
     d = ds.copy(deep=True)
     # One +inf in h2_co_ratio (the one non-finite value the contract allows) must survive.
     d["h2_co_ratio"][0, 0, 0] = np.inf
@@ -443,6 +469,8 @@ def test_netcdf_round_trip_is_identical(ds, tmp_path):
 
 
 def test_other_schema_version_is_refused(ds, tmp_path):
+    """Loading a file of another schema version is refused with a message quoting the version and
+    saying to re-run."""
     old = ds.copy()
     old.attrs["schema_version"] = "0"
     path = tmp_path / "old.nc"
@@ -455,6 +483,8 @@ def test_other_schema_version_is_refused(ds, tmp_path):
 @pytest.mark.parametrize("error", [OSError("no space left on device (simulated)"),
                                    KeyboardInterrupt()])
 def test_interrupted_save_leaves_the_previous_file(ds, tmp_path, monkeypatch, error):
+    """A save that fails midway (exception or Ctrl+C) writes to a temporary file only, leaves the
+    previous file byte for byte, and leaves no temporary file."""
     target = tmp_path / "grid.nc"
     io.save(ds, target)
     before = target.read_bytes()
@@ -493,6 +523,8 @@ def _assert_same_numbers(a: xr.Dataset, b: xr.Dataset) -> None:
 
 
 def test_sweep_on_local_dask_workers(sc, ds):
+    """A sweep on 2 local dask workers equals the in-process sweep, with 4 increasing progress
+    calls ending at 60 points."""
     pytest.importorskip("dask.distributed")
     calls = []
     d = _run_with_timeout(
@@ -505,6 +537,7 @@ def test_sweep_on_local_dask_workers(sc, ds):
 
 
 def test_sweep_on_an_existing_cluster(sc, ds):
+    """A sweep on an existing dask.distributed cluster (by address) equals the in-process sweep."""
     distributed = pytest.importorskip("dask.distributed")
 
     def run():
