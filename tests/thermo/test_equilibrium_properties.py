@@ -129,6 +129,8 @@ def _perturbations(n_gas, n_c, elements_present, with_graphite, rng):
 @SETTINGS
 @given(operating_points())
 def test_elements_conserved_and_values_sane(case):
+    """Each drawn point converges with finite, non-negative amounts and no NaN carbon activity;
+    fed elements close to TOLERANCE relative and absent elements stay absent."""
     T, P, n = case
     eq = _solve(T, P, n)
     assert eq.converged[0]

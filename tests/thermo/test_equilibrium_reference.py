@@ -153,6 +153,8 @@ def extremes():
 
 
 def test_reference_uses_the_project_coefficients():
+    """Cantera's phases built by cantera_ref hold the same coefficients and standard states as
+    thermo/data/species.toml (check_same_coefficients)."""
     cr.check_same_coefficients()
 
 
@@ -168,6 +170,8 @@ def test_sweep_covers_the_regimes(sweep):
 
 @pytest.mark.parametrize("which", ["sweep", "extremes"])
 def test_every_point_converged_and_finite(which, request):
+    """Every random and extreme point converges in the solver and the balance, with finite, non-
+    negative moles and graphite."""
     r = request.getfixturevalue(which)
     eq = r["eq"]
     assert eq.converged.all()
@@ -178,6 +182,7 @@ def test_every_point_converged_and_finite(which, request):
 
 @pytest.mark.parametrize("which", ["sweep", "extremes"])
 def test_mole_fractions_match_cantera(which, request):
+    """Every mole fraction equals Cantera's at the same point to DX_TOL absolute."""
     r = request.getfixturevalue(which)
     dx = np.abs(r["eq"].mole_fractions - r["ct_x"])
     worst = np.unravel_index(np.argmax(dx), dx.shape)
@@ -188,6 +193,8 @@ def test_mole_fractions_match_cantera(which, request):
 
 @pytest.mark.parametrize("which", ["sweep", "extremes"])
 def test_carbon_call_matches_cantera(which, request):
+    """Graphite deposits at exactly the points where Cantera's multiphase equilibrium deposits
+    it."""
     r = request.getfixturevalue(which)
     ours = r["eq"].carbon > 0
     theirs = r["ct_carbon"] > 0
@@ -197,6 +204,7 @@ def test_carbon_call_matches_cantera(which, request):
 
 @pytest.mark.parametrize("which", ["sweep", "extremes"])
 def test_carbon_amount_matches_cantera(which, request):
+    """The graphite amount equals Cantera's to CARBON_RTOL of the carbon fed."""
     r = request.getfixturevalue(which)
     diff = np.abs(r["eq"].carbon - r["ct_carbon"]) / r["carbon_fed"]
     assert diff.max() <= CARBON_RTOL
@@ -261,6 +269,8 @@ def test_reported_carbon_activity_where_carbon_forms(sweep):
 
 
 def test_all_points_match_cantera(sweep):
+    """Over the whole sweep of points, mole fractions equal Cantera's to DX_TOL and the carbon
+    call is the same everywhere."""
     dx = np.abs(sweep["eq"].mole_fractions - sweep["ct_x"]).max()
     same_call = ((sweep["eq"].carbon > 0) == (sweep["ct_carbon"] > 0)).all()
     assert dx <= DX_TOL and same_call

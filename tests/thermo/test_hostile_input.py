@@ -37,6 +37,8 @@ def test_hostile_scenario_is_refused_with_a_short_message(text, named):
 
 
 def test_huge_file_is_refused_by_the_cli_before_reading(tmp_path, capsys):
+    """explorer point on a file above MAX_SCENARIO_BYTES exits 2 with one line saying 'at most'
+    and no traceback."""
     big = tmp_path / "big.toml"
     big.write_text("# x\n" * (MAX_SCENARIO_BYTES // 4 + 10), "utf-8")
     assert main(["point", str(big)]) == 2
@@ -45,6 +47,8 @@ def test_huge_file_is_refused_by_the_cli_before_reading(tmp_path, capsys):
 
 
 def test_app_refuses_a_window_too_large_for_a_session():
+    """A window above APP_MAX_POINTS is refused for an app session with a message pointing to
+    explorer grid."""
     from explorer.state import APP_MAX_POINTS, check_window_size
     from thermo import load_scenario
 
