@@ -41,6 +41,8 @@ def _values() -> list[float]:
 @pytest.mark.usefixtures("node")  # skips without Node.js, fails in CI (tests/conftest.py)
 @pytest.mark.parametrize("digits", [0, 1, 2, 3, 4])
 def test_fixed_formatting_matches_python(digits):
+    """review.js's pyFixed formats about 1,500 values (exact ties included) digit for digit as
+    Python's f'{v:,.{d}f}', for 0-4 decimals."""
     vals = _values()
     script = (_functions() + f"\nconst vals = {json.dumps(vals)};\n"
               f"console.log(JSON.stringify(vals.map((v) => pyFixed(v, {digits}))));")
@@ -52,6 +54,8 @@ def test_fixed_formatting_matches_python(digits):
 @pytest.mark.usefixtures("node")  # skips without Node.js, fails in CI (tests/conftest.py)
 @pytest.mark.parametrize("precision", [3, 5])
 def test_general_formatting_matches_python(precision):
+    """review.js's pyG formats the same values digit for digit as Python's f'{v:.{p}g}', for 3
+    and 5 significant digits."""
     vals = [v for v in _values() if v != 0.0]
     script = (_functions() + f"\nconst vals = {json.dumps(vals)};\n"
               f"console.log(JSON.stringify(vals.map((v) => pyG(v, {precision}))));")
