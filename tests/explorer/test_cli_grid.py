@@ -1,7 +1,7 @@
 """The `explorer grid` command: writes a readable grid file; user errors are one line, exit 2.
 
-No published numbers here: the window is a choice (5 x 3 x 4 = 60 points, small enough to
-solve in well under a second) and exit status 2 is the CLI's contract for user error (README).
+No published numbers here: the window is a choice (5 x 3 x 4 = 60 points, kept small for the
+tests) and exit status 2 is the CLI's contract for user error (README).
 """
 
 from __future__ import annotations
@@ -91,8 +91,9 @@ def test_output_in_a_missing_folder_is_a_user_error(capsys, tmp_path, scenario_f
 
 
 def test_unreachable_scheduler_leaves_the_previous_file(capsys, tmp_path, scenario_file):
-    """Port 9 (discard) has no dask scheduler; the client gives up after its 20 s timeout,
-    so this test takes about 20 s."""
+    """Port 9 (discard) has no dask scheduler: grid gives up with a one-line error naming the
+    address, leaves the previous file and no temporary one, and does so within 60 s (its 20 s
+    connect timeout plus slack: a hang guard, not a speed goal)."""
     pytest.importorskip("dask.distributed")
     target = tmp_path / "g.nc"
     target.write_bytes(b"an earlier grid file\n")
