@@ -3,8 +3,8 @@
 References
 ----------
 * IUPAC2021 (thermo/data/references.toml): T. Prohaska et al., Standard atomic weights of the
-  elements 2021, Pure Appl. Chem. 94 (2022) 573-600, Table 3 ("conventional values" for the
-  elements whose standard atomic weight is an interval: H, C, N, O and, since 2021, Ar). The
+  elements 2021, Pure Appl. Chem. 94 (2022) 573-600, its table of "conventional values" (for
+  the elements whose standard atomic weight is an interval: H, C, N, O and, since 2021, Ar). The
   values below are quoted from memory of that table; argon's new interval [39.792, 39.963],
   whose conventional value is 39.95, is the change the report's abstract announces.
 * Cantera 3.2 (https://cantera.org, a general-purpose reference library, tests only): the
@@ -21,8 +21,8 @@ from thermo.constants import ATOMIC_WEIGHT, ELEMENTS
 from thermo.scenario import parse_scenario
 from thermo.species import GAS_SPECIES, GRAPHITE, molar_mass, molar_masses, record
 
-#: IUPAC 2021 conventional atomic weights [g mol-1] (Table 3 of Prohaska et al. 2022; from
-#: memory, see the module docstring).
+#: IUPAC 2021 conventional atomic weights [g mol-1] (Prohaska et al. 2022, its table of
+#: conventional values; from memory, see the module docstring).
 IUPAC_2021 = {"H": 1.008, "C": 12.011, "N": 14.007, "O": 15.999, "Ar": 39.95}
 
 #: Project species name -> Cantera (GRI-Mech 3.0) species name.
