@@ -89,7 +89,7 @@ from thermo.errors import InputError
 from thermo.extent import REFORMING, SHIFT, delta_h, equilibrium_constant
 from thermo.io import atomic_target
 from thermo.scenario import Scenario
-from thermo.species import GAS_SPECIES, formula_matrix, molar_masses
+from thermo.species import GAS_SPECIES, GRAPHITE, formula_matrix, molar_mass, molar_masses
 from thermo.sweep import RATIO_AXES
 
 #: Variables the review file can map (each adds its slices to the file).
@@ -168,6 +168,7 @@ def _page_data(sc: Scenario, ds: xr.Dataset) -> dict:
     return {
         "species": list(GAS_SPECIES),
         "molar_mass": [float(m) for m in molar_masses()],
+        "graphite_molar_mass": molar_mass(GRAPHITE),
         "elements": {e: A[:, ELEMENTS.index(e)].tolist() for e in ("C", "H", "O", "N")},
         "dims": dims,
         "shape": [ds.sizes[d] for d in dims],

@@ -126,7 +126,7 @@ class ScenarioForm:
     }
 
     #: What a stage's fields show when it is switched on for the first time (typical
-    #: values, common practice, no source; DOMAIN.md gives the shift inlet ranges).
+    #: values, common practice, no source, as are the shift inlet ranges).
     STAGE_DEFAULTS = {
         "pre_inlet": "490 degC",
         "sec_ratio": "0.25",

@@ -8,7 +8,7 @@ from explorer import CAUTION
 from thermo import units
 from thermo.api import PointResult
 from thermo.constants import V_NORMAL
-from thermo.species import GAS_SPECIES
+from thermo.species import GAS_SPECIES, GRAPHITE, molar_mass
 
 
 def _num(v: float, fmt: str) -> str:
@@ -64,7 +64,7 @@ def point_report(pt: PointResult) -> str:
     c = d["carbon_deposit_mol_per_s"]
     add(
         f"{'C(gr)':<8}{'':>14}{'':>14}{units.kmol_per_h_from_mol_per_s(c):>14.3f}"
-        f"{units.kg_per_h_from_kg_per_s(c * 12.011e-3):>14.1f}   carbon deposit"
+        f"{units.kg_per_h_from_kg_per_s(c * molar_mass(GRAPHITE)):>14.1f}   carbon deposit"
     )
     add("")
     add("Results")

@@ -248,7 +248,7 @@ function balanceHtml(d) {
   const srows = S.map((s) => [s].concat(R.spec.species.map(([, key, conv, dec]) =>
     display(lookup(d, key.replace("{s}", s)), conv, dec))));
   srows.push(["C(gr)", "", "", display(d.carbon_deposit_mol_per_s, "kmolh", 3),
-              display(d.carbon_deposit_mol_per_s * 12.011e-3, "kgh", 1), "", ""]);
+              display(d.carbon_deposit_mol_per_s * R.graphite_molar_mass, "kgh", 1), "", ""]);
   parts.push(`<h4>${heading("Inlet and outlet by species")}</h4>` +
              table(["species"].concat(R.spec.species.map((c) => c[0])), srows));
   parts.push("<h4>Energy balance</h4>" + table(["quantity", "value", "unit"],

@@ -14,7 +14,7 @@ import math
 from explorer.safe import spreadsheet_text, text
 from thermo.carbon import BINDING_WORDS
 from thermo.constants import V_NORMAL
-from thermo.species import GAS_SPECIES
+from thermo.species import GAS_SPECIES, GRAPHITE, molar_mass
 
 #: Conversions from SI to display units (the export's script implements the same names).
 CONVERSIONS = {
@@ -164,7 +164,8 @@ def balance_html(d: dict) -> str:
         srows.append([s] + [display(lookup(d, key.format(s=s)), conv, dec)
                             for _, key, conv, dec in SPECIES_COLUMNS])
     srows.append(["C(gr)", "", "", display(d.get("carbon_deposit_mol_per_s"), "kmolh", 3),
-                  display((d.get("carbon_deposit_mol_per_s") or 0.0) * 12.011e-3, "kgh", 1),
+                  display((d.get("carbon_deposit_mol_per_s") or 0.0) * molar_mass(GRAPHITE),
+                          "kgh", 1),
                   "", ""])
     parts.append(f"<h4>{_heading(d, 'Inlet and outlet by species')}</h4>"
                  + _table(["species"] + [c[0] for c in SPECIES_COLUMNS], srows, "rw-table"))

@@ -1,8 +1,12 @@
-"""Shared test configuration: Debian's Chromium for the browser tests.
+"""Shared test configuration: Debian's Chromium for the browser tests, Node.js for the
+review file's script.
 
 Browser downloads are impossible on the project's machines, so the tests drive the Chromium of
 the Debian package (installed by .ci/run). Without it the browser tests skip with a reason;
-with EXPLORER_REQUIRE_BROWSER=1 (set by .ci/run) a missing browser is an error instead.
+with EXPLORER_REQUIRE_BROWSER=1 (set by .ci/run) a missing browser is an error instead. The
+tests of explorer/review.js run it under Node.js (Debian's ``nodejs``, installed by .ci/run)
+through the ``node`` fixture: without it they skip, and with EXPLORER_REQUIRE_NODE=1 (set by
+.ci/run) they fail.
 """
 
 from __future__ import annotations
@@ -14,7 +18,7 @@ from pathlib import Path
 
 import pytest
 
-#: Launch flags known to work headless as root on the project's machines (shared/BROWSER.md):
+#: Launch flags known to work headless as root on the project's machines (found by trial):
 #: no sandbox, no GPU, no background traffic, and no DNS at all except loopback.
 CHROMIUM_ARGS = [
     "--headless",
@@ -54,6 +58,18 @@ def chromium_path() -> str:
             pytest.fail("Debian's chromium is not installed, but EXPLORER_REQUIRE_BROWSER=1 "
                         "(CI) requires the browser tests to run")
         pytest.skip("Debian's chromium package is not installed (apt-get install chromium)")
+    return path
+
+
+@pytest.fixture(scope="session")
+def node() -> str:
+    """Path of the Node.js binary; skips without it, fails with EXPLORER_REQUIRE_NODE=1."""
+    path = shutil.which("node")
+    if path is None:
+        if os.environ.get("EXPLORER_REQUIRE_NODE") == "1":
+            pytest.fail("Node.js is not installed, but EXPLORER_REQUIRE_NODE=1 (CI) requires "
+                        "the review script's tests to run")
+        pytest.skip("Node.js is not installed (apt-get install nodejs)")
     return path
 
 

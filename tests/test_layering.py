@@ -15,10 +15,13 @@ def _loaded(code: str, modules: tuple[str, ...]) -> list[str]:
 
 
 def test_core_imports_no_user_interface():
+    """Importing and using thermo (point, sweep) loads none of panel, holoviews, bokeh or
+    explorer."""
     code = "import thermo, thermo.io, thermo.extent; thermo.point(); thermo.sweep"
     assert _loaded(code, ("panel", "holoviews", "bokeh", "explorer")) == []
 
 
 def test_review_export_imports_no_panel():
+    """Importing explorer.export and explorer.cli does not load panel."""
     # Panel's loaded extensions would add CDN links to the "inline" review file.
     assert _loaded("import explorer.export, explorer.cli", ("panel",)) == []

@@ -108,7 +108,7 @@ class PointResult:
         return {s: float(v) for s, v in zip(GAS_SPECIES, np.asarray(array)[0], strict=True)}
 
     def to_dict(self) -> dict:
-        """The strict-JSON object of ``explorer point --json`` (DESIGN.md contract).
+        """The strict-JSON object of ``explorer point --json`` (the project's contract).
 
         Non-finite numbers (H2/CO with no CO in the outlet) become None.
         """
@@ -180,7 +180,7 @@ class PointResult:
         return _strict(out)
 
     def _carbon_dict(self) -> dict:
-        """Top-level carbon keys of the point JSON (DESIGN.md) and their detail."""
+        """Top-level carbon keys of the point JSON (the contract in README) and their detail."""
         c = {k: v[0] for k, v in self.carbon.items()}
         routes = {k: float(c[f"carbon_activity_real_gas_{k}"])
                   for k in carbon_check.CARBON_ROUTES}

@@ -4,7 +4,7 @@ One function, :func:`reformer_balance`, turns inlet flows and outlet conditions 
 number the maps and tables show. The grid sweep and the single-point API both call it, so a
 grid value and the point result at the same coordinates come from the same arithmetic.
 
-Definitions (DOMAIN.md):
+Definitions (common practice, no source):
 
 * H2 yield: mol H2 in the outlet per mol carbon in the hydrocarbons fed.
 * Methane slip: CH4 mole fraction of the outlet on a dry basis (water removed).

@@ -22,7 +22,7 @@ import numpy as np
 
 from thermo.constants import ATOMIC_WEIGHT, ELEMENTS, P_REF, R
 
-#: Gas species of the model, in the order of every species axis (DESIGN.md contract).
+#: Gas species of the model, in the order of every species axis (Dataset contract, thermo/sweep.py).
 GAS_SPECIES: tuple[str, ...] = ("CH4", "C2H6", "C3H8", "H2O", "H2", "CO", "CO2", "O2", "N2", "Ar")
 
 #: Name of the solid carbon (graphite) record.

@@ -6,7 +6,7 @@ optional co-feed axis) into points, solves them in chunks with the same balance 
 window. Chunks run in this process, or on dask.distributed workers: local processes
 (``workers=N``) or an existing cluster (``scheduler="tcp://host:port"``).
 
-Dataset contract (DESIGN.md): coordinates ``temperature`` [K], ``pressure`` [Pa],
+Dataset contract (this project's; stated here): coordinates ``temperature`` [K], ``pressure`` [Pa],
 ``steam_to_carbon`` [-], optionally ``oxygen_to_carbon`` or ``co2_to_carbon`` [-], and
 ``species``; every variable has ``units`` and ``long_name``; attributes hold the scenario text,
 the data sources and the software version.
@@ -228,8 +228,9 @@ def sweep(
     Returns
     -------
     xarray.Dataset
-        The DESIGN.md contract plus ``feasible`` (all review limits met at the node) and the
-        exact feasible temperature intervals of every row (:func:`apply_limits`).
+        The Dataset contract (module docstring) plus ``feasible`` (all review limits met
+        at the node) and the exact feasible temperature intervals of every row
+        (:func:`apply_limits`).
     """
     axes = window_axes(scenario)
     shape = tuple(len(v) for v in axes.values())

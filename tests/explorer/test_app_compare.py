@@ -40,6 +40,8 @@ def compared():
 
 # --------------------------------------------------------------------------- train form
 def test_applying_the_form_untouched_keeps_the_train():
+    """The form shows a train scenario's stages switched on with air as oxidant, its text parses
+    to the same train, and applying it untouched keeps the train."""
     page = build_app(train_scenario(), solve="now")
     s = page.explorer_state
     form = ScenarioForm(s)
@@ -52,6 +54,9 @@ def test_applying_the_form_untouched_keeps_the_train():
 
 
 def test_form_switches_a_shift_stage_on_and_edits_it():
+    """Switching the HT shift on at 380 degC in the form gives that stage (653.15 K, 10 K
+    approach) after the primary, and the solved H2 product exceeds the reformer's H2 yield at
+    every converged point."""
     page = build_app(small_scenario(), solve="now")
     s = page.explorer_state
     form = ScenarioForm(s)
@@ -70,6 +75,8 @@ def test_form_switches_a_shift_stage_on_and_edits_it():
 
 
 def test_bad_train_field_is_refused_beside_it():
+    """An LT shift at 900 degC is refused with a range message beside its field, and the scenario
+    is unchanged."""
     page = build_app(small_scenario(), solve="now")
     s = page.explorer_state
     form = ScenarioForm(s)
@@ -83,6 +90,8 @@ def test_bad_train_field_is_refused_beside_it():
 
 # ---------------------------------------------------------------------------- comparison
 def test_proposal_is_solved_on_the_base_window_and_differenced(compared):
+    """The proposal gets the base's window and a 'Proposal: ' title, and the difference is
+    proposal minus base exactly."""
     _, s, _ = compared
     assert s.proposal.window == s.scenario.window
     assert s.proposal.title.startswith("Proposal: ")
@@ -93,6 +102,8 @@ def test_proposal_is_solved_on_the_base_window_and_differenced(compared):
 
 
 def test_change_map_nodes_are_proposal_minus_base(compared):
+    """The change map's node values are proposal minus base, the three titles name base, proposal
+    and change, and another variable redraws from the Dataset (duty in MW)."""
     _, s, view = compared
     base, prop, diff = (np.array(src["nodes"].data["value"], dtype=float)
                         for src in view.sources)
@@ -110,6 +121,9 @@ def test_change_map_nodes_are_proposal_minus_base(compared):
 
 
 def test_comparison_table_shows_both_points_and_the_change(compared):
+    """The comparison table equals compare_point_html plus the proposal's balance, its H2 change
+    equals the two points' difference, and a click on a comparison map selects that node
+    everywhere."""
     _, s, view = compared
     a, b = s.selected_point().to_dict(), s.selected_proposal_point().to_dict()
     assert table_cells(view.table.object) == table_cells(compare_point_html(a, b)
@@ -125,6 +139,7 @@ def test_comparison_table_shows_both_points_and_the_change(compared):
 
 
 def test_window_change_re_solves_the_proposal(compared):
+    """A window change in the form re-solves the proposal on the new window (3 temperatures)."""
     _, s, _ = compared
     form = ScenarioForm(s)
     form.inputs["t_points"].value = "3"
@@ -142,6 +157,8 @@ def test_window_change_re_solves_the_proposal(compared):
 
 
 def test_bad_proposal_upload_is_refused_with_its_key(compared):
+    """A proposal upload with a bad oxidant is refused with a message naming the key, and the
+    proposal is unchanged."""
     _, s, view = compared
     before = s.proposal
     text = proposal_scenario().to_toml().replace('oxidant = "air"', 'oxidant = "steam"')
@@ -152,6 +169,8 @@ def test_bad_proposal_upload_is_refused_with_its_key(compared):
 
 
 def test_removing_the_proposal_clears_the_maps(compared):
+    """Choosing another proposal replaces it; choosing none clears the proposal, the difference
+    and the change map."""
     _, s, view = compared
     view.chooser.value = "biogas-skid"
     assert s.proposal is not None and s.proposal.title != before_title(s)
@@ -165,6 +184,8 @@ def before_title(s):
 
 
 def test_review_file_from_the_app_carries_the_comparison(compared):
+    """The app's review file holds the comparison, with the proposal's train (ending in the LT
+    shift) in its page data."""
     _, s, _ = compared
     view = NotesView(s)
     html = view._review().getvalue().decode("utf-8")
@@ -211,6 +232,8 @@ def test_a_late_result_of_a_superseded_proposal_is_dropped(monkeypatch):
 
 
 def test_limits_edit_redraws_the_comparison_base_map(compared):
+    """Editing the slip limit redraws the base map's feasible labels to the new feasible mask,
+    naming the broken slip limit."""
     _, s, view = compared
     before = view.sources[0]["nodes"].data["feasible"]
     form = ScenarioForm(s)

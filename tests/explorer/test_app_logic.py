@@ -89,6 +89,9 @@ def app():
 
 # --------------------------------------------------------------- design point and balance
 def test_build_selects_the_design_node_and_the_balance_shows_it(app):
+    """The built app is solved and selects the grid node nearest the (off-grid) design point; the
+    balance view's heading, outlet temperature and H2 yield are that node's, equal to
+    thermo.point and to the grid."""
     page, s = app
     sc, ds = s.scenario, s.dataset
     assert ds is not None and not s.busy
@@ -118,6 +121,8 @@ def test_build_selects_the_design_node_and_the_balance_shows_it(app):
 
 # ------------------------------------------------------------------------------ clicks
 def test_click_between_nodes_snaps_to_the_nearest_node_pressure_mode(app):
+    """A click between nodes in pressure mode selects the nearest node, and its point equals
+    thermo.point there exactly."""
     _, s = app
     ds = s.dataset
     T_C = ds.temperature.values - 273.15
@@ -137,6 +142,8 @@ def test_click_between_nodes_snaps_to_the_nearest_node_pressure_mode(app):
 
 
 def test_click_in_steam_to_carbon_mode_reads_y_as_steam_to_carbon(app):
+    """In steam-to-carbon mode a click's y is read as S/C: the nearest S/C node is selected at
+    the slider's pressure, and its point equals thermo.point there."""
     _, s = app
     ds = s.dataset
     s.mode = "steam_to_carbon"
@@ -159,6 +166,8 @@ def test_click_in_steam_to_carbon_mode_reads_y_as_steam_to_carbon(app):
 
 # ---------------------------------------------------------------------------------- maps
 def test_changing_the_slice_updates_both_maps_without_recomputing(app):
+    """A slice change restyles both maps' data (same figures and sources, no new Dataset), and
+    the left map's node values are the grid's H2 yield on the new slice."""
     _, s = app
     maps = MapsView(s)
     ds = s.dataset
@@ -204,6 +213,8 @@ def test_changing_the_left_variable_restyles_the_left_figure(app):
 
 
 def test_selected_marker_is_faded_off_its_slice(app):
+    """The selected marker is opaque at the clicked node on its slice, faded (alpha 0.35) on
+    another slice and opaque again on return."""
     _, s = app
     maps = MapsView(s)
     ds = s.dataset
@@ -234,6 +245,8 @@ def test_selected_marker_is_faded_off_its_slice(app):
     ("max_duty", "90 furlong", "limits.max_duty"),
 ])
 def test_invalid_entry_is_refused_beside_its_field(app, field, text, key):
+    """Each invalid form entry is refused with a message beside its own field only and 'Not
+    applied' naming the key; scenario and Dataset are unchanged and nothing solves."""
     _, s = app
     form = ScenarioForm(s)
     before_sc, before_ds = s.scenario, s.dataset
@@ -248,6 +261,8 @@ def test_invalid_entry_is_refused_beside_its_field(app, field, text, key):
 
 
 def test_limits_change_applies_without_a_new_solve():
+    """A limit edit applies without a solve (cache misses unchanged, same numbers): feasible
+    becomes feasible_mask for the new limits, the count changes and the selection stays."""
     s = build_app(round_trip_scenario(), solve="now").explorer_state
     form = ScenarioForm(s)
     ds0, selected0 = s.dataset, dict(s.selected)
@@ -268,6 +283,7 @@ def test_limits_change_applies_without_a_new_solve():
 
 
 def test_limits_change_keeps_design_pressure(app):
+    """A limit edit keeps the design pressure and starts no solve."""
     _, s = app
     form = ScenarioForm(s)
     P0 = s.scenario.pressure
@@ -282,6 +298,8 @@ def test_limits_change_keeps_design_pressure(app):
 
 
 def test_window_change_solves_in_background_then_adopts(app):
+    """A window edit solves in the background (busy, pins and selection cleared), then adopts the
+    3-temperature Dataset and selects a point."""
     _, s = app
     form = ScenarioForm(s)
     s.pin()
@@ -297,6 +315,8 @@ def test_window_change_solves_in_background_then_adopts(app):
 
 
 def test_notes_typed_during_a_solve_do_not_discard_it(app):
+    """Notes typed while a window solves do not discard the solve: the new 3-temperature Dataset
+    is adopted."""
     _, s = app
     s.set_scenario(s.scenario.with_window(temperature=("700 degC", "950 degC", 3)))
     s.notes = "typed while the window was solving"
@@ -319,6 +339,8 @@ class _BlockingCache:
 
 
 def test_second_window_edit_during_a_solve_is_solved(app, monkeypatch):
+    """A second window edit during a blocked solve wins: the adopted Dataset has the second
+    window's 5 temperatures."""
     _, s = app
     blocking = _BlockingCache(SHARED_CACHE)
     monkeypatch.setattr(state_module, "SHARED_CACHE", blocking)
@@ -336,6 +358,8 @@ def test_second_window_edit_during_a_solve_is_solved(app, monkeypatch):
 
 # -------------------------------------------------------------------------------- upload
 def test_upload_too_large_is_refused(app):
+    """An upload above MAX_UPLOAD_BYTES is refused with 'Not loaded' quoting the limit, and the
+    scenario is unchanged."""
     _, s = app
     form = ScenarioForm(s)
     before = s.scenario
@@ -347,6 +371,7 @@ def test_upload_too_large_is_refused(app):
 
 
 def test_upload_not_utf8_is_refused(app):
+    """A Latin-1 upload is refused as not UTF-8 text, and the scenario is unchanged."""
     _, s = app
     form = ScenarioForm(s)
     before = s.scenario
@@ -357,6 +382,7 @@ def test_upload_not_utf8_is_refused(app):
 
 
 def test_upload_with_unknown_key_is_refused_naming_it(app):
+    """An upload with an unknown key is refused naming it, and the scenario is unchanged."""
     _, s = app
     form = ScenarioForm(s)
     before = s.scenario
@@ -368,6 +394,7 @@ def test_upload_with_unknown_key_is_refused_naming_it(app):
 
 
 def test_valid_upload_is_adopted(app):
+    """A valid upload is adopted: its title (also as the page heading) and its notes."""
     page, s = app
     form = ScenarioForm(s)
     sc = s.scenario
@@ -388,6 +415,8 @@ def test_valid_upload_is_adopted(app):
 
 # --------------------------------------------------------------------------------- notes
 def test_notes_go_into_the_scenario_and_its_download(app):
+    """Notes typed in the state or the text box go into the scenario and into its download, which
+    parses back to the same scenario."""
     _, s = app
     view = NotesView(s)
     text = "Slip limit agreed with operations.\nOpen: check tube metal temperature <TMT>."
@@ -404,6 +433,7 @@ def test_notes_go_into_the_scenario_and_its_download(app):
 
 # ---------------------------------------------------------------------------------- pins
 def test_pinning_twice_gives_two_columns_and_clear_empties(app):
+    """Two pins give two columns with different outlet temperatures; clearing empties the table."""
     _, s = app
     view = PinnedView(s)
     assert "No pinned points" in view.table.object
@@ -422,6 +452,8 @@ def test_pinning_twice_gives_two_columns_and_clear_empties(app):
 
 # ----------------------------------------------------------------------------- downloads
 def test_balance_csv_download(app):
+    """The balance CSV has a 4-column header and rows, with one H2 yield row equal to the
+    selected point's (1e-6)."""
     _, s = app
     view = BalanceView(s)
     text = view._csv().getvalue()
@@ -434,6 +466,8 @@ def test_balance_csv_download(app):
 
 
 def test_balance_json_download_is_strict_and_equals_the_point(app):
+    """The balance JSON is strict, carries the scenario title and notes, and otherwise equals the
+    selected point's to_dict()."""
     _, s = app
     view = BalanceView(s)
 
@@ -447,6 +481,8 @@ def test_balance_json_download_is_strict_and_equals_the_point(app):
 
 
 def test_grid_download_loads_and_equals_the_session_dataset(app, tmp_path):
+    """The grid download is an HDF5 (NetCDF-4) file that loads to the session Dataset's
+    variables, dims and values."""
     _, s = app
     view = BalanceView(s)
     data = view._grid().getvalue()
@@ -467,6 +503,7 @@ def test_grid_download_loads_and_equals_the_session_dataset(app, tmp_path):
 
 # ------------------------------------------------------------------------------ sessions
 def test_two_sessions_do_not_share_state():
+    """Two sessions keep their own scenario, window, selection, notes and pins."""
     a = build_app(small_scenario(), solve="now").explorer_state
     other = small_scenario().with_window(steam_to_carbon=(2.0, 4.0, 3))
     b = build_app(other, solve="now").explorer_state
@@ -482,6 +519,7 @@ def test_two_sessions_do_not_share_state():
 
 
 def test_second_build_of_the_same_scenario_hits_the_shared_cache():
+    """A second build of the same scenario is one cache hit and no miss, with its Dataset."""
     build_app(small_scenario(), solve="now")
     hits, misses = SHARED_CACHE.hits, SHARED_CACHE.misses
     page = build_app(small_scenario(), solve="now")

@@ -64,6 +64,8 @@ def _comparable(html):
 
 
 def test_opens_offline_and_click_shows_the_cores_balance(page, review, artifacts):
+    """The review file opened from file:// makes no request; a click at 850 degC, 20 bar shows
+    that node's heading and a balance equal to balance_html of thermo.point there; no page error."""
     sc, path = review
     requests, errors = _open(page, path)
     assert requests == []  # not one request leaves the file
@@ -81,6 +83,8 @@ def test_opens_offline_and_click_shows_the_cores_balance(page, review, artifacts
 
 
 def test_slider_changes_the_slice_and_the_click_follows_it(page, review):
+    """A slider step changes map-0's data, and a click then shows the S/C 4 node's balance, equal
+    to thermo.point's."""
     sc, path = review
     _open(page, path)
     before = page.evaluate("() => JSON.stringify(Bokeh.documents[0].get_model_by_name('map-0')"
@@ -104,6 +108,8 @@ def test_slider_changes_the_slice_and_the_click_follows_it(page, review):
 
 
 def test_review_sheet_carries_inputs_notes_limits_and_cautions(review):
+    """The review file's sheet holds the inputs, limits, window, pinned point, notes, cautions
+    and data sources (each phrase listed)."""
     # Values are the demo scenario's own (scenarios/demo.toml, invented data): flow 1100 kmol/h,
     # feed at 540 degC, maximum slip 4.5 mol %; the caution wording is explorer.CAUTION.
     sc, path = review
@@ -142,6 +148,9 @@ def comparison(tmp_path_factory):
 def test_comparison_file_maps_base_proposal_and_change_and_click_shows_both(page,
                                                                             comparison,
                                                                             artifacts):
+    """The comparison file opens offline with base, proposal and change maps; a click on the
+    change map shows the comparison and both balances equal to the core's, the train's shift
+    stage included; no page error."""
     from explorer.tables import compare_point_html
 
     base, proposal, path = comparison

@@ -1,24 +1,29 @@
 """Load: eight browser sessions at once on one server, each with its own study, no cross-talk.
 
 Each session changes its own review limit (a different maximum duty) and selects its own grid
-point; afterwards every page must still show its own limit's feasible window and its own
-point, and no page may have raised an error. Bounded in time: the whole test must finish
-within LOAD_DEADLINE_S, far above the ~20 s it takes on the project's 2-core machine.
+point; afterwards every page must still show its own limit's feasible window (the summary's
+feasible temperatures and count of feasible grid points, as the core computes them for that
+limit) and its own point, and no page may have raised an error. The times it prints are
+information, never asserted (speed is measured in tests/benchmarks/).
 """
 
 from __future__ import annotations
 
+import dataclasses
 import time
 
 import pytest
 
+import thermo
+from explorer.sheet import design_row_ranges
 from tests.explorer.helpers import FIND_PIXEL, open_scenario_form, served_app, small_scenario
 
 pytestmark = pytest.mark.usefixtures("chromium_path")
 
 SESSIONS = 8
-LOAD_DEADLINE_S = 240
-DUTIES_MW = [40, 50, 60, 70, 80, 90, 100, 110]
+#: Duty limits [MW] whose feasible windows all differ on the small window (3, 4, 8, 14, 18,
+#: 24, 28 and 33 feasible grid points), so any cross-talk shows.
+DUTIES_MW = [74, 77, 80, 83, 86, 89, 92, 95]
 #: One interior grid node per session (nodes at 700, 750, ... degC and 10, 20, 30, 40 bar).
 POINTS = [(750.0 + 50.0 * (i % 4), 20.0 + 10.0 * (i // 4)) for i in range(SESSIONS)]
 
@@ -30,7 +35,22 @@ def server():
         yield url
 
 
+def _expected_window(duty_MW: float) -> tuple[str, str]:
+    """The core's feasible temperatures on the design row and 'N of M grid points' for the
+    small scenario with its duty limit set to `duty_MW`."""
+    sc = small_scenario()
+    sc = dataclasses.replace(sc, limits=dataclasses.replace(sc.limits, max_duty=duty_MW * 1e6))
+    ds = thermo.sweep(sc)
+    words = design_row_ranges(ds, sc)[0]
+    return words, f"{int(ds['feasible'].sum()):,} of {int(ds['feasible'].size):,} grid points"
+
+
 def test_eight_sessions_without_cross_talk(browser, server):
+    """Eight pages at once: each keeps its own duty limit in the form, shows its own point's
+    balance heading and its own limit's feasible window in the summary, and none raises a
+    page error."""
+    expected = [_expected_window(d) for d in DUTIES_MW]
+    assert len({e[1] for e in expected}) == SESSIONS  # the windows differ: cross-talk shows
     start = time.time()
     contexts, pages, errors = [], [], []
     for _ in range(SESSIONS):
@@ -57,13 +77,18 @@ def test_eight_sessions_without_cross_talk(browser, server):
                                  timeout=30000)
             pos = pg.evaluate(FIND_PIXEL, ["map-0", t, p])
             pg.mouse.click(pos["x"], pos["y"])
-        for pg, duty, (t, p) in zip(pages, DUTIES_MW, POINTS, strict=True):
+        for pg, duty, (t, p), (words, count) in zip(pages, DUTIES_MW, POINTS, expected,
+                                                    strict=True):
             pg.get_by_text(f"{t:.1f} degC, {p:.3f} bar abs").wait_for(timeout=30000)
             assert pg.get_by_label("Max duty").input_value() == f"{duty} MW"
+            summary = pg.locator(".rw-summary").first
+            summary.get_by_text(count).wait_for(timeout=30000)
+            text = summary.inner_text()
+            assert count in text and "Feasible outlet temperature" in text, (duty, text)
+            assert f": {words} degC" in text, (duty, words, text)
         elapsed = time.time() - start
     finally:
         for ctx in contexts:
             ctx.close()
     assert errors == []
-    assert elapsed < LOAD_DEADLINE_S
     print(f"\n{SESSIONS} sessions: all maps after {opened:.1f} s, all done after {elapsed:.1f} s")

@@ -27,6 +27,8 @@ def run(capsys, *argv):
 
 
 def test_point_json_follows_the_contract_and_equals_the_api(capsys):
+    """point --json holds the contract's keys, species tables in GAS_SPECIES order, closures of
+    C, H, O, N, the SI values given, dry H2O 0, and equals thermo.point's to_dict() exactly."""
     code, out, err = run(capsys, "point", "--temperature", "850 degC", "--pressure", "25 bar",
                          "--steam-to-carbon", "3", "--json")
     assert code == 0, err
@@ -48,12 +50,15 @@ def test_point_json_follows_the_contract_and_equals_the_api(capsys):
 
 
 def test_options_override_the_scenario_and_gauge_pressure_is_understood(capsys):
+    """Options override the scenario: 24 barg is 24 bar + 1 atm absolute; the CO2 co-feed, feed,
+    inlet temperature and approach given are the ones used (CO2 in = 0.5 x hydrocarbon carbon, no
+    N2)."""
     code, out, _ = run(capsys, "point", "--pressure", "24 barg", "--co2-to-carbon", "0.5",
                        "--feed", "CH4=0.9,C2H6=0.1", "--inlet-temperature", "500 degC",
                        "--approach", "0 K", "--json")
     assert code == 0
     d = json.loads(out)
-    # DOMAIN.md: gauge pressure is absolute minus 1.01325 bar.
+    # Gauge pressure is absolute minus 1 atm = 1.01325 bar (NIST-SP811 for the atmosphere).
     assert d["pressure_Pa"] == pytest.approx(24e5 + 101325.0, rel=1e-15)
     assert d["co2_to_carbon"] == 0.5
     assert d["inlet"]["temperature_K"] == pytest.approx(773.15)
@@ -64,6 +69,8 @@ def test_options_override_the_scenario_and_gauge_pressure_is_understood(capsys):
 
 
 def test_json_is_strict_where_h2_co_is_infinite(capsys):
+    """Where no CO can form, the JSON holds null for H2/CO (no Infinity or NaN text) and the
+    point deposits graphite."""
     # No oxygen anywhere (dry methane, no CO2): no CO can form, so H2/CO is null, not Infinity.
     code, out, _ = run(capsys, "point", "--feed", "CH4=1", "--steam-to-carbon", "0",
                        "--temperature", "700 degC", "--json")
@@ -75,6 +82,8 @@ def test_json_is_strict_where_h2_co_is_infinite(capsys):
 
 
 def test_human_report_shows_engineering_units_and_the_caution(capsys):
+    """The text report shows kmol/h, kg/h, dry mol%, MW, degC, the 1 bar standard state and the
+    caution's words."""
     code, out, _ = run(capsys, "point", "--temperature", "850 degC", "--pressure", "25 bar")
     assert code == 0
     for text in ("kmol/h", "kg/h", "dry mol%", "MW", "degC", "1 bar standard state",
@@ -83,6 +92,8 @@ def test_human_report_shows_engineering_units_and_the_caution(capsys):
 
 
 def test_adiabatic_point_has_zero_duty(capsys):
+    """point --adiabatic reports adiabatic, a duty of zero to 1e-6 of the inlet enthalpy, and an
+    outlet colder than the inlet."""
     code, out, _ = run(capsys, "point", "--adiabatic", "--inlet-temperature", "500 degC",
                        "--steam-to-carbon", "2.5", "--json")
     assert code == 0
@@ -112,6 +123,8 @@ def test_adiabatic_point_has_zero_duty(capsys):
     ],
 )
 def test_bad_input_is_one_line_naming_the_field_exit_2(capsys, argv, named):
+    """Each bad input exits 2 with nothing on stdout and one stderr line starting 'explorer:
+    error: ' that names the field, without a traceback."""
     code, out, err = run(capsys, "point", *argv)
     assert code == 2
     assert out == ""
@@ -124,6 +137,8 @@ def test_bad_input_is_one_line_naming_the_field_exit_2(capsys, argv, named):
 
 @pytest.mark.skipif(shutil.which("explorer") is None, reason="console script not installed")
 def test_console_script_exit_code_and_no_traceback():
+    """The installed console script exits 2 on a negative pressure, names --pressure and shows no
+    traceback."""
     proc = subprocess.run(["explorer", "point", "--pressure", "-1 bar"], capture_output=True,
                           text=True, timeout=120)
     assert proc.returncode == 2
@@ -132,6 +147,7 @@ def test_console_script_exit_code_and_no_traceback():
 
 
 def test_module_entry_point_runs():
+    """python -m explorer.cli point --json runs and prints a converged point."""
     proc = subprocess.run([sys.executable, "-m", "explorer.cli", "point", "--json"],
                           capture_output=True, text=True, timeout=120)
     assert proc.returncode == 0, proc.stderr
@@ -159,6 +175,8 @@ def test_point_json_of_a_train_carries_every_stage(capsys):
 
 
 def test_export_compare_with_a_bad_proposal_names_it(capsys, tmp_path):
+    """export --compare with an invalid proposal exits 2 with one line naming the proposal file
+    and its key, no traceback and no file written."""
     bad = tmp_path / "proposal.toml"
     bad.write_text(thermo.load_scenario().text + '\n[train.low_temperature_shift]\n'
                    'temperature = "40 degC"\n', "utf-8")

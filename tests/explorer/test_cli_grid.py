@@ -1,7 +1,7 @@
 """The `explorer grid` command: writes a readable grid file; user errors are one line, exit 2.
 
-No published numbers here: the window is a choice (5 x 3 x 4 = 60 points, small enough to
-solve in well under a second) and the exit status 2 is the DESIGN.md CLI contract.
+No published numbers here: the window is a choice (5 x 3 x 4 = 60 points, kept small for the
+tests) and exit status 2 is the CLI's contract for user error (README).
 """
 
 from __future__ import annotations
@@ -44,6 +44,8 @@ def assert_one_line_error(code: int, err: str, *names: str) -> None:
 
 
 def test_grid_writes_a_loadable_file(capsys, tmp_path, scenario_file):
+    """explorer grid writes a NetCDF file that loads with the window's sizes and the scenario as
+    written, reports the point count and the path, and leaves no temporary file."""
     out_path = tmp_path / "g.nc"
     code, out, err = run(capsys, "grid", scenario_file, "-o", out_path)
     assert code == 0, err
@@ -63,6 +65,8 @@ def test_grid_writes_a_loadable_file(capsys, tmp_path, scenario_file):
     (["--workers", "2", "--scheduler", "tcp://127.0.0.1:8786"], ["--workers", "--scheduler"]),
 ])
 def test_bad_worker_options_are_user_errors(capsys, tmp_path, scenario_file, argv, names):
+    """--workers 0, and --workers with --scheduler, are one-line user errors naming the
+    options, and no grid file is written."""
     target = tmp_path / "g.nc"
     code, out, err = run(capsys, "grid", scenario_file, "-o", target, *argv)
     assert_one_line_error(code, err, *names)
@@ -70,6 +74,7 @@ def test_bad_worker_options_are_user_errors(capsys, tmp_path, scenario_file, arg
 
 
 def test_missing_output_option_is_a_user_error(capsys, scenario_file, monkeypatch):
+    """grid without -o is a one-line user error naming -o."""
     # sys.argv as the console script would see it (explorer.cli echoes sys.argv[1:]).
     monkeypatch.setattr("sys.argv", ["explorer", "grid", str(scenario_file)])
     code, out, err = run(capsys, "grid", scenario_file)
@@ -77,6 +82,8 @@ def test_missing_output_option_is_a_user_error(capsys, scenario_file, monkeypatc
 
 
 def test_output_in_a_missing_folder_is_a_user_error(capsys, tmp_path, scenario_file):
+    """An output path in a missing folder is a one-line user error naming -o, and no folder is
+    created."""
     target = tmp_path / "no-such-folder" / "g.nc"
     code, out, err = run(capsys, "grid", scenario_file, "-o", target)
     assert_one_line_error(code, err, "-o")
@@ -84,8 +91,9 @@ def test_output_in_a_missing_folder_is_a_user_error(capsys, tmp_path, scenario_f
 
 
 def test_unreachable_scheduler_leaves_the_previous_file(capsys, tmp_path, scenario_file):
-    """Port 9 (discard) has no dask scheduler; the client gives up after its 20 s timeout,
-    so this test takes about 20 s."""
+    """Port 9 (discard) has no dask scheduler: grid gives up with a one-line error naming the
+    address, leaves the previous file and no temporary one, and does so within 60 s (its 20 s
+    connect timeout plus slack: a hang guard, not a speed goal)."""
     pytest.importorskip("dask.distributed")
     target = tmp_path / "g.nc"
     target.write_bytes(b"an earlier grid file\n")
@@ -101,6 +109,7 @@ def test_unreachable_scheduler_leaves_the_previous_file(capsys, tmp_path, scenar
 
 
 def test_user_error_keeps_an_existing_output_file(capsys, tmp_path, scenario_file):
+    """A user error (--workers 0) leaves an existing output file byte for byte."""
     target = tmp_path / "g.nc"
     target.write_bytes(b"an earlier grid file\n")
     code, out, err = run(capsys, "grid", scenario_file, "-o", target, "--workers", "0")
@@ -109,6 +118,8 @@ def test_user_error_keeps_an_existing_output_file(capsys, tmp_path, scenario_fil
 
 
 def test_usage_error_quotes_the_arguments_given_to_main(capsys, scenario_file, monkeypatch):
+    """A usage error names -o and quotes only the arguments given to main, not the host program's
+    sys.argv."""
     monkeypatch.setattr("sys.argv", ["host-program", "--host-option"])
     code, out, err = run(capsys, "grid", scenario_file)
     assert_one_line_error(code, err, "-o")

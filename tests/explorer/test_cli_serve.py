@@ -17,6 +17,8 @@ def served(monkeypatch):
 
 
 def test_default_address_is_loopback(served, capsys):
+    """serve binds 127.0.0.1 by default on the port given, opens no browser, allows only loopback
+    websocket origins, and warns of nothing."""
     assert build_parser().parse_args(["serve"]).address == "127.0.0.1"
     assert main(["serve", "--port", "5123"]) == 0
     (_, kwargs), = served
@@ -27,6 +29,7 @@ def test_default_address_is_loopback(served, capsys):
 
 
 def test_other_address_is_served_only_with_a_warning(served, capsys):
+    """serve --address 0.0.0.0 warns naming the address and allows that origin only."""
     assert main(["serve", "--address", "0.0.0.0", "--port", "5124"]) == 0
     err = capsys.readouterr().err
     assert "warning" in err and "0.0.0.0" in err
@@ -40,6 +43,8 @@ def test_other_address_is_served_only_with_a_warning(served, capsys):
     (["missing.toml"], "missing.toml"),
 ])
 def test_bad_serve_options_are_one_line_and_exit_2(served, capsys, argv, named):
+    """Each bad serve option exits 2 with one stderr line naming it, no traceback, and nothing
+    served."""
     assert main(["serve", *argv]) == 2
     err = capsys.readouterr().err
     assert err.count("\n") == 1 and named in err and "Traceback" not in err

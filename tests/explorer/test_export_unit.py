@@ -62,11 +62,14 @@ def page_data(text: str) -> dict:
     '<html><head><link rel="icon" href="  https://example.org/favicon.ico"></head></html>',
 ])
 def test_check_offline_refuses_network_links(page):
+    """check_offline raises on each page that links a networked script, stylesheet or image."""
     with pytest.raises(RuntimeError, match="network resources"):
         check_offline(page)
 
 
 def test_check_offline_accepts_data_uris_urls_in_script_text_and_local_anchors():
+    """check_offline accepts data: URIs, URLs inside script text and local anchors (no
+    exception)."""
     page = """<html><head>
 <link rel="icon" href="data:image/png;base64,iVBORw0KGgo=">
 <script type="text/javascript">
@@ -79,6 +82,7 @@ def test_check_offline_accepts_data_uris_urls_in_script_text_and_local_anchors()
 
 
 def test_check_offline_counts_every_link():
+    """check_offline's message counts every networked link (3 here)."""
     page = ('<script src="https://a.example/1.js"></script>'
             '<script src="https://a.example/2.js"></script>'
             '<link href="//b.example/3.css">')
@@ -96,6 +100,7 @@ def test_check_offline_counts_every_link():
     ([True, True, False, False, False], "700-750"),
 ])
 def test_ranges_text(mask, expected):
+    """_ranges_text writes each feasible mask over 700-900 degC as the expected ranges text."""
     T = np.array([700.0, 750.0, 800.0, 850.0, 900.0])
     assert _ranges_text(T, np.array(mask)) == expected
 
@@ -121,6 +126,8 @@ def crafted_dataset(extra: dict | None = None) -> xr.Dataset:
 
 
 def test_feasible_ranges_table_of_a_crafted_window():
+    """feasible_ranges_html of a crafted 2 x 2 window gives exactly the expected table of ranges
+    per S/C and pressure."""
     rows = table_cells(feasible_ranges_html(crafted_dataset()))
     assert rows == [
         ["S/C \\ P [bar abs]", "10.0", "20.0"],
@@ -130,6 +137,8 @@ def test_feasible_ranges_table_of_a_crafted_window():
 
 
 def test_feasible_ranges_with_a_cofeed_axis_has_one_table_per_value():
+    """With a co-feed axis there is one table per co-feed value, each headed by its value, the
+    second holding the crafted complement mask's ranges."""
     text = feasible_ranges_html(crafted_dataset({"co2_to_carbon": [0.0, 0.5]}))
     assert text.count("<table") == 2
     assert "<b>CO2-to-carbon 0</b>" in text and "<b>CO2-to-carbon 0.5</b>" in text
@@ -156,6 +165,9 @@ def solved():
 
 
 def test_review_sheet_holds_inputs_limits_window_pins_notes_sources_cautions(solved):
+    """The review sheet shows the scenario's feed, window and limits as formatted values, the
+    feasible count and ranges, each pinned point with its balance, the notes and scenario text
+    escaped, the data sources and the caution."""
     sc, ds, pinned = solved
     sheet = review_sheet_html(sc, ds, pinned)
     cells = table_cells(sheet)
@@ -195,6 +207,7 @@ def test_review_sheet_holds_inputs_limits_window_pins_notes_sources_cautions(sol
 
 
 def test_review_sheet_without_pins_or_notes(solved):
+    """Without pins or notes the sheet says 'None pinned.' and '(none)'."""
     sc, ds, _ = solved
     sheet = review_sheet_html(sc.with_notes(""), ds, [])
     assert "<p>None pinned.</p>" in sheet
@@ -203,6 +216,8 @@ def test_review_sheet_without_pins_or_notes(solved):
 
 # ---------------------------------------------------------------- command line, subprocess
 def test_export_of_the_demo_window_is_offline_small_and_embeds_the_axes(tmp_path):
+    """Exporting the demo writes one offline file below MAX_REVIEW_BYTES whose embedded axes and
+    shape (26 x 13 x 17) are the demo window's, with no temporary file left."""
     out = tmp_path / "out.html"
     proc = run_export("--scenario", str(DEMO_PATH), "-o", str(out))
     assert proc.returncode == 0, proc.stderr
@@ -222,6 +237,8 @@ def test_export_of_the_demo_window_is_offline_small_and_embeds_the_axes(tmp_path
 
 
 def test_export_with_grid_and_pins_embeds_that_grid(tmp_path, solved):
+    """Exporting with --grid and --pinned embeds that grid's axes and shape, the pinned point's
+    balance and the notes, offline."""
     sc, ds, pinned = solved
     (tmp_path / "s.toml").write_text(sc.to_toml(), "utf-8")
     thermo.io.save(ds, tmp_path / "g.nc")
@@ -241,6 +258,8 @@ def test_export_with_grid_and_pins_embeds_that_grid(tmp_path, solved):
 
 
 def test_export_with_a_missing_scenario_file_exits_2_with_one_line(tmp_path):
+    """A missing scenario file exits 2 with one error line naming it, no traceback and no output
+    file."""
     missing = tmp_path / "no-such-scenario.toml"
     out = tmp_path / "out.html"
     proc = run_export("--scenario", str(missing), "-o", str(out))
@@ -253,6 +272,7 @@ def test_export_with_a_missing_scenario_file_exits_2_with_one_line(tmp_path):
 
 
 def test_export_into_a_missing_folder_exits_2(tmp_path):
+    """An output in a missing folder exits 2 with one error line, and the folder is not created."""
     out = tmp_path / "no-such-folder" / "out.html"
     proc = run_export("--scenario", str(DEMO_PATH), "-o", str(out))
     assert proc.returncode == 2
@@ -276,6 +296,8 @@ def leftovers(folder: Path, keep: Path) -> list[Path]:
 
 
 def test_failed_build_keeps_the_previous_file(previous, monkeypatch):
+    """A failure while building the page leaves the previous review file unchanged and no
+    temporary file."""
     def boom(*args, **kwargs):
         raise RuntimeError("simulated failure while building the page")
 
@@ -288,6 +310,8 @@ def test_failed_build_keeps_the_previous_file(previous, monkeypatch):
 
 def test_failure_after_the_temporary_file_is_written_keeps_the_previous_file(previous,
                                                                             monkeypatch):
+    """A failure at the rename, after the new page was written to a .part file beside it, leaves
+    the previous file unchanged and no temporary file."""
     seen = []
 
     def publish_fails(tmp, path):
@@ -308,6 +332,8 @@ def test_failure_after_the_temporary_file_is_written_keeps_the_previous_file(pre
 
 
 def test_page_with_network_links_is_not_written(previous, monkeypatch):
+    """A built page with a network link is refused and the previous file stays, with no temporary
+    file."""
     monkeypatch.setattr(export_module, "build_review",
                         lambda sc, ds, pinned, compare=None: '<script src="https://cdn.example.org/x.js">')
     with pytest.raises(RuntimeError, match="network"):
@@ -317,6 +343,8 @@ def test_page_with_network_links_is_not_written(previous, monkeypatch):
 
 
 def test_successful_write_replaces_the_file_with_normal_permissions(previous, monkeypatch):
+    """A successful write replaces the file's content, leaves no temporary file, and gives the
+    mode a new file gets under the umask."""
     new = "<html><body>the new review</body></html>"
     monkeypatch.setattr(export_module, "build_review", lambda sc, ds, pinned, compare=None: new)
     assert write_review(small_scenario(), previous, ds=object(), pinned=[]) == previous

@@ -19,6 +19,8 @@ from thermo.scenario import DEMO_PATH
 
 @pytest.mark.parametrize("name", ["demo", "ammonia-front-end"])
 def test_infeasibility_sign_equals_the_feasible_mask(name):
+    """On every slice of both map modes, the hatching field is <= 0 exactly where the Dataset's
+    feasible mask is true, for the demo and the ammonia scenario (both kinds of node present)."""
     sc = thermo.load_scenario(DEMO_PATH.parent / f"{name}.toml")
     if name == "demo":
         sc = small_scenario()

@@ -38,9 +38,11 @@ def _values() -> list[float]:
     return [float(v) for v in vals]
 
 
-@pytest.mark.skipif(NODE is None, reason="Node.js is not installed")
+@pytest.mark.usefixtures("node")  # skips without Node.js, fails in CI (tests/conftest.py)
 @pytest.mark.parametrize("digits", [0, 1, 2, 3, 4])
 def test_fixed_formatting_matches_python(digits):
+    """review.js's pyFixed formats about 1,500 values (exact ties included) digit for digit as
+    Python's f'{v:,.{d}f}', for 0-4 decimals."""
     vals = _values()
     script = (_functions() + f"\nconst vals = {json.dumps(vals)};\n"
               f"console.log(JSON.stringify(vals.map((v) => pyFixed(v, {digits}))));")
@@ -49,9 +51,11 @@ def test_fixed_formatting_matches_python(digits):
     assert out == [f"{v:,.{digits}f}" for v in vals]
 
 
-@pytest.mark.skipif(NODE is None, reason="Node.js is not installed")
+@pytest.mark.usefixtures("node")  # skips without Node.js, fails in CI (tests/conftest.py)
 @pytest.mark.parametrize("precision", [3, 5])
 def test_general_formatting_matches_python(precision):
+    """review.js's pyG formats the same values digit for digit as Python's f'{v:.{p}g}', for 3
+    and 5 significant digits."""
     vals = [v for v in _values() if v != 0.0]
     script = (_functions() + f"\nconst vals = {json.dumps(vals)};\n"
               f"console.log(JSON.stringify(vals.map((v) => pyG(v, {precision}))));")
@@ -62,7 +66,7 @@ def test_general_formatting_matches_python(precision):
     assert not bad, bad[:5]
 
 
-@pytest.mark.skipif(NODE is None, reason="Node.js is not installed")
+@pytest.mark.usefixtures("node")  # skips without Node.js, fails in CI (tests/conftest.py)
 def test_page_assembles_a_train_balance_as_the_core_does(tmp_path):
     """The review file's script builds a clicked point's balance, the reforming train
     included, from the embedded arrays; its tables equal the app's (thermo.point)."""

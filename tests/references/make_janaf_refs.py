@@ -13,7 +13,8 @@ Run from the repository root after changing a tolerance or a temperature list:
 The tolerances and their reasons are data of this script (``FORMATION_TOL``,
 ``LOGK_TOL``); each was set at about 1.5-2 times the largest difference measured between
 the model (1 bar basis, per-record standard pressures of thermo/data/species.toml) and JANAF
-(the measured figures are quoted in each reason).
+(the measured figures are quoted in each reason), except reforming's log10 K, held to the
+README's claim (K within 5 %, 1.08 times the largest difference measured).
 """
 
 from __future__ import annotations
@@ -57,7 +58,7 @@ FORMATION_TOL = {
     ("delta_f_H", "CH4"): (
         0.5,
         "data-set difference: GRI-Mech CH4 (Gurvich-based) has dfH = -74.60 kJ/mol, JANAF "
-        "-74.873 (measured +0.27; DOMAIN.md -74.87 vs -74.6)",
+        "-74.873 (measured +0.27)",
     ),
     ("delta_f_H", "*"): (
         0.03,
@@ -103,10 +104,11 @@ LOGK_T = [float(T) for T in range(600, 1501, 100)]
 #: Tolerance on log10 K (1 bar basis) per reaction and its reason.
 LOGK_TOL = {
     "reforming": (
-        0.03,
-        "data-set difference in CH4 (GRI-Mech L 8/88 record vs JANAF: dfH 0.27 kJ/mol, S "
-        "0.12 J/(mol K), cp up to 4.5 % above 1000 K, SOLVER-NOTES.md); measured model - "
-        "JANAF +0.0196 at 600 K, falling through 0 near 1100 K to -0.0186 at 1500 K",
+        math.floor(math.log10(1.05) * 1e4) / 1e4,
+        "the README's claim, K within 5 % of JANAF: log10(1.05) = 0.02119, rounded down; data-set "
+        "difference in CH4 (GRI-Mech L 8/88 record vs JANAF: dfH 0.27 kJ/mol, S 0.12 J/(mol K), cp "
+        "+2.5 % at 1000 K to +4.5 % at 1500 K, measured); measured model - JANAF +0.0196 at "
+        "600 K, falling through 0 near 1100 K to -0.0186 at 1500 K",
     ),
     "shift": (
         0.003,

@@ -20,7 +20,7 @@ The reference species are therefore rebuilt:
   (no approximation), so mu_j/RT = g_j/RT(1 bar) + ln(x_j P / 1 bar) is what the project uses.
 * graphite: ``graphite.yaml`` is loaded, its species record is taken from Cantera
   (``input_data``, which keeps its constant-volume equation of state with the 2.16 g/cm3
-  density; building it from the bare species gives a near-zero density, SOLVER-NOTES.md) and
+  density; building it from the bare species gives a near-zero density, seen with Cantera 3.2) and
   only ``reference-pressure: 1e5`` is added before the phase is rebuilt. Setting
   ``Species.thermo`` with ``modify_species`` is not enough: the phase keeps 1 atm as its own
   reference pressure, which shifts mu by (101325 - 1e5) v / RT, about 9e-7 at 1000 K.

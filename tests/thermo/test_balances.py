@@ -3,7 +3,7 @@
 Sources of the numbers used here:
 
 * standard heats of reaction at 298.15 K: NIST-JANAF (Chase 1998) formation enthalpies from
-  tests/references/janaf_formation.toml, and the rounded reaction heats DOMAIN.md quotes from
+  tests/references/janaf_formation.toml, and the reaction heats rounded to 0.1 kJ/mol from
   the same tables (reforming +206.2, shift -41.2 kJ/mol);
 * directions of change of methane slip: common practice, no source (marked at the test);
 * everything else is a closure or consistency property of the definitions (no number).
@@ -57,6 +57,8 @@ ADIABATIC_CASES = [
 @pytest.mark.parametrize("label, n_in, P, T_in, approach", ADIABATIC_CASES,
                          ids=[c[0] for c in ADIABATIC_CASES])
 def test_adiabatic_temperature_closes_the_duty(label, n_in, P, T_in, approach):
+    """At the adiabatic temperature the duty is zero to DUTY_RTOL of the inlet enthalpy, and the
+    duty equals outlet minus inlet enthalpy recomputed here (1e-9)."""
     T = adiabatic_temperature(n_in, P, T_in, approach)
     bal = reformer_balance(n_in[None, :], T, P, T_in, approach)
     assert bal.converged[0]
@@ -69,6 +71,8 @@ def test_adiabatic_temperature_closes_the_duty(label, n_in, P, T_in, approach):
 
 
 def test_adiabatic_point_api():
+    """point(adiabatic=True) reports adiabatic and a duty of zero to DUTY_RTOL of the inlet
+    enthalpy."""
     pt = point(temperature="850 degC", pressure="25 bar", steam_to_carbon=1.5,
                oxygen_to_carbon=0.6, inlet_temperature="550 degC", adiabatic=True)
     d = pt.to_dict()
@@ -80,6 +84,8 @@ def test_adiabatic_point_api():
 
 
 def test_approach_composition_at_T_minus_approach_and_enthalpy_at_T():
+    """With a 10 K approach the outlet flows equal the equilibrium 10 K lower, the outlet
+    enthalpy and duty are taken at T itself, and the duty exceeds that of the lower-T point."""
     with_approach = point(temperature="850 degC", pressure="25 bar", steam_to_carbon=3.0,
                           approach="10 K")
     at_lower_T = point(temperature="840 degC", pressure="25 bar", steam_to_carbon=3.0,
@@ -119,7 +125,7 @@ def test_methane_slip_directions():
     """Common practice, no source: at equilibrium and without carbon, the dry methane slip
     falls as temperature rises, falls as steam-to-carbon rises, and rises with pressure
     (reforming is endothermic and makes 2 mol of gas per mol). Checked over the typical
-    operating ranges of DOMAIN.md (common practice): 700-950 degC, 10-40 bar, S/C 2-5."""
+    operating ranges (common practice, no source): 700-950 degC, 10-40 bar, S/C 2-5."""
     T = np.linspace(973.15, 1223.15, 6)
     P = np.linspace(10e5, 40e5, 4)
     SC = np.linspace(2.0, 5.0, 4)
@@ -145,8 +151,8 @@ def _janaf_dfH(species):
 
 
 def test_standard_heats_of_reaction_at_298K():
-    """Reforming +206.2 and shift -41.2 kJ/mol (NIST-JANAF, Chase 1998, as quoted in
-    DOMAIN.md), and the same from JANAF's formation enthalpies in
+    """Reforming +206.2 and shift -41.2 kJ/mol (NIST-JANAF, Chase 1998, rounded to 0.1, as
+    test_species_data.HEATS_298), and the same from JANAF's formation enthalpies in
     tests/references/janaf_formation.toml. Tolerance 0.5 kJ/mol: the model's GRI-Mech CH4
     formation enthalpy is 0.27 kJ/mol less negative than JANAF's (data-set difference, see
     that file), plus rounding of the quoted heats to 0.1 kJ/mol."""
@@ -154,8 +160,8 @@ def test_standard_heats_of_reaction_at_298K():
     r = pt.to_dict()["reactions"]
     ref_kJ = r["reforming"]["heat_298_J_per_mol"] / 1000
     shift_kJ = r["shift"]["heat_298_J_per_mol"] / 1000
-    assert ref_kJ == pytest.approx(206.2, abs=0.5)  # NIST-JANAF (Chase 1998), DOMAIN.md
-    assert shift_kJ == pytest.approx(-41.2, abs=0.5)  # NIST-JANAF (Chase 1998), DOMAIN.md
+    assert ref_kJ == pytest.approx(206.2, abs=0.5)  # NIST-JANAF (Chase 1998), rounded
+    assert shift_kJ == pytest.approx(-41.2, abs=0.5)  # NIST-JANAF (Chase 1998), rounded
     janaf_ref = _janaf_dfH("CO") + 3 * _janaf_dfH("H2") - _janaf_dfH("CH4") - _janaf_dfH("H2O")
     janaf_shift = _janaf_dfH("CO2") + _janaf_dfH("H2") - _janaf_dfH("CO") - _janaf_dfH("H2O")
     assert ref_kJ == pytest.approx(janaf_ref, abs=0.5)
@@ -172,6 +178,8 @@ def _strict_json_roundtrip(d):
 
 
 def test_to_dict_is_strict_json():
+    """to_dict() survives a strict JSON round trip, with converged True and a finite H2/CO at the
+    demo's design point."""
     pt = point(temperature="880 degC", pressure="22 barg", steam_to_carbon=3.0,
                approach="10 K")
     d = pt.to_dict()
@@ -202,12 +210,16 @@ def test_to_dict_without_any_oxygen():
     dict(steam_to_carbon=2.0, co2_to_carbon=1.0, pressure="40 bar"),
 ])
 def test_element_closure(kw):
+    """The reported element closure of each point is at most CLOSURE_TOL (the closure's agreement
+    with the flows: tests/explorer/test_reported_closure.py)."""
     d = point(**kw).to_dict()
     for element, closure in d["element_closure"].items():
         assert closure <= CLOSURE_TOL, element
 
 
 def test_element_closure_on_a_grid():
+    """Over 12 points (650-950 degC, S/C 0-6, O2/C 0.3 below S/C 1) every point converges and every
+    element's reported closure is at most CLOSURE_TOL."""
     T = np.repeat([923.15, 1073.15, 1223.15], 4)
     SC = np.tile([0.0, 0.8, 2.5, 6.0], 3)
     n_in = np.stack([_feed(s, 0.3 if s < 1 else 0.0) for s in SC])

@@ -219,7 +219,7 @@ def test_grid_carbon_equals_point(sc):
             if got.dtype.kind in "bi":
                 assert got == want, name
             else:
-                # DESIGN.md: grid == point to 1e-9 relative.
+                # A grid value equals thermo.point at the same coordinates, to 1e-9 relative.
                 np.testing.assert_allclose(got, want, rtol=1e-9, atol=0, err_msg=name)
         # Where a maximum lies inside the path its temperature is ill-conditioned (the
         # activity is flat there): position to 0.05 K, the value above to 1e-9.

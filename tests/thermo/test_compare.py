@@ -33,6 +33,8 @@ def pair():
 
 
 def test_proposal_is_solved_on_the_base_window(pair):
+    """on_base_window gives the proposal the base's window and keeps its train and approach; its
+    text reads back equal; both grids have the same coordinates."""
     base, proposal, moved, b, p = pair
     assert moved.window == base.window
     assert moved.train == proposal.train and moved.approach == 5.0
@@ -42,6 +44,9 @@ def test_proposal_is_solved_on_the_base_window(pair):
 
 
 def test_difference_equals_the_two_grids_subtracted(pair):
+    """difference() equals proposal minus base exactly for each variable with its units and
+    'change' name, equals two thermo.point calls at one point (1e-9), and is exactly zero for a
+    scenario against itself."""
     base, proposal, moved, b, p = pair
     diff = difference(b, p)
     for name in ("h2_yield", "h2_product", "methane_slip_dry", "duty", "train_duty",
@@ -64,6 +69,7 @@ def test_difference_equals_the_two_grids_subtracted(pair):
 
 
 def test_windows_must_match(pair):
+    """Grids on different windows are refused with an InputError on the field 'comparison'."""
     base, proposal, moved, b, p = pair
     with pytest.raises(InputError) as err:
         difference(b, p.isel(temperature=slice(0, 3)))
@@ -71,6 +77,8 @@ def test_windows_must_match(pair):
 
 
 def test_unconverged_or_infinite_values_give_no_difference(pair):
+    """An unconverged point or an infinite value gives NaN (and both_converged False) there, and
+    finite differences elsewhere."""
     base, proposal, moved, b, p = pair
     p2 = p.copy(deep=True)
     p2["converged"][0, 0, 0] = False
@@ -82,6 +90,8 @@ def test_unconverged_or_infinite_values_give_no_difference(pair):
 
 
 def test_proposal_approach_must_fit_the_base_window(pair):
+    """A proposal whose approach takes the base window's lowest temperature below the allowed
+    range is refused with InputError."""
     base, proposal, moved, b, p = pair
     cold = base.with_window(temperature=("40 degC", "900 degC", 3))
     with pytest.raises(InputError):

@@ -7,7 +7,7 @@ records declare (see ``tests/thermo/cantera_ref.py``). With identical data the t
 differ only by solver precision, so tolerances are tight:
 
 * mole fractions: |dx| <= 1e-8 absolute. Cantera's multiphase solver is precise to about 1e-7
-  relative on trace species (SOLVER-NOTES.md), i.e. far below 1e-8 absolute; the project's
+  relative on trace species (seen with Cantera 3.2, no source), far below 1e-8 absolute; our
   solver closes element balances to 1e-10 relative. 1e-8 leaves room for the former.
 * graphite amount: see CARBON_RTOL.
 * duty: 1e-6 of the inlet enthalpy flow's magnitude (mixture enthalpies are sums of the same
@@ -153,6 +153,8 @@ def extremes():
 
 
 def test_reference_uses_the_project_coefficients():
+    """Cantera's phases built by cantera_ref hold the same coefficients and standard states as
+    thermo/data/species.toml (check_same_coefficients)."""
     cr.check_same_coefficients()
 
 
@@ -168,6 +170,8 @@ def test_sweep_covers_the_regimes(sweep):
 
 @pytest.mark.parametrize("which", ["sweep", "extremes"])
 def test_every_point_converged_and_finite(which, request):
+    """Every random and extreme point converges in the solver and the balance, with finite, non-
+    negative moles and graphite."""
     r = request.getfixturevalue(which)
     eq = r["eq"]
     assert eq.converged.all()
@@ -178,6 +182,7 @@ def test_every_point_converged_and_finite(which, request):
 
 @pytest.mark.parametrize("which", ["sweep", "extremes"])
 def test_mole_fractions_match_cantera(which, request):
+    """Every mole fraction equals Cantera's at the same point to DX_TOL absolute."""
     r = request.getfixturevalue(which)
     dx = np.abs(r["eq"].mole_fractions - r["ct_x"])
     worst = np.unravel_index(np.argmax(dx), dx.shape)
@@ -188,6 +193,8 @@ def test_mole_fractions_match_cantera(which, request):
 
 @pytest.mark.parametrize("which", ["sweep", "extremes"])
 def test_carbon_call_matches_cantera(which, request):
+    """Graphite deposits at exactly the points where Cantera's multiphase equilibrium deposits
+    it."""
     r = request.getfixturevalue(which)
     ours = r["eq"].carbon > 0
     theirs = r["ct_carbon"] > 0
@@ -197,6 +204,7 @@ def test_carbon_call_matches_cantera(which, request):
 
 @pytest.mark.parametrize("which", ["sweep", "extremes"])
 def test_carbon_amount_matches_cantera(which, request):
+    """The graphite amount equals Cantera's to CARBON_RTOL of the carbon fed."""
     r = request.getfixturevalue(which)
     diff = np.abs(r["eq"].carbon - r["ct_carbon"]) / r["carbon_fed"]
     assert diff.max() <= CARBON_RTOL
@@ -233,7 +241,7 @@ def test_trace_species_finite(extremes):
     x = extremes["eq"].mole_fractions[k, IDX["O2"]]
     x_ct = extremes["ct_x"][k, IDX["O2"]]
     assert np.isfinite(x) and 0 < x < 1e-30
-    # Relative: Cantera is precise to ~1e-7 relative on trace species (SOLVER-NOTES.md).
+    # Relative: Cantera is precise to ~1e-7 relative on trace species (module docstring).
     assert abs(x / x_ct - 1) <= 1e-6
 
 
@@ -261,6 +269,8 @@ def test_reported_carbon_activity_where_carbon_forms(sweep):
 
 
 def test_all_points_match_cantera(sweep):
+    """Over the whole sweep of points, mole fractions equal Cantera's to DX_TOL and the carbon
+    call is the same everywhere."""
     dx = np.abs(sweep["eq"].mole_fractions - sweep["ct_x"]).max()
     same_call = ((sweep["eq"].carbon > 0) == (sweep["ct_carbon"] > 0)).all()
     assert dx <= DX_TOL and same_call

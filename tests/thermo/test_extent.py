@@ -62,6 +62,8 @@ def test_K_from_delta_g_sign(dg):
 @pytest.mark.parametrize("reaction", [REFORMING, SHIFT, CRACKING, BOUDOUARD],
                          ids=lambda r: r.name)
 def test_equilibrium_constant_is_K_from_delta_g(reaction):
+    """equilibrium_constant equals K_from_delta_g of the reaction's standard Gibbs energy change
+    at 700, 1000 and 1300 K (1e-12)."""
     T = np.array([700.0, 1000.0, 1300.0])
     dg = delta_g_RT(reaction, T) * R * T
     np.testing.assert_allclose(equilibrium_constant(reaction, T), K_from_delta_g(dg, T),
@@ -74,6 +76,8 @@ FEED = {"CH4": 1.0, "H2O": 3.0, "CO": 0.5, "H2": 2.0}
 
 
 def test_K_above_limit_goes_to_completion():
+    """The reforming extent's bounds are (-0.5, 1.0) on FEED, and K above K_LIMIT gives the upper
+    bound, the 'complete' limit and no CH4 left."""
     lo, hi = extent_bounds(REFORMING, FEED)
     assert (lo, hi) == (-0.5, 1.0)  # CO runs out backwards; CH4 forwards
     sol = solve_extent(REFORMING, FEED, 1000.0, 1e5, K=10 * K_LIMIT)
@@ -83,6 +87,7 @@ def test_K_above_limit_goes_to_completion():
 
 
 def test_K_below_limit_runs_backwards():
+    """K below 1/K_LIMIT gives the lower bound, the 'reverse' limit and no CO left."""
     lo, _ = extent_bounds(REFORMING, FEED)
     sol = solve_extent(REFORMING, FEED, 1000.0, 1e5, K=0.1 / K_LIMIT)
     assert sol.extents == (lo,)
@@ -92,6 +97,7 @@ def test_K_below_limit_runs_backwards():
 
 @pytest.mark.parametrize("K", [K_LIMIT / 10, 10 / K_LIMIT])
 def test_K_inside_limits_is_solved(K):
+    """K inside the limits is solved: no limit flag and the extent strictly inside its bounds."""
     sol = solve_extent(REFORMING, FEED, 1000.0, 1e5, K=K)
     assert sol.limit == ("",)
     lo, hi = extent_bounds(REFORMING, FEED)
@@ -190,7 +196,7 @@ def test_shift_alone_agrees_with_minimization_where_methane_is_absent(T, P):
 
     On this CO + H2O + CO2 + H2 feed the full solver's CH4 exceeds 1e-7 below about 1400 K at
     1 bar (shift converters, far colder, are treated as shift-only because methanation is
-    kinetically frozen there: DOMAIN.md, common practice, no source), so this
+    kinetically frozen there: common practice, no source), so this
     comparison is made hot and at low pressure, where the full solver's CH4 is below 1e-7 and
     no graphite forms (both checked); the extent method's missing CH4 then moves the other
     mole fractions by < 1e-6. (At 1373 K and 1 bar CH4 is still 2e-7, at 1273 K 1.2e-6.)

@@ -44,6 +44,8 @@ def _run_with_timeout(fn, seconds=240):
 
 
 def test_worker_killed_mid_sweep_still_gives_the_complete_result(scenario):
+    """With one dask worker killed by SIGKILL after the first chunk, the sweep completes,
+    converged everywhere, equal to the in-process sweep (1e-9)."""
     reference = sweep(scenario)
     cluster = distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
                                        host="127.0.0.1", dashboard_address=None)
@@ -70,6 +72,8 @@ def test_worker_killed_mid_sweep_still_gives_the_complete_result(scenario):
 
 
 def test_no_workers_left_is_a_clear_error_and_no_file(scenario, tmp_path):
+    """explorer grid on a scheduler that is gone exits 2 and writes neither the grid nor a
+    temporary file."""
     from explorer.cli import main
 
     cluster = distributed.LocalCluster(n_workers=1, threads_per_worker=1, processes=True,
@@ -87,6 +91,8 @@ def test_no_workers_left_is_a_clear_error_and_no_file(scenario, tmp_path):
 
 
 def test_interrupted_grid_write_keeps_the_previous_file(scenario, tmp_path, monkeypatch):
+    """Ctrl+C in the middle of a grid write leaves the previous file byte for byte and no
+    temporary file."""
     ds = sweep(scenario)
     target = io.save(ds, tmp_path / "grid.nc")
     before = target.read_bytes()

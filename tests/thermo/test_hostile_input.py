@@ -1,8 +1,8 @@
-"""Hostile scenario files are refused with a message, quickly, without a traceback."""
+"""Hostile scenario files are refused with a short message naming what is wrong, without a
+traceback. How long each refusal takes is measured in tests/benchmarks/bench_hostile.py
+(against a plain parse of the demo scenario in the same run), never asserted here."""
 
 from __future__ import annotations
-
-import time
 
 import pytest
 
@@ -13,30 +13,32 @@ from thermo.scenario import DEMO_PATH, MAX_SCENARIO_BYTES, MAX_TEXT_CHARS, parse
 BASE = DEMO_PATH.read_text("utf-8")
 
 
-@pytest.mark.parametrize(
-    ("text", "named"),
-    [
-        (BASE + "\nextra = " + "{ a = " * 5000 + "1" + " }" * 5000 + "\n", "nested too deeply"),
-        (BASE.replace('title = "', 'title = "' + "x" * (MAX_TEXT_CHARS + 1), 1), "title"),
-        ("# padding\n" * (MAX_SCENARIO_BYTES // 10 + 1) + BASE, "bytes"),
-        (BASE.replace("points = 26", "points = 100000"), "window.temperature.points"),
-        (BASE.replace("points = 26", "points = 400").replace("points = 13", "points = 400")
-         .replace("points = 17", "points = 400"), "window"),
-        (BASE + "\n[limits.more]\nx = [" + ",".join(["1"] * 200_000) + "]\n", "limits.more"),
-    ],
-    ids=["deep-nesting", "huge-title", "huge-file", "huge-axis", "huge-window", "huge-array"],
-)
-def test_hostile_scenario_is_refused_quickly(text, named):
-    start = time.perf_counter()
+#: (scenario text, words its message must hold) of each hostile file; ids in HOSTILE_IDS.
+HOSTILE_CASES = [
+    (BASE + "\nextra = " + "{ a = " * 5000 + "1" + " }" * 5000 + "\n", "nested too deeply"),
+    (BASE.replace('title = "', 'title = "' + "x" * (MAX_TEXT_CHARS + 1), 1), "title"),
+    ("# padding\n" * (MAX_SCENARIO_BYTES // 10 + 1) + BASE, "bytes"),
+    (BASE.replace("points = 26", "points = 100000"), "window.temperature.points"),
+    (BASE.replace("points = 26", "points = 400").replace("points = 13", "points = 400")
+     .replace("points = 17", "points = 400"), "window"),
+    (BASE + "\n[limits.more]\nx = [" + ",".join(["1"] * 200_000) + "]\n", "limits.more"),
+]
+HOSTILE_IDS = ["deep-nesting", "huge-title", "huge-file", "huge-axis", "huge-window", "huge-array"]
+
+
+@pytest.mark.parametrize(("text", "named"), HOSTILE_CASES, ids=HOSTILE_IDS)
+def test_hostile_scenario_is_refused_with_a_short_message(text, named):
+    """parse_scenario raises InputError whose message names the offending part and stays
+    under 600 characters (it never echoes the huge value)."""
     with pytest.raises(InputError) as err:
         parse_scenario(text)
     assert named in str(err.value)
-    assert len(str(err.value)) < 600  # the message never echoes a huge value
-    # Generous bound so that a hang (not a slow machine) fails: parsing a 1 MB file is ~0.1 s.
-    assert time.perf_counter() - start < 20
+    assert len(str(err.value)) < 600
 
 
 def test_huge_file_is_refused_by_the_cli_before_reading(tmp_path, capsys):
+    """explorer point on a file above MAX_SCENARIO_BYTES exits 2 with one line saying 'at most'
+    and no traceback."""
     big = tmp_path / "big.toml"
     big.write_text("# x\n" * (MAX_SCENARIO_BYTES // 4 + 10), "utf-8")
     assert main(["point", str(big)]) == 2
@@ -45,6 +47,8 @@ def test_huge_file_is_refused_by_the_cli_before_reading(tmp_path, capsys):
 
 
 def test_app_refuses_a_window_too_large_for_a_session():
+    """A window above APP_MAX_POINTS is refused for an app session with a message pointing to
+    explorer grid."""
     from explorer.state import APP_MAX_POINTS, check_window_size
     from thermo import load_scenario
 

@@ -62,10 +62,12 @@ def refused(text: str) -> InputError:
 
 
 def test_base_parses_to_si():
+    """The base scenario parses to SI: design point, approach, feed flow and temperature, ratios,
+    window axes and limits as written, path and text kept."""
     s = sc.parse_scenario(BASE, "base.toml")
     assert s.path == "base.toml" and s.text == BASE
     assert s.temperature == pytest.approx(1123.15, rel=1e-15)  # 850 degC + 273.15 (definition)
-    assert s.pressure == pytest.approx(2601325.0, rel=1e-15)  # 25 barg, DOMAIN.md
+    assert s.pressure == pytest.approx(2601325.0, rel=1e-15)  # 25 barg + 1 atm (NIST-SP811)
     assert s.approach == 10.0
     assert s.feed.flow == pytest.approx(1000.0 / 3.6, rel=1e-15)  # kmol/h to mol/s
     assert s.feed.inlet_temperature == pytest.approx(773.15, rel=1e-15)
@@ -79,12 +81,15 @@ def test_base_parses_to_si():
 
 
 def test_carbon_flow_counts_hydrocarbon_carbon_only():
+    """The carbon flow counts hydrocarbon carbon only (CH4 once, C2H6 twice, CO2 not at all)."""
     feed = sc.parse_scenario(BASE).feed
-    # DOMAIN.md: CH4 counts 1, C2H6 2; CO2 does not count.
+    # S/C (common practice, no source): CH4 counts 1, C2H6 2; CO2 does not count.
     assert feed.carbon_flow() == pytest.approx(feed.flow * (0.90 + 2 * 0.05), rel=1e-14)
 
 
 def test_inlet_flows_by_species():
+    """Inlet flows by species: CH4 from the dry gas, H2O = S/C x carbon, no O2 or H2; with co-
+    feeds CO2 = gas CO2 + CO2/C x carbon and O2 = O2/C x carbon."""
     feed = sc.parse_scenario(BASE).feed
     n = feed.inlet_flows()
     assert n.shape == (len(GAS_SPECIES),)
@@ -100,6 +105,8 @@ def test_inlet_flows_by_species():
 
 
 def test_inlet_flows_broadcast_over_ratio_arrays():
+    """Inlet flows broadcast over S/C and O2/C arrays: shape (species, 3, 2), H2O and O2
+    following their ratio, CH4 constant."""
     feed = sc.parse_scenario(BASE).feed
     s_c = np.array([1.0, 2.0, 3.0])[:, None]
     o_c = np.array([0.0, 0.2])
@@ -112,6 +119,7 @@ def test_inlet_flows_broadcast_over_ratio_arrays():
 
 
 def test_mean_molar_mass():
+    """The feed's mean molar mass is the mole-fraction-weighted sum of the species' molar masses."""
     feed = sc.parse_scenario(BASE).feed
     expected = sum(
         x * molar_mass(k) for k, x in {"CH4": 0.9, "C2H6": 0.05, "CO2": 0.03, "N2": 0.02}.items()
@@ -120,6 +128,7 @@ def test_mean_molar_mass():
 
 
 def test_mass_and_normal_volume_flows():
+    """18000 kg/h becomes mol/s through the mean molar mass, and 36000 Nm3/h through V_NORMAL."""
     s = sc.parse_scenario(variant('flow = "1000 kmol/h"', 'flow = "18000 kg/h"'))
     assert s.feed.flow == pytest.approx(5.0 / s.feed.mean_molar_mass(), rel=1e-12)
     s = sc.parse_scenario(variant('flow = "1000 kmol/h"', 'flow = "36000 Nm3/h"'))
@@ -128,6 +137,8 @@ def test_mass_and_normal_volume_flows():
 
 
 def test_optional_parts_default():
+    """Without approach, description, notes and limits the scenario has a 0 K approach, empty
+    texts and only the carbon-free limit."""
     text = variant('approach = "10 K"\n', "")
     text = text[: text.index("[limits]")]
     s = sc.parse_scenario(text.replace('description = "invented for tests"\n', ""))
@@ -136,6 +147,8 @@ def test_optional_parts_default():
 
 
 def test_composition_within_tolerance_is_normalised():
+    """A composition summing to 1.0005 is normalised to 1, each fraction divided by the sum, in
+    FEED_COMPONENTS order."""
     s = sc.parse_scenario(variant("N2 = 0.02", "N2 = 0.0205"))  # sums to 1.0005
     comp = s.feed.composition
     assert math.fsum(comp.values()) == pytest.approx(1.0, abs=1e-15)
@@ -144,6 +157,7 @@ def test_composition_within_tolerance_is_normalised():
 
 
 def test_composition_in_per_cent_strings():
+    """A composition in per cent strings parses to the same fractions as the plain numbers."""
     text = variant(
         "{ CH4 = 0.90, C2H6 = 0.05, CO2 = 0.03, N2 = 0.02 }",
         '{ CH4 = "90 %", C2H6 = "5 mol%", CO2 = "3 %", N2 = "2 %" }',
@@ -152,6 +166,7 @@ def test_composition_in_per_cent_strings():
 
 
 def test_cofeed_axis():
+    """A co2_to_carbon window axis becomes the co-feed axis, the fourth of the window's axes."""
     text = variant("[limits]", "co2_to_carbon = { from = 0.0, to = 1.0, points = 5 }\n[limits]")
     w = sc.parse_scenario(text).window
     assert w.cofeed == "co2_to_carbon" and w.cofeed_axis == sc.Axis(0.0, 1.0, 5)
@@ -159,6 +174,7 @@ def test_cofeed_axis():
 
 
 def test_single_point_axis():
+    """A one-point axis is accepted and gives that one value."""
     text = variant(
         'pressure = { from = "10 bar", to = "40 bar", points = 4 }',
         'pressure = { from = "25 bar", to = "25 bar", points = 1 }',
@@ -169,6 +185,8 @@ def test_single_point_axis():
 
 
 def test_scenario_pickles_for_worker_processes():
+    """A scenario survives pickling (for worker processes): equal, same text and hash,
+    composition still immutable."""
     s = sc.load_scenario().with_notes("kept")
     back = pickle.loads(pickle.dumps(s))
     assert back == s and back.text == s.text and hash(back) == hash(s)
@@ -176,6 +194,7 @@ def test_scenario_pickles_for_worker_processes():
 
 
 def test_scenario_is_hashable_and_frozen():
+    """Scenarios hash by content and are frozen, their composition too."""
     s = sc.parse_scenario(BASE)
     assert hash(s) == hash(sc.parse_scenario(BASE))
     with pytest.raises(dataclasses.FrozenInstanceError):
@@ -189,6 +208,8 @@ def test_scenario_is_hashable_and_frozen():
 
 @pytest.mark.parametrize("path", [None, sc.DEMO_PATH, sc.DEMO_PATH.parent / "biogas-skid.toml"])
 def test_shipped_scenarios_load(path):
+    """Each shipped scenario loads with a title, its text and path, a composition summing to 1,
+    and writes back to an equal scenario."""
     s = sc.load_scenario(path)
     assert s.title and s.text
     assert s.path == str(path or sc.DEMO_PATH)
@@ -218,6 +239,7 @@ def test_demo_shows_what_it_is_for():
 
 
 def test_to_toml_round_trip_is_equal():
+    """A scenario with a co-feed axis writes TOML that parses back equal, keeping that text."""
     s = sc.parse_scenario(
         variant("[limits]", "oxygen_to_carbon = { from = 0.0, to = 0.5, points = 3 }\n[limits]")
     )
@@ -228,6 +250,8 @@ def test_to_toml_round_trip_is_equal():
 
 
 def test_with_notes_kept_in_text():
+    """Notes with quotes, backslashes, tabs, non-ASCII and CR are kept exactly and survive the
+    scenario text."""
     notes = 'Checked by A. N. Other.\n"Slip" high at 2\\3 of the window;\ttab, ünïcode ✓, \r.'
     s = sc.parse_scenario(BASE).with_notes(notes)
     assert s.notes == notes
@@ -238,16 +262,20 @@ def test_with_notes_kept_in_text():
 @settings(max_examples=60, deadline=None)
 @given(st.text(max_size=200))
 def test_any_notes_round_trip(notes):
+    """Any drawn text as notes survives to_toml and parsing exactly."""
     s = sc.parse_scenario(BASE).with_notes(notes)
     assert sc.parse_scenario(s.to_toml()).notes == notes
 
 
 def test_with_notes_refuses_non_text():
+    """Notes that are not text are refused naming notes."""
     with pytest.raises(InputError, match="notes"):
         sc.parse_scenario(BASE).with_notes(3)  # type: ignore[arg-type]
 
 
 def test_with_window():
+    """with_window replaces the axes given (in SI), keeps the others, and the new text parses
+    back equal."""
     s = sc.parse_scenario(BASE).with_window(
         temperature=("650 degC", "950 degC", 31), steam_to_carbon=(2, 4, 3)
     )
@@ -258,6 +286,8 @@ def test_with_window():
 
 
 def test_with_window_cofeed_and_pint_quantities():
+    """with_window accepts pint quantities (barg as gauge) and a co-feed axis, and a second co-
+    feed replaces the first."""
     from thermo.units import ureg
 
     s = sc.parse_scenario(BASE).with_window(
@@ -282,6 +312,7 @@ def test_with_window_cofeed_and_pint_quantities():
     ],
 )
 def test_with_window_validates_like_the_file(kwargs, field):
+    """Each bad with_window argument is refused naming the same field a file would."""
     with pytest.raises(InputError) as info:
         sc.parse_scenario(BASE).with_window(**kwargs)
     assert info.value.field == field
@@ -312,6 +343,7 @@ def test_with_window_validates_like_the_file(kwargs, field):
     ],
 )
 def test_unknown_keys_are_named_with_the_nearest_known_key(old, new, field, suggestion):
+    """Each unknown key is refused naming it, with the nearest known key suggested."""
     error = refused(variant(old, new))
     assert error.field == field
     assert str(error).startswith(f"{field} = ")
@@ -329,17 +361,20 @@ def test_unknown_keys_are_named_with_the_nearest_known_key(old, new, field, sugg
     ],
 )
 def test_missing_required_keys_are_named(old, field):
+    """Each missing required key is refused naming it as <missing> and required."""
     error = refused(variant(old, ""))
     assert error.field == field
     assert "<missing>" in str(error) and "required" in str(error)
 
 
 def test_missing_section_is_named():
+    """A missing [window] section is refused naming window."""
     text = BASE[: BASE.index("[window]")] + BASE[BASE.index("[limits]") :]
     assert refused(text).field == "window"
 
 
 def test_missing_axis_key_is_named():
+    """An axis without points is refused naming window.pressure.points."""
     error = refused(
         variant(
             'pressure = { from = "10 bar", to = "40 bar", points = 4 }',
@@ -350,17 +385,20 @@ def test_missing_axis_key_is_named():
 
 
 def test_unknown_species_is_named_with_the_allowed_list():
+    """An unknown species is refused naming it and listing the allowed species."""
     error = refused(variant("N2 = 0.02", "H2S = 0.02"))
     assert error.field == "feed.composition.H2S"
     assert "CH4, C2H6, C3H8, CO2, N2, Ar, H2" in str(error)
 
 
 def test_species_in_wrong_case_gets_a_suggestion():
+    """A species in the wrong case is refused with the right spelling suggested."""
     error = refused(variant("N2 = 0.02", "n2 = 0.02"))
     assert error.field == "feed.composition.n2" and "did you mean 'N2'" in str(error)
 
 
 def test_negative_fraction_is_refused():
+    """A negative fraction is refused naming its species and '0 or more'."""
     error = refused(variant("{ CH4 = 0.90, C2H6 = 0.05", "{ CH4 = 1.00, C2H6 = -0.05"))
     assert error.field == "feed.composition.C2H6" and "0 or more" in str(error)
 
@@ -374,6 +412,8 @@ def test_negative_fraction_is_refused():
     ],
 )
 def test_composition_must_sum_to_one(n2, words):
+    """Compositions off by more than the tolerance are refused naming feed.composition and how
+    far off (a negative entry is named first)."""
     error = refused(variant("N2 = 0.02", n2))
     if words is None:  # the negative entry is caught first
         assert error.field == "feed.composition.N2"
@@ -382,18 +422,21 @@ def test_composition_must_sum_to_one(n2, words):
 
 
 def test_composition_sum_message_example():
+    """Fractions summing to 0.97 give 'sum to 0.9700 (3.00 % short)'."""
     # The brief's example: fractions summing to 0.97.
     error = refused(variant("CH4 = 0.90", "CH4 = 0.87"))
     assert "sum to 0.9700 (3.00 % short)" in str(error)
 
 
 def test_feed_needs_a_hydrocarbon():
+    """A feed without hydrocarbons is refused naming feed.composition."""
     text = variant("{ CH4 = 0.90, C2H6 = 0.05, CO2 = 0.03, N2 = 0.02 }", "{ CO2 = 0.5, H2 = 0.5 }")
     error = refused(text)
     assert error.field == "feed.composition" and "hydrocarbon" in str(error)
 
 
 def test_composition_value_must_be_a_number():
+    """A non-number fraction is refused naming its species."""
     error = refused(variant("N2 = 0.02", "N2 = true"))
     assert error.field == "feed.composition.N2"
 
@@ -534,6 +577,8 @@ def test_composition_value_must_be_a_number():
     ],
 )
 def test_validation_names_the_key(old, new, field, words):
+    """Each impossible value is refused with a message starting 'key = ' and saying what is
+    allowed."""
     error = refused(variant(old, new))
     assert error.field == field, str(error)
     assert str(error).startswith(f"{field} = ")
@@ -541,12 +586,16 @@ def test_validation_names_the_key(old, new, field, words):
 
 
 def test_approach_must_keep_the_window_inside_the_data_range():
+    """An approach taking the window's lowest temperature below 300 K is refused naming
+    design_point.approach."""
     text = variant('from = "700 degC"', 'from = "30 degC"')  # 303.15 K, minus 10 K is < 300 K
     error = refused(text)
     assert error.field == "design_point.approach" and "300 K" in str(error)
 
 
 def test_total_window_points_limited():
+    """A window above MAX_WINDOW_POINTS is refused naming window, the limit and its 401 x 401 x
+    13 size."""
     text = variant("points = 6 }", "points = 401 }")
     text = text.replace('to = "40 bar", points = 4', 'to = "40 bar", points = 401')
     text = text.replace("to = 5.0, points = 8", "to = 5.0, points = 13")  # 401*401*13 > 2e6
@@ -556,6 +605,7 @@ def test_total_window_points_limited():
 
 
 def test_bad_toml_names_the_file(tmp_path):
+    """Invalid TOML is refused naming the file and 'valid TOML'."""
     path = tmp_path / "broken.toml"
     path.write_text('title = "unclosed\n', encoding="utf-8")
     with pytest.raises(InputError) as info:
@@ -564,6 +614,7 @@ def test_bad_toml_names_the_file(tmp_path):
 
 
 def test_missing_file_is_named(tmp_path):
+    """A missing file is refused naming it."""
     path = tmp_path / "nowhere.toml"
     with pytest.raises(InputError) as info:
         sc.load_scenario(path)
@@ -571,6 +622,7 @@ def test_missing_file_is_named(tmp_path):
 
 
 def test_non_utf8_file_is_named(tmp_path):
+    """A Latin-1 file is refused naming it."""
     path = tmp_path / "latin1.toml"
     path.write_bytes('title = "Gävle"\n'.encode("latin-1"))
     with pytest.raises(InputError) as info:
@@ -582,6 +634,8 @@ def test_non_utf8_file_is_named(tmp_path):
 
 
 def test_range_messages_in_engineer_units():
+    """Out-of-range temperature, pressure and S/C messages give the allowed range in degC and K,
+    bar, and mol per mol; CO2/C 3 is accepted."""
     with pytest.raises(InputError, match=r"between 26.85 and 2226.85 degC \(300 to 2500 K\)"):
         sc.check_temperature(250.0, "--temperature")
     with pytest.raises(InputError, match=r"0.01 and 200 bar"):
@@ -592,6 +646,8 @@ def test_range_messages_in_engineer_units():
 
 
 def test_validate_point_overrides():
+    """validate_point_overrides turns the CLI's overrides into SI values and a composition, and
+    names the CLI option (and the species) of a bad one."""
     out = sc.validate_point_overrides(
         {"pressure": "--pressure"},
         temperature="850 degC",
@@ -641,6 +697,8 @@ def compositions(draw):
     st.floats(min_value=0.0, max_value=3.0),
 )
 def test_compositions_normalise_and_inlet_flows_balance(raw, flow, s_c, o_c, co2_c):
+    """For drawn compositions and ratios the fractions sum to 1 and are non-negative, and the
+    inlet flows hold exactly the hydrocarbon carbon, CO2, H2O, O2 and dry gas they should."""
     comp = sc.parse_composition(raw)
     assert math.fsum(comp.values()) == pytest.approx(1.0, abs=1e-15)
     assert sum(comp.values()) == pytest.approx(1.0, abs=1e-12)
@@ -669,6 +727,7 @@ def test_compositions_normalise_and_inlet_flows_balance(raw, flow, s_c, o_c, co2
 @settings(max_examples=50, deadline=None)
 @given(compositions())
 def test_normalised_composition_round_trips_through_the_file(raw):
+    """A drawn composition, normalised, survives to_toml and parsing."""
     body = ", ".join(f"{k} = {v!r}" for k, v in raw.items())
     text = variant("{ CH4 = 0.90, C2H6 = 0.05, CO2 = 0.03, N2 = 0.02 }", "{ " + body + " }")
     s = sc.parse_scenario(text)

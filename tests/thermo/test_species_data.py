@@ -96,23 +96,31 @@ FORMATION = "janaf_formation.toml"
 
 @pytest.mark.parametrize("ref", load_refs(FORMATION, quantity="delta_f_H"), ids=ids)
 def test_formation_enthalpy_matches_janaf(ref):
+    """The model's formation enthalpy of each compound [kJ/mol] equals NIST-JANAF's
+    (janaf_formation.toml) within the tolerance that file gives with its reason."""
     assert_matches_reference(model_dfH_kJ(ref.subject, ref.T_K), ref)
 
 
 @pytest.mark.parametrize("ref", load_refs(FORMATION, quantity="delta_f_G"), ids=ids)
 def test_formation_gibbs_energy_matches_janaf(ref):
+    """The model's formation Gibbs energy of each compound [kJ/mol], 1 bar basis, equals NIST-
+    JANAF's within the tolerance of janaf_formation.toml."""
     # Both on 1 bar: compared directly.
     assert_matches_reference(model_dfG_kJ(ref.subject, ref.T_K), ref)
 
 
 @pytest.mark.parametrize("ref", load_refs(FORMATION, quantity="H"), ids=ids)
 def test_element_enthalpy_matches_janaf(ref):
+    """The enthalpy of each element in its reference state [kJ/mol] equals NIST-JANAF's H -
+    H(298.15 K) within the tolerance of janaf_formation.toml."""
     # Elements: H(T) = 0 + [H(T) - H(298.15 K)]; checks a6 of the low range.
     assert_matches_reference(model_H_kJ(ref.subject, ref.T_K), ref)
 
 
 @pytest.mark.parametrize("ref", load_refs(FORMATION, quantity="S"), ids=ids)
 def test_entropy_matches_janaf(ref):
+    """Each species' standard entropy [J/(mol K)] on 1 bar equals NIST-JANAF's within the
+    tolerance of janaf_formation.toml."""
     # Both on 1 bar: compared directly (tolerances and measured differences in the toml).
     assert_matches_reference(model_S(ref.subject, ref.T_K), ref)
 
@@ -147,6 +155,9 @@ def _janaf_S(name: str):
 
 @pytest.mark.parametrize("name", list(BASIS_EVIDENCE))
 def test_standard_pressure_matches_janaf_entropy(name):
+    """Read on 1 bar and on 1 atm, a record's 298.15 K entropy agrees with JANAF's on exactly one
+    basis and clearly disagrees on the other; species.toml declares that basis, and the model's
+    entropy then equals JANAF's."""
     ref = _janaf_S(name)
     raw = raw_coefficient_S(name, ref.T_K)
     # The same coefficients read on each basis, then expressed on JANAF's 1 bar.
@@ -165,12 +176,15 @@ def test_standard_pressure_matches_janaf_entropy(name):
 
 
 def test_standard_pressures_are_bar_or_atm():
+    """Every record's standard pressure is exactly 1 bar or 1 atm."""
     # The records name one of the two standard states in use (1 bar, 1 atm), exactly.
     for name in ALL_SPECIES:
         assert sp.record(name).standard_pressure in (P_BAR, P_ATM), name
 
 
 def test_records_of_one_origin_family_share_a_standard_pressure():
+    """The GRI-Mech records with 'L' origin tags include CH4, C2H6, C3H8, H2O and CO2 and are all
+    declared on 1 bar."""
     # C2H6 and C3H8 have no JANAF table; their 1 bar basis rests on sharing the origin family
     # ("L" date tags of GRI-Mech 3.0) with CH4, H2O and CO2, whose entropies favour 1 bar.
     fam = {n: sp.record(n) for n in sp.GAS_SPECIES if sp.record(n).origin.startswith("L")}
@@ -179,12 +193,15 @@ def test_records_of_one_origin_family_share_a_standard_pressure():
 
 
 def test_project_standard_state_is_janaf_bar():
+    """The project's standard pressure P_REF is JANAF's 1 bar."""
     # Every direct comparison in this module relies on it (references.toml: JANAF1998 1 bar).
     assert P_REF == P_BAR
 
 
 @pytest.mark.parametrize("name", ALL_SPECIES)
 def test_s_shift_value(name):
+    """A record's entropy shift s_shift is ln(101325/1e5) for the 1 atm records (N2, Ar) and
+    exactly 0 for the others."""
     # ln(101325/100000) for the 1 atm records N2, Ar; exactly 0 for 1 bar records and the
     # solid. abs 1e-16: the loader computes -ln(1e5/101325), which rounds one unit in the last
     # place away from ln(101325/1e5) (measured 2.1e-17); a wrong basis moves it by 0.013.
@@ -195,6 +212,8 @@ def test_s_shift_value(name):
 
 
 def test_janaf_reference_covers_every_species():
+    """Every species is either checked against JANAF or listed as skipped with a reason, never
+    both."""
     covered = {r.subject for r in load_refs(FORMATION)}
     skipped = {s["subject"] for s in load_extra(FORMATION, "skipped")}
     assert covered | skipped == set(ALL_SPECIES)
@@ -202,6 +221,7 @@ def test_janaf_reference_covers_every_species():
 
 
 def test_janaf_check_temperature_inside_each_range():
+    """Every JANAF check temperature lies inside the species' polynomial range."""
     # N2, Ar (and C3H8) start at 300 K in GRI-Mech 3.0; they are checked at JANAF's 300 K row.
     for ref in load_refs(FORMATION):
         rec = sp.record(ref.subject)
@@ -213,12 +233,16 @@ def test_janaf_check_temperature_inside_each_range():
 
 @pytest.mark.parametrize("ref", load_refs("janaf_logK.toml"), ids=ids)
 def test_log10K_matches_janaf(ref):
+    """log10 K of reforming, shift, cracking and Boudouard (1 bar basis), 600-1500 K, equals
+    NIST-JANAF's within janaf_logK.toml's tolerances (reforming: the README's 5 % in K)."""
     # Both on 1 bar: compared directly.
     assert_matches_reference(model_log10K(ref.subject, ref.T_K), ref)
 
 
 @pytest.mark.parametrize("name", ALL_SPECIES)
 def test_shift_enters_s_and_g_only(name):
+    """The standard-pressure shift moves s/R and g/RT by s_shift and leaves cp/R and h/RT as the
+    printed coefficients give them, in both ranges."""
     # s/R and g/RT move by s_shift from the printed coefficients; cp/R and h/RT do not.
     # Identity; 1e-12 absolute is float round-off on values of order 10-100.
     rec = sp.record(name)
@@ -233,6 +257,8 @@ def test_shift_enters_s_and_g_only(name):
 
 @pytest.mark.parametrize("reaction", list(REACTIONS))
 def test_log10K_with_per_record_pressures(reaction):
+    """log10 K at 1000 K equals the value computed here from the printed coefficients, each
+    record moved from its own standard pressure to 1 bar (1e-12)."""
     # log10 K from the printed coefficients with each record moved from its own standard
     # pressure p_j to 1 bar: g_j(1 bar)/RT = g_j(p_j)/RT - ln(p_j / 1 bar). Exact identity
     # (1e-12 is round-off); reforming contains no 1 atm record, so it is the raw value.
@@ -250,32 +276,34 @@ def test_log10K_with_per_record_pressures(reaction):
 
 # ----------------------------------------------------- standard heats and K = 1 temperatures
 
-# DOMAIN.md, "Reference values for checks": standard heats at 298.15 K from NIST-JANAF
+# Standard heats at 298.15 K rounded to 0.1 kJ/mol from the formation enthalpies of NIST-JANAF
 # (Chase 1998) [kJ mol-1].
 HEATS_298 = {
-    "reforming": 206.2,  # DOMAIN.md (JANAF1998)
-    "shift": -41.2,  # DOMAIN.md (JANAF1998)
-    "cracking": 74.9,  # DOMAIN.md (JANAF1998)
-    "boudouard": -172.5,  # DOMAIN.md (JANAF1998)
+    "reforming": 206.2,  # JANAF1998: -110.527 + 74.873 + 241.826 = 206.172
+    "shift": -41.2,  # JANAF1998: -393.522 + 110.527 + 241.826 = -41.169
+    "cracking": 74.9,  # JANAF1998: 0 + 0 + 74.873
+    "boudouard": -172.5,  # JANAF1998: -393.522 + 2 x 110.527 = -172.468
 }
 
 
 @pytest.mark.parametrize("reaction", list(HEATS_298))
 def test_standard_heat_of_reaction(reaction):
+    """Each reaction's standard heat at 298.15 K equals the JANAF-derived value of HEATS_298
+    within 0.5 kJ/mol."""
     # Tolerance 0.5 kJ/mol: data-set difference in CH4's formation enthalpy (-74.87 JANAF vs
-    # -74.60 GRI-Mech, DOMAIN.md); measured model - JANAF: reforming -0.31, shift +0.05,
+    # -74.60 GRI-Mech, GRI30 and JANAF1998); measured model - JANAF: reforming -0.31, shift +0.05,
     # cracking -0.30, Boudouard +0.05 kJ/mol.
     dH = sum(v * model_H_kJ(k, 298.15) for k, v in REACTIONS[reaction].items())
     assert dH == pytest.approx(HEATS_298[reaction], abs=0.5)
 
 
-# DOMAIN.md, "Reference values for checks": temperatures where K = 1, from JANAF [K], given
+# Temperatures where K = 1, read off NIST-JANAF's log10 K rows (JANAF1998) to 1 K [K], given
 # as "about" (1 bar basis).
 K_EQUALS_ONE_DOMAIN = {
-    "reforming": 893.0,  # DOMAIN.md (JANAF1998), bar basis
-    "shift": 1097.0,  # DOMAIN.md (JANAF1998)
-    "cracking": 822.0,  # DOMAIN.md (JANAF1998)
-    "boudouard": 976.0,  # DOMAIN.md (JANAF1998)
+    "reforming": 893.0,  # JANAF1998, bar basis
+    "shift": 1097.0,  # JANAF1998
+    "cracking": 822.0,  # JANAF1998
+    "boudouard": 976.0,  # JANAF1998
 }
 
 #: Allowed |model - JANAF| of the K = 1 temperature [K] and why. Measured model minus JANAF
@@ -296,7 +324,7 @@ def _janaf_K_equals_one(reaction: str, in_inverse_T: bool) -> float:
     """T where JANAF's log10 K (janaf_logK.toml, 100 K rows) crosses 0 [K].
 
     Linear interpolation between the two rows around the sign change, in 1/T (log K is
-    nearly linear in 1/T: van 't Hoff) or, for comparison with DOMAIN.md, in T.
+    nearly linear in 1/T: van 't Hoff) or, for comparison with K_EQUALS_ONE_DOMAIN, in T.
     """
     pts = sorted((r.T_K, r.value) for r in load_refs("janaf_logK.toml", subject=reaction))
     (T1, k1), (T2, k2) = next(
@@ -310,6 +338,8 @@ def _janaf_K_equals_one(reaction: str, in_inverse_T: bool) -> float:
 
 @pytest.mark.parametrize("reaction", list(K_EQUALS_ONE_TOL))
 def test_temperature_where_K_is_one(reaction):
+    """The temperature where the model's K = 1 equals JANAF's, interpolated in 1/T, within
+    K_EQUALS_ONE_TOL."""
     # Reference: JANAF log10 K rows interpolated linearly in 1/T (892.22, 1096.58, 819.71,
     # 973.47 K). Tolerance and reason: K_EQUALS_ONE_TOL.
     tol, why = K_EQUALS_ONE_TOL[reaction]
@@ -320,7 +350,9 @@ def test_temperature_where_K_is_one(reaction):
 
 @pytest.mark.parametrize("reaction", list(K_EQUALS_ONE_DOMAIN))
 def test_domain_K_equals_one_figures_are_linear_in_T(reaction):
-    # Provenance of DOMAIN.md's figures (not a model check): they are JANAF's rows interpolated
+    """The rounded K = 1 temperatures of K_EQUALS_ONE_DOMAIN are JANAF's rows interpolated
+    linearly in T, to 0.6 K (their provenance, not a model check)."""
+    # Provenance of K_EQUALS_ONE_DOMAIN (not a model check): they are JANAF's rows interpolated
     # linearly in T (893.03, 1096.88, 821.64, 975.46 K), printed to 1 K: tolerance 0.6 K =
     # rounding 0.5 + 0.1. The 1/T interpolation used above is 0.3-2.0 K lower.
     T_lin = _janaf_K_equals_one(reaction, in_inverse_T=False)
@@ -348,6 +380,8 @@ def _canonical(records: list[dict]) -> str:
 
 
 def test_species_coefficients_fingerprint_regression():
+    """Regression pin (our own file, not a published value): the SHA-256 of the coefficients and
+    ranges in species.toml is unchanged."""
     digest = hashlib.sha256(_canonical(_raw_species()).encode()).hexdigest()
     assert digest == SPECIES_COEFF_SHA256, (
         "coefficients or ranges in thermo/data/species.toml changed; if intended, check them "
@@ -369,6 +403,7 @@ SPOT_VALUES = [
 
 @pytest.mark.parametrize("spot", SPOT_VALUES, ids=lambda s: f"{s[0]}-{s[1]}-a{s[2]}")
 def test_spot_coefficients_from_gri30(spot):
+    """Selected coefficients equal GRI-Mech 3.0's printed values exactly."""
     name, rng, i, value, where = spot
     # Exact: the source prints 9 significant digits and the file transcribes them as printed.
     got = getattr(sp.record(name), rng)[i - 1]
@@ -382,6 +417,8 @@ def _cantera_species(path: str) -> dict:
 
 @pytest.mark.parametrize("name", sp.GAS_SPECIES)
 def test_gas_coefficients_equal_cantera_gri30(name):
+    """Each gas record's ranges, both coefficient rows and formula equal those of Cantera's
+    gri30.yaml exactly."""
     # Transcription check: Cantera ships GRI-Mech 3.0 as gri30.yaml (argon is "AR" there).
     # Exact equality: both parse the same printed decimals to the nearest double.
     ct_sp = _cantera_species("gri30.yaml")["AR" if name == "Ar" else name]
@@ -398,6 +435,8 @@ def test_gas_coefficients_equal_cantera_gri30(name):
 
 
 def test_graphite_equals_cantera_graphite_yaml():
+    """Graphite's ranges and coefficients equal Cantera's graphite.yaml exactly, and its density
+    equals that phase's (1e-12)."""
     # TM4513 graphite as shipped in Cantera's graphite.yaml (also the density, 2.16 g/cm3).
     ct = pytest.importorskip("cantera")
     ct_sp = _cantera_species("graphite.yaml")["C(gr)"]
@@ -433,6 +472,7 @@ def _span(name: str) -> tuple[float, float, float]:
 
 @pytest.mark.parametrize("name", ALL_SPECIES)
 def test_enthalpy_difference_equals_integral_of_cp(name):
+    """h(T2) - h(T1) equals the numerical integral of cp over the species' range (1e-6 relative)."""
     # 1e-6 relative: the integral is exact to ~1e-13 (quad); what remains is the enthalpy
     # step of the two ranges at t_mid (measured largest 2e-7, C3H8).
     T1, Tm, T2 = _span(name)
@@ -443,6 +483,8 @@ def test_enthalpy_difference_equals_integral_of_cp(name):
 
 @pytest.mark.parametrize("name", ALL_SPECIES)
 def test_entropy_difference_equals_integral_of_cp_over_T(name):
+    """s(T2) - s(T1) equals the numerical integral of cp/T over the species' range (1e-6
+    relative)."""
     # 1e-6 relative, as above (measured largest 4e-7, C3H8).
     T1, Tm, T2 = _span(name)
     ds_R = float(sp.s_R(T2, name)) - float(sp.s_R(T1, name))
@@ -452,6 +494,7 @@ def test_entropy_difference_equals_integral_of_cp_over_T(name):
 
 @pytest.mark.parametrize("name", ALL_SPECIES)
 def test_g_equals_h_minus_s(name):
+    """g/RT equals h/RT - s/R at 55 temperatures (1e-12 absolute)."""
     T = np.linspace(max(300.0, sp.record(name).t_low), 3000.0, 55)
     np.testing.assert_allclose(
         sp.g_RT(T, name), sp.h_RT(T, name) - sp.s_R(T, name), rtol=0, atol=1e-12
@@ -468,6 +511,8 @@ CONTINUITY_RTOL = {
 
 @pytest.mark.parametrize("name", ALL_SPECIES)
 def test_ranges_continuous_at_t_mid(name):
+    """cp/R, h/RT and s/R of the low and high ranges agree at the middle temperature (1e-6
+    relative unless CONTINUITY_RTOL says otherwise)."""
     # 1e-6 relative (brief: "~1e-6"); measured elsewhere: largest 3.6e-7 (N2, cp).
     rec = sp.record(name)
     low = _nasa_direct(rec.low, rec.t_mid)
@@ -481,6 +526,8 @@ def test_ranges_continuous_at_t_mid(name):
 @pytest.mark.parametrize("name", ALL_SPECIES)
 @pytest.mark.parametrize("fn", [sp.cp_R, sp.h_RT, sp.s_R, sp.g_RT], ids=lambda f: f.__name__)
 def test_temperature_outside_range_raises(fn, name):
+    """Half a kelvin outside either range limit, and one bad element of an array, raise
+    TemperatureRangeError naming the species and both limits."""
     rec = sp.record(name)
     for T in (rec.t_low - 0.5, rec.t_high + 0.5):
         with pytest.raises(sp.TemperatureRangeError) as err:
@@ -493,13 +540,16 @@ def test_temperature_outside_range_raises(fn, name):
 
 @pytest.mark.parametrize("name", ALL_SPECIES)
 def test_range_limits_themselves_are_accepted(name):
+    """g/RT is finite at exactly the lower and upper range limits."""
     rec = sp.record(name)
     assert np.all(np.isfinite(sp.g_RT(np.array([rec.t_low, rec.t_high]), name)))
 
 
 @pytest.mark.parametrize("name", ALL_SPECIES)
 def test_low_range_used_at_exactly_t_mid(name):
-    # SOLVER-NOTES.md: use the low range at exactly t_mid (as Cantera does). Equality up to
+    """At exactly t_mid, cp/R, h/RT and s/R come from the low range's coefficients (1e-13
+    relative)."""
+    # Common practice, no source: the low range at exactly t_mid (as in Cantera). Equality up to
     # the different order of float operations (1e-13 relative).
     # s/R includes the record's standard-pressure shift (0 except N2, Ar).
     rec = sp.record(name)
@@ -512,6 +562,8 @@ def test_low_range_used_at_exactly_t_mid(name):
 
 
 def test_graphite_pressure_term():
+    """Graphite's mu/RT at 40 bar and 1000 K is g/RT plus (P - 1 bar) v / RT with v = M / 2160
+    kg/m3, that term is 0.0026, and at 1 bar mu/RT is g/RT exactly."""
     # v = M/rho = 12.011e-3 kg/mol (IUPAC2021) / 2160 kg/m3 (TM4513 density via Cantera's
     # graphite.yaml: 2.16 g/cm3). Identity up to round-off (1e-12).
     T, P = 1000.0, 40.0e5
@@ -520,6 +572,6 @@ def test_graphite_pressure_term():
     assert float(sp.graphite_mu_RT(T, P)) == pytest.approx(
         float(sp.g_RT(T, sp.GRAPHITE)) + term, rel=1e-12
     )
-    # SOLVER-NOTES.md: "0.0026 at 40 bar" (printed to 2 significant digits).
+    # thermo.species.graphite_mu_RT's docstring: "about 0.0026 at 40 bar and 1000 K".
     assert term == pytest.approx(0.0026, abs=0.00005)
     assert float(sp.graphite_mu_RT(T, P_REF)) == float(sp.g_RT(T, sp.GRAPHITE))

@@ -26,7 +26,7 @@ from thermo.scenario import Limits
 from thermo.species import GAS_SPECIES, formula_matrix, gas_table, graphite_mu_RT
 from thermo.sweep import SCHEMA_VERSION, SweepCache, feasible_mask, sweep
 
-# DESIGN.md, "Dataset contract": variable -> (dims beyond the window, units attribute).
+# The Dataset contract (thermo/sweep.py): variable -> (dims beyond the window, units attribute).
 # "window" dims are the axes present; inlet_flow is over the ratio axes only (handled apart).
 CONTRACT = {
     "mole_fraction": (("species",), "1"),
@@ -39,14 +39,14 @@ CONTRACT = {
     "methane_conversion": ((), "1"),
     "h2_co_ratio": ((), "1"),
     "duty": ((), "W"),
-    # DESIGN.md lists "bool" for converged: the dtype; its units attribute is the UDUNITS "1".
+    # The contract lists "bool" for converged: the dtype; its units attribute is the UDUNITS "1".
     "converged": ((), "1"),
 }
 CONTRACT_VARS = tuple(CONTRACT) + ("inlet_flow",)
 RATIO_AXES = ("steam_to_carbon", "oxygen_to_carbon", "co2_to_carbon")
-SPECIES = ("CH4", "C2H6", "C3H8", "H2O", "H2", "CO", "CO2", "O2", "N2", "Ar")  # DESIGN.md
+SPECIES = ("CH4", "C2H6", "C3H8", "H2O", "H2", "CO", "CO2", "O2", "N2", "Ar")  # the contract
 
-# Relative tolerance of grid == point: the DESIGN.md contract ("to 1e-9 relative").
+# Relative tolerance of grid == point: the Dataset contract ("to 1e-9 relative").
 GRID_POINT_RTOL = 1e-9
 
 # Window of the demo scenario used by most tests: 5 x 3 x 4 = 60 points. The S/C range
@@ -119,6 +119,9 @@ def _check_contract(d: xr.Dataset, window_dims: tuple[str, ...]) -> None:
 
 
 def test_dataset_follows_the_contract(ds, sc):
+    """The demo Dataset has the contract's variables, dims and units; SI coordinates; the
+    version, scenario text (read back equal) and data sources as attributes; no NaN; h2_co_ratio
+    +inf exactly where no CO; every point converged."""
     _check_contract(ds, ("temperature", "pressure", "steam_to_carbon"))
     # Coordinates in SI: 273.15 K is the degC offset and 1 bar = 1e5 Pa, both by definition
     # (SI Brochure, 9th ed., 2019, from memory).
@@ -131,7 +134,7 @@ def test_dataset_follows_the_contract(ds, sc):
     assert ds.attrs["thermo_version"] == thermo.__version__
     assert thermo.parse_scenario(ds.attrs["scenario"]) == sc
     sources = ds.attrs["data_sources"]
-    # The two data sources DESIGN.md names for the species data.
+    # The two data sources of the species data (GRI30, TM4513).
     assert "GRI-Mech 3.0" in sources and "4513" in sources
     # No NaN in any contract variable; h2_co_ratio is non-finite only as +inf where no CO.
     for name in CONTRACT_VARS:
@@ -150,9 +153,11 @@ def test_dataset_follows_the_contract(ds, sc):
 
 
 def test_inlet_flow_is_the_feed_at_each_steam_to_carbon(ds, sc):
+    """Inlet H2O is S/C times the hydrocarbon carbon at each S/C, and the dry gas (CH4) does not
+    vary with S/C."""
     carbon = sc.feed.carbon_flow()
     h2o = ds["inlet_flow"].sel(species="H2O")
-    # H2O in = S/C x hydrocarbon carbon (DESIGN.md definition of S/C); rtol: float round-off.
+    # H2O in = S/C x hydrocarbon carbon (S/C, common practice); rtol: float round-off.
     np.testing.assert_allclose(h2o, ds["steam_to_carbon"] * carbon, rtol=1e-14)
     ch4 = ds["inlet_flow"].sel(species="CH4").values
     assert (ch4 == ch4[0]).all()  # the dry gas does not depend on S/C
@@ -163,6 +168,8 @@ def test_inlet_flow_is_the_feed_at_each_steam_to_carbon(ds, sc):
     ("co2_to_carbon", (0.0, 1.0, 3)),
 ])
 def test_optional_cofeed_axis(sc, cofeed, axis):
+    """A co-feed axis appears with the contract's dims and its values; inlet H2O follows S/C only
+    and the co-fed species follows the co-feed only; the co-feed changes the outlet H2."""
     small = sc.with_window(temperature=("750 degC", "900 degC", 3),
                            pressure=("10 bar", "30 bar", 2),
                            steam_to_carbon=(2.0, 4.0, 2), **{cofeed: axis})
@@ -191,6 +198,8 @@ def test_optional_cofeed_axis(sc, cofeed, axis):
 
 @pytest.mark.parametrize("cofeed", [None, "co2_to_carbon"])
 def test_grid_equals_point(sc, cofeed):
+    """At 10 random grid points (with and without a co-feed axis) every contract variable and the
+    inlet flow equal thermo.point's at the same coordinates to GRID_POINT_RTOL."""
     extra = {} if cofeed is None else {cofeed: (0.0, 0.8, 3)}
     win = sc.with_window(**extra)
     assert win.approach == 10.0  # the demo's approach, so T - approach is exercised
@@ -222,6 +231,8 @@ def test_grid_equals_point(sc, cofeed):
 
 
 def test_chunking_changes_nothing_and_progress_counts_up(sc, ds):
+    """A sweep in 7-point chunks is identical to the unchunked one; progress is called 15 times,
+    increasing, ending at the total."""
     calls = []
     small = sweep(sc, chunk_points=7, progress=lambda done, total: calls.append((done, total)))
     xr.testing.assert_identical(_without_created(small), _without_created(ds))
@@ -238,8 +249,9 @@ def test_chunking_changes_nothing_and_progress_counts_up(sc, ds):
 
 
 def test_grid_matches_cantera_including_carbon():
-    if not (Path(__file__).parent / "cantera_ref.py").is_file():
-        pytest.skip("tests/thermo/cantera_ref.py (the Cantera builder) is not there yet")
+    """At 20 random points of a carbon-forming window, mole fractions equal Cantera's (1e-8
+    absolute) and the carbon / no-carbon call is the same; the draw covers both sides of the
+    boundary."""
     pytest.importorskip("cantera")
     from tests.thermo import cantera_ref
     # Down to S/C 0.2 and 500 degC, 1 bar, so that a good part of the window deposits carbon.
@@ -255,7 +267,7 @@ def test_grid_matches_cantera_including_carbon():
     for flat in rng.choice(int(np.prod(shape)), size=20, replace=False):
         idx = dict(zip(dims, np.unravel_index(int(flat), shape), strict=True))
         g = d.isel(idx)
-        # The composition is the equilibrium at T - approach (DESIGN.md, approach).
+        # The composition is the equilibrium at T - approach (README, Method).
         T = float(g["temperature"]) - approach
         inlet = d["inlet_flow"].isel(steam_to_carbon=idx["steam_to_carbon"]).values
         moles, n_carbon = cantera_ref.equilibrate(T, float(g["pressure"]), inlet)
@@ -293,6 +305,8 @@ def test_methane_slip_trends_in_the_carbon_free_region():
 
 
 def test_carbon_region_equals_single_point_calls():
+    """The grid's carbon region equals that of single-point equilibrate calls, straddles the
+    boundary, and carbon activity is 1 inside it."""
     sc = thermo.load_scenario().with_window(temperature=("500 degC", "900 degC", 5),
                                             pressure=("1 bar", "30 bar", 2),
                                             steam_to_carbon=(0.3, 2.0, 4))
@@ -308,7 +322,7 @@ def test_carbon_region_equals_single_point_calls():
                 single[i, j, k] = eq.carbon[0] > 0
     np.testing.assert_array_equal(region, single)
     assert region.any() and not region.all()  # the window straddles the boundary
-    # Carbon activity is 1 where carbon deposits (DESIGN.md); rtol: round-off of exp(0).
+    # Carbon activity is 1 where carbon deposits (Dataset contract); rtol: round-off of exp(0).
     np.testing.assert_allclose(d["carbon_activity"].values[region], 1.0, rtol=1e-12)
 
 
@@ -333,6 +347,8 @@ def _ln_carbon_activity_of_the_gas(d: xr.Dataset, approach: float) -> np.ndarray
 
 
 def test_carbon_activity_is_that_of_the_outlet_gas():
+    """Where no carbon deposits, the reported carbon activity equals the methane-cracking
+    activity of the outlet gas recomputed here (1e-8 in ln a_C)."""
     sc = thermo.load_scenario().with_window(**BOUNDARY_WINDOW)
     d = sweep(sc)
     free = d["carbon_deposit"].values == 0.0
@@ -345,6 +361,7 @@ def test_carbon_activity_is_that_of_the_outlet_gas():
 
 
 def test_no_carbon_free_point_is_supersaturated():
+    """No carbon-free point has a gas whose carbon activity exceeds 1 (ln a_C above 1e-8)."""
     sc = thermo.load_scenario().with_window(**BOUNDARY_WINDOW)
     d = sweep(sc)
     free = d["carbon_deposit"].values == 0.0
@@ -386,6 +403,8 @@ LIMIT_SETS = [
 
 
 def test_feasible_mask_is_the_conjunction_of_the_limits(ds, sc):
+    """The Dataset's feasible variable and feasible_mask for each limit set equal the limits
+    checked by hand, and each limit set bites (some points in, some out)."""
     np.testing.assert_array_equal(ds["feasible"].values, _by_hand(ds, sc.limits))
     for lim in LIMIT_SETS:
         mask = feasible_mask(ds, lim)
@@ -396,6 +415,8 @@ def test_feasible_mask_is_the_conjunction_of_the_limits(ds, sc):
 
 
 def test_cache_reuses_the_sweep_for_new_limits(sc, monkeypatch):
+    """SweepCache solves once for the same window with new limits (one sweep, a hit), recomputes
+    feasible for them without changing the first result, and solves again only for a new window."""
     # thermo/__init__ re-exports the function as thermo.sweep, hiding the module attribute.
     sweep_module = importlib.import_module("thermo.sweep")
 
@@ -433,6 +454,7 @@ def test_cache_reuses_the_sweep_for_new_limits(sc, monkeypatch):
 
 
 def test_scenario_attr_describes_a_replaced_scenario(sc):
+    """A cached Dataset's scenario attribute reads back as the scenario with its replaced limits."""
     loose = dataclasses.replace(sc, limits=LIMIT_SETS[0])
     d = SweepCache().get(loose)
     assert thermo.parse_scenario(d.attrs["scenario"]) == loose
@@ -442,6 +464,8 @@ def test_scenario_attr_describes_a_replaced_scenario(sc):
 
 
 def test_netcdf_round_trip_is_identical(ds, tmp_path):
+    """Saving and loading NetCDF gives an identical Dataset (attributes included), bool dtypes
+    and a +inf h2_co_ratio kept."""
     d = ds.copy(deep=True)
     # One +inf in h2_co_ratio (the one non-finite value the contract allows) must survive.
     d["h2_co_ratio"][0, 0, 0] = np.inf
@@ -453,6 +477,8 @@ def test_netcdf_round_trip_is_identical(ds, tmp_path):
 
 
 def test_other_schema_version_is_refused(ds, tmp_path):
+    """Loading a file of another schema version is refused with a message quoting the version and
+    saying to re-run."""
     old = ds.copy()
     old.attrs["schema_version"] = "0"
     path = tmp_path / "old.nc"
@@ -465,6 +491,8 @@ def test_other_schema_version_is_refused(ds, tmp_path):
 @pytest.mark.parametrize("error", [OSError("no space left on device (simulated)"),
                                    KeyboardInterrupt()])
 def test_interrupted_save_leaves_the_previous_file(ds, tmp_path, monkeypatch, error):
+    """A save that fails midway (exception or Ctrl+C) writes to a temporary file only, leaves the
+    previous file byte for byte, and leaves no temporary file."""
     target = tmp_path / "grid.nc"
     io.save(ds, target)
     before = target.read_bytes()
@@ -494,7 +522,7 @@ DASK_TIMEOUT_S = 180
 
 
 def _assert_same_numbers(a: xr.Dataset, b: xr.Dataset) -> None:
-    # 1e-9 relative: the DESIGN.md grid tolerance; workers run the same code on the same
+    # 1e-9 relative: the contract's grid tolerance; workers run the same code on the same
     # inputs, so in practice the numbers are equal.
     xr.testing.assert_allclose(a.drop_vars(["converged", "feasible"]),
                                b.drop_vars(["converged", "feasible"]), rtol=1e-9, atol=0)
@@ -503,6 +531,8 @@ def _assert_same_numbers(a: xr.Dataset, b: xr.Dataset) -> None:
 
 
 def test_sweep_on_local_dask_workers(sc, ds):
+    """A sweep on 2 local dask workers equals the in-process sweep, with 4 increasing progress
+    calls ending at 60 points."""
     pytest.importorskip("dask.distributed")
     calls = []
     d = _run_with_timeout(
@@ -515,6 +545,7 @@ def test_sweep_on_local_dask_workers(sc, ds):
 
 
 def test_sweep_on_an_existing_cluster(sc, ds):
+    """A sweep on an existing dask.distributed cluster (by address) equals the in-process sweep."""
     distributed = pytest.importorskip("dask.distributed")
 
     def run():

@@ -1,7 +1,9 @@
 """The reforming train: shift stages, adiabatic stages, train totals and the scenario keys.
 
 References: the shift stage against the extent-of-reaction solution of the shift reaction
-alone (thermo.extent, itself checked against NIST-JANAF K values in test_extent.py); the
+alone (thermo.extent, checked against its definitions and the full minimization in
+test_extent.py; its K comes from species data checked against NIST-JANAF log10 K in
+test_species_data.py); the
 adiabatic stages against energy-balance closure and against Cantera's HP equilibrium
 (https://cantera.org, a general-purpose reference library, tests only) on the same
 GRI-Mech 3.0 species data.
@@ -33,7 +35,7 @@ from thermo.train import shift_equilibrium, train_balance
 IX = {s: i for i, s in enumerate(GAS_SPECIES)}
 
 #: A whole train on the demo feed. Its temperatures, ratios and approaches are test inputs in
-#: the usual ranges (common practice, no source; DOMAIN.md gives the shift inlet ranges).
+#: the usual ranges (common practice, no source, as are the shift inlet ranges).
 FULL_TRAIN = """
 [train.pre_reformer]
 inlet_temperature = "490 degC"
@@ -88,6 +90,8 @@ SHIFT_CASES = [
 
 @pytest.mark.parametrize("n, T", SHIFT_CASES)
 def test_shift_stage_equals_extent_solution_of_shift_alone(n, T):
+    """The shift stage's CO, H2O, CO2 and H2 equal the extent-of-reaction solution of the shift
+    alone (1e-9 relative), and every other species is unchanged to the bit."""
     out = shift_equilibrium(n[None, :], T)[0]
     moles = {s: n[IX[s]] for s in ("CO", "H2O", "CO2", "H2") if n[IX[s]] > 0}
     sol = solve_extent(SHIFT, moles, T, 30e5)
@@ -102,6 +106,8 @@ def test_shift_stage_equals_extent_solution_of_shift_alone(n, T):
 
 
 def test_shift_quotient_equals_K_at_stage_temperature_plus_approach(full):
+    """After each shift stage Q equals K at the stage temperature plus its approach (1e-9), that
+    K is below K at the stage temperature, and CH4 passes through unchanged."""
     feed, T, P = _grid_points(full, 12)
     r = train_balance(full.train, feed, T, P, full.feed.inlet_temperature, full.approach)
     for name in ("high_temperature_shift", "low_temperature_shift"):
@@ -121,6 +127,9 @@ def test_shift_quotient_equals_K_at_stage_temperature_plus_approach(full):
 
 @pytest.mark.parametrize("oxidant, ratio", [("air", 0.25), ("oxygen", 0.45), ("air", 0.0)])
 def test_adiabatic_stages_close_their_energy_balance(full, oxidant, ratio):
+    """Pre-reformer and secondary reformer converge with a duty of zero to 1e-6 of their inlet
+    enthalpy, recomputed from the outlet at its temperature too; with oxidant the secondary runs
+    hotter than the primary outlet."""
     sec = SecondaryReformer(oxidant, ratio, 823.15, 0.0)
     train = dataclasses.replace(full.train, secondary_reformer=sec)
     feed, T, P = _grid_points(full, 30, seed=int(ratio * 100))
@@ -154,6 +163,9 @@ def _cantera_hp(moles: np.ndarray, H: float, P: float):
                           ("oxygen", 0.0, 1123.15, 2.5)])
 def test_secondary_reformer_matches_cantera_hp_equilibrium(full, oxidant, ratio, T_primary,
                                                            sc_ratio):
+    """The secondary reformer's inlet enthalpy equals Cantera's (1e-10), and its outlet
+    temperature and mole fractions equal Cantera's HP equilibrium (1e-4 K, 1e-8) with no
+    graphite."""
     sec = SecondaryReformer(oxidant, ratio, 773.15, 0.0)
     train = Train(secondary_reformer=sec)
     feed = full.feed.inlet_flows(steam_to_carbon=sc_ratio)[None, :]
@@ -175,6 +187,8 @@ def test_secondary_reformer_matches_cantera_hp_equilibrium(full, oxidant, ratio,
 
 @pytest.mark.parametrize("T_in, sc_ratio", [(763.15, 3.0), (723.15, 2.0), (823.15, 4.5)])
 def test_pre_reformer_matches_cantera_hp_equilibrium(full, T_in, sc_ratio):
+    """The pre-reformer's outlet temperature and mole fractions equal Cantera's HP equilibrium
+    (1e-4 K, 1e-8), no graphite, and C2H6 and C3H8 fall below 1e-3 of their inlet fractions."""
     train = Train(pre_reformer=PreReformer(T_in))
     feed = full.feed.inlet_flows(steam_to_carbon=sc_ratio)[None, :]
     P = 25e5
@@ -195,6 +209,9 @@ def test_pre_reformer_matches_cantera_hp_equilibrium(full, T_in, sc_ratio):
 # ------------------------------------------------------------------------------ train totals
 
 def test_train_energy_and_element_balances_close(full):
+    """Over the whole train elements close (1e-9), the product enthalpy minus feed and oxidant
+    equals every heat added or removed (1e-7 of the feed enthalpy), heat supplied and H2 product
+    follow their definitions, and shift adds H2."""
     feed, T, P = _grid_points(full, 25, seed=11)
     r = train_balance(full.train, feed, T, P, full.feed.inlet_temperature, full.approach)
     assert r.converged.all()
@@ -242,6 +259,8 @@ def test_pre_reformer_leaves_the_primary_equilibrium_unchanged(full):
 
 
 def test_empty_train_is_the_primary_reformer(full):
+    """With no stages the train is the primary alone: H2 product, heat supplied and slip equal
+    the primary's exactly, and no heat is removed."""
     feed, T, P = _grid_points(full, 10)
     alone = reformer_balance(feed, T, P, full.feed.inlet_temperature, full.approach)
     r = train_balance(Train(), feed, T, P, full.feed.inlet_temperature, full.approach)
@@ -253,6 +272,7 @@ def test_empty_train_is_the_primary_reformer(full):
 
 
 def test_air_composition():
+    """Air sums to 1, and its O2 and N2 flows follow O2/C and the N2/O2 ratio of dry air."""
     # Dry air, U.S. Standard Atmosphere 1976 (recalled from memory): O2 20.946 %,
     # Ar 0.934 %; the rest counted as N2.
     air = OXIDANTS["air"]
@@ -265,6 +285,8 @@ def test_air_composition():
 # ------------------------------------------------------------------------------ scenario keys
 
 def test_train_round_trips_through_toml(full):
+    """A scenario with the full train writes and reads back equal, with the five stages in order;
+    the demo has no train."""
     again = parse_scenario(full.to_toml())
     assert again == full
     assert again.train.stages() == ["pre_reformer", "primary_reformer", "secondary_reformer",
@@ -286,6 +308,7 @@ def test_train_round_trips_through_toml(full):
      "train.secondary_reformer.oxidant_temp"),
 ])
 def test_bad_train_keys_name_the_field(edit, field):
+    """Each bad train key or value is refused with an InputError naming that field."""
     text = thermo.load_scenario().text + FULL_TRAIN.replace(*edit)
     with pytest.raises(InputError) as err:
         parse_scenario(text)
@@ -293,6 +316,7 @@ def test_bad_train_keys_name_the_field(edit, field):
 
 
 def test_shift_stage_dataclass_defaults():
+    """A shift stage's approach defaults to 0 K."""
     assert ShiftStage(500.0).approach == 0.0
 
 
@@ -306,7 +330,7 @@ def train_ds(full):
 
 
 def test_train_grid_equals_point(train_ds):
-    """DESIGN.md: grid values equal point() at the same coordinates to 1e-9 relative."""
+    """Grid values equal point() at the same coordinates to 1e-9 relative (Dataset contract)."""
     win, ds = train_ds
     assert ds.attrs["train"] == ", ".join(win.train.stages())
     rng = np.random.default_rng(7)
@@ -329,6 +353,9 @@ def test_train_grid_equals_point(train_ds):
 
 
 def test_limits_apply_to_the_train(train_ds):
+    """With a train, feasible equals the limits checked on the train's figures (slip after the
+    last reformer, graphite in any stage, H2 product) and the primary's duty; the secondary
+    lowers the slip; the train variables carry units and names."""
     win, ds = train_ds
     lim = win.limits
     want = (ds["converged"] & (ds["train_methane_slip_dry"] <= lim.max_methane_slip_dry)
@@ -342,6 +369,8 @@ def test_limits_apply_to_the_train(train_ds):
 
 
 def test_no_train_gives_the_primary_figures():
+    """Without a train the train variables equal the primary's exactly and no secondary
+    temperature is present."""
     sc = thermo.load_scenario().with_window(temperature=("800 degC", "900 degC", 3),
                                             pressure=("20 bar", "30 bar", 2),
                                             steam_to_carbon=(2.5, 3.5, 2))
@@ -430,6 +459,8 @@ def test_a_failed_stage_leaves_no_made_up_numbers_downstream(full, monkeypatch):
 
 
 def test_low_temperature_shift_must_be_below_the_high_temperature_one():
+    """An LT shift hotter than the HT shift is refused naming its temperature field and the HT
+    shift's temperature."""
     text = thermo.load_scenario().text + FULL_TRAIN.replace('temperature = "210 degC"',
                                                             'temperature = "400 degC"')
     with pytest.raises(InputError) as err:
