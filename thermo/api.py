@@ -180,7 +180,7 @@ class PointResult:
         return _strict(out)
 
     def _carbon_dict(self) -> dict:
-        """Top-level carbon keys of the point JSON (the contract in README) and their detail."""
+        """Top-level carbon keys of the point JSON (README, `explorer point --json`) and their detail."""
         c = {k: v[0] for k, v in self.carbon.items()}
         routes = {k: float(c[f"carbon_activity_real_gas_{k}"])
                   for k in carbon_check.CARBON_ROUTES}
