@@ -305,7 +305,10 @@ def test_sensitivities_agree_with_half_width_differences(demo):
             # activity along pressure is the one exception: it bends like ln P (measured
             # 1.1e-3 at the demo's 23 bar on 2026-12-02), so 2e-3 there.
             rel = 2e-3 if (q, axis) == ("carbon", "pressure") else 1e-3
-            assert a == pytest.approx(b, rel=rel), (q, axis)
+            # Where the binding carbon activity is the path maximum inside the tube, it does
+            # not move with the outlet temperature: both differences are then round-off of
+            # the refined maximum (a few 1e-12 per K), hence the absolute 1e-9.
+            assert a == pytest.approx(b, rel=rel, abs=1e-9), (q, axis)
 
 
 def test_sensitivity_matches_point_differences(demo):
