@@ -92,6 +92,10 @@ class ExplorerState(param.Parameterized):
         if self._thread is not None and self._thread.is_alive():
             return
         sc = self.scenario
+        if sc in SHARED_CACHE:
+            # Solved already (another session, or earlier): adopt it now, no worker thread.
+            self.solve_now()
+            return
         self.busy = True
         self.progress = 0.0
         self._done, self._total = 0, sc.window.size()
