@@ -16,7 +16,7 @@ import thermo
 from explorer import CAUTION
 from explorer.form import ScenarioForm, read_upload, scenario_files
 from explorer.safe import html, paragraphs
-from explorer.state import ExplorerState, check_window_size
+from explorer.state import SHARED_CACHE, ExplorerState, check_window_size
 from explorer.static import CAUTION_CSS, PAGE_CSS, SECTION_CSS
 from explorer.views import (
     BalanceView,
@@ -54,6 +54,10 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
     if not isinstance(scenario, Scenario):
         scenario = thermo.load_scenario(scenario)
     state = ExplorerState(check_window_size(scenario))
+    if solve == "now" or scenario in SHARED_CACHE:
+        # Solved already (by another session, or by `explorer serve` at start): adopt it
+        # before the views exist, so that each draws the window once.
+        state.solve_now()
     summary = SummaryView(state)
     maps = MapsView(state)
     balance = BalanceView(state)
@@ -107,12 +111,12 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
                            "scenario": scenario_card, "maps": maps, "compare": compare}
     page.explorer_state = state  # for tests and notebooks
     if solve == "now":
-        state.solve_now()
         if proposal is not None:
             state.set_proposal(proposal, background=False)
     else:
         def start():
-            state.solve_in_background()
+            if state.dataset is None:
+                state.solve_in_background()
             if proposal is not None:
                 state.set_proposal(proposal)
             pn.state.add_periodic_callback(state.poll, period=200)
@@ -120,7 +124,8 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
         if pn.state.curdoc is not None and pn.state.curdoc.session_context is not None:
             pn.state.onload(start)
         else:
-            state.solve_now()
+            if state.dataset is None:
+                state.solve_now()
             if proposal is not None:
                 state.set_proposal(proposal, background=False)
     return page

@@ -31,8 +31,6 @@ import threading
 import time
 from collections.abc import Callable
 
-import panel as pn
-
 from explorer.safe import html
 from thermo.scenario import Scenario
 
@@ -96,6 +94,8 @@ class SessionBook:
         #: Counters, for tests and the log: pages built, GETs skipped because the client had
         #: gone, busy answers, pages released for idleness.
         self.built = self.gone = self.busy = self.released = 0
+        #: Server time [s] of each page build (build_app and its Bokeh models), newest last.
+        self.build_seconds: list[float] = []
 
     def live(self) -> int:
         """Pages that count toward the bound."""
@@ -165,6 +165,8 @@ def _page_handler(book: SessionBook, base: type, max_pending: int) -> type:
 
 def session_page(scenario: Scenario, proposal: Scenario | None, book: SessionBook):
     """The app function for one session: a shell now, the explorer page on connection."""
+    import panel as pn
+
     from explorer.app import build_app
 
     doc = pn.state.curdoc
@@ -191,8 +193,10 @@ def session_page(scenario: Scenario, proposal: Scenario | None, book: SessionBoo
             shell.objects = [pn.pane.HTML(html("<h1>{}</h1><p>{}</p>", BUSY_TITLE,
                                                BUSY_TEXT.format(limit=book.max_sessions)))]
             return
+        t0 = time.perf_counter()
         page = build_app(scenario, proposal=proposal)
         shell.objects = [page]
+        book.build_seconds = book.build_seconds[-99:] + [time.perf_counter() - t0]
         shell.explorer_state = page.explorer_state
         doc.on_change(lambda event: book.touch(sid))
 

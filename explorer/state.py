@@ -92,10 +92,6 @@ class ExplorerState(param.Parameterized):
         if self._thread is not None and self._thread.is_alive():
             return
         sc = self.scenario
-        if sc in SHARED_CACHE:
-            # Solved already (another session, or earlier): adopt it now, no worker thread.
-            self.solve_now()
-            return
         self.busy = True
         self.progress = 0.0
         self._done, self._total = 0, sc.window.size()
@@ -115,6 +111,9 @@ class ExplorerState(param.Parameterized):
             except Exception as err:  # reported to the user by poll()
                 self._pending = ("error", sc, err)
 
+        if sc in SHARED_CACHE:
+            work()  # solved already (another session, or earlier): no worker thread
+            return
         self._thread = threading.Thread(target=work, daemon=True)
         self._thread.start()
 
