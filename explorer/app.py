@@ -37,6 +37,28 @@ def _section(title: str, *objects):
                      sizing_mode="stretch_width")
 
 
+def poll_while_working(state: ExplorerState, period_ms: int = 200) -> None:
+    """Publish the session's background work every `period_ms` while there is any, and stop
+    polling when there is none (an idle page costs the server nothing)."""
+    callback = None
+
+    def tick():
+        state.poll()
+        if not state.working():
+            callback.stop()
+
+    def wake():
+        nonlocal callback
+        if callback is None:
+            callback = pn.state.add_periodic_callback(tick, period=period_ms)
+        elif not callback.running:
+            callback.start()
+
+    state.wake = wake
+    if state.working():
+        wake()
+
+
 def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
               solve: str = "background", proposal: Scenario | None = None) -> pn.Column:
     """The explorer page for one session.
@@ -115,11 +137,11 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
             state.set_proposal(proposal, background=False)
     else:
         def start():
+            poll_while_working(state)
             if state.dataset is None:
                 state.solve_in_background()
             if proposal is not None:
                 state.set_proposal(proposal)
-            pn.state.add_periodic_callback(state.poll, period=200)
 
         if pn.state.curdoc is not None and pn.state.curdoc.session_context is not None:
             pn.state.onload(start)

@@ -199,6 +199,7 @@ def session_page(scenario: Scenario, proposal: Scenario | None, book: SessionBoo
         book.build_seconds = book.build_seconds[-99:] + [time.perf_counter() - t0]
         shell.explorer_state = page.explorer_state
         doc.on_change(lambda event: book.touch(sid))
+        book.touch(sid)  # idle time counts from the page's arrival, not its request
 
     if sid is not None:
         doc.on_session_destroyed(lambda ctx: book.close(sid))

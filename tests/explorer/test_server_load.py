@@ -100,8 +100,8 @@ def test_past_the_bound_a_short_busy_page_answers(browser, solved):
 
 
 def test_an_idle_page_is_released_and_frees_its_slot(browser, solved):
-    # 0.03 min = 1.8 s without any change on the page; the server looks every second.
-    with served_app(solved, max_sessions=1, idle_minutes=0.03) as url:
+    # 0.05 min = 3 s without any change on the page; the server looks every second.
+    with served_app(solved, max_sessions=1, idle_minutes=0.05) as url:
         page = browser.new_page()
         _maps_shown(page, url, 30000)
         page.get_by_text("released after").wait_for(timeout=15000)
