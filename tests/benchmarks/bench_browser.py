@@ -180,6 +180,48 @@ def abandoned_burst(url: str, n: int = 50, after: float = 0.5) -> None:
         t.join()
 
 
+def thread_cpu(thread) -> float:
+    """CPU time [s] used so far by a thread (by its ident)."""
+    return time.clock_gettime(time.pthread_getcpuclockid(thread.ident))
+
+
+def reference_serving(sc, ctx, n: int = 3):
+    """Reference in the same run: the same page served the way Panel serves an app function
+    by default (``pn.serve({"/": lambda: build_app(sc)})``: the whole page is built on every
+    GET). Returns the wall times of n bare GETs, the server thread's CPU time for each, and
+    the wall and server CPU time of n browser page loads to first maps."""
+    import panel as pn
+
+    from explorer.app import build_app
+
+    port = free_port()
+    thread = pn.serve({"/": lambda: build_app(sc)}, port=port, address="127.0.0.1",
+                      websocket_origin=[f"127.0.0.1:{port}"], threaded=True, show=False,
+                      verbose=False)
+    url = f"http://127.0.0.1:{port}/"
+    deadline = time.time() + 30
+    while time.time() < deadline:
+        try:
+            socket.create_connection(("127.0.0.1", port), timeout=1).close()
+            break
+        except OSError:
+            time.sleep(0.02)
+    try:
+        get_page(url)  # warm
+        gets, get_cpu, maps, maps_cpu = [], [], [], []
+        for _ in range(n):
+            c0 = thread_cpu(thread)
+            gets.append(get_page(url))
+            get_cpu.append(thread_cpu(thread) - c0)
+        for _ in range(n):
+            c0 = thread_cpu(thread)
+            maps.append(open_maps(ctx.new_page(), url))
+            maps_cpu.append(thread_cpu(thread) - c0)
+    finally:
+        thread.stop()
+    return gets, get_cpu, maps, maps_cpu
+
+
 def open_maps(page, url) -> float:
     t0 = time.perf_counter()
     page.goto(url)
@@ -292,8 +334,11 @@ def main(argv=None) -> None:
                 later.append(open_maps(ctx.new_page(), url))
                 cpu.append(server_cpu(server) - c0)
             build = list(server.book.build_seconds[1:])
+            get_cpu = []
             for _ in range(5):
+                c0 = server_cpu(server)
                 gets.append(get_page(url))
+                get_cpu.append(server_cpu(server) - c0)
             # A burst of 50 page requests abandoned after 0.5 s, then a real page.
             built = server.book.built
             t0 = time.perf_counter()
@@ -301,6 +346,8 @@ def main(argv=None) -> None:
             t_burst = time.perf_counter() - t0
             after_burst = open_maps(ctx.new_page(), url)
             burst_built = server.book.built - built - 1
+            ref = reference_serving(sc, browser.new_context(viewport={"width": 1300,
+                                                                       "height": 950}))
             browser.close()
     finally:
         server.stop()
@@ -318,6 +365,18 @@ def main(argv=None) -> None:
     print(f"  {'server CPU per new page, GET to first maps (server thread)':<60} {fmt(cpu)}")
     print(f"  {'  of which: page build on connection (wall, in the server)':<60} {fmt(build)}")
     print(f"  {'page GET without connecting (the shell only, wall)':<60} {fmt(gets)}")
+    print(f"  {'  its server CPU':<60} {fmt(get_cpu)}")
+    ref_gets, ref_get_cpu, ref_maps, ref_maps_cpu = ref
+    print("  reference, same run: Panel's default serving of the same page (built on GET)")
+    print(f"  {'  page GET without connecting (wall)':<60} {fmt(ref_gets)}")
+    print(f"  {'  its server CPU':<60} {fmt(ref_get_cpu)}")
+    print(f"  {'  first maps, later sessions (wall)':<60} {fmt(ref_maps)}")
+    print(f"  {'  server CPU per new page, GET to first maps':<60} {fmt(ref_maps_cpu)}")
+    med = statistics.median
+    print(f"  ratios (reference / explorer.server): bare GET CPU "
+          f"{med(ref_get_cpu) / med(get_cpu):.0f}x, page load CPU "
+          f"{med(ref_maps_cpu) / med(cpu):.2f}x, first maps wall "
+          f"{med(ref_maps) / med(later):.2f}x")
     print(f"  {'50 page requests abandoned after 0.5 s: burst took':<60} {t_burst:.2f} s; "
           f"pages built for them: {burst_built}; GETs skipped (client gone): "
           f"{server.book.gone}")
