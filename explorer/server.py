@@ -194,8 +194,9 @@ def session_page(scenario: Scenario, proposal: Scenario | None, book: SessionBoo
                                                BUSY_TEXT.format(limit=book.max_sessions)))]
             return
         t0 = time.perf_counter()
-        page = build_app(scenario, proposal=proposal)
-        shell.objects = [page]
+        with pn.io.hold(doc):  # one patch to the browser for the whole page
+            page = build_app(scenario, proposal=proposal)
+            shell.objects = [page]
         book.build_seconds = book.build_seconds[-99:] + [time.perf_counter() - t0]
         shell.explorer_state = page.explorer_state
         doc.on_change(lambda event: book.touch(sid))
