@@ -189,7 +189,7 @@ def _cmd_serve(args: argparse.Namespace) -> int:
     if proposal is not None:
         SHARED_CACHE.get(proposal)
     print(f"explorer: serving {sc.title!r} at http://{args.address}:{args.port}/ "
-          f"(at most {args.max_sessions} live pages; idle pages released after "
+          f"(at most {args.max_sessions} pages at once; idle pages released after "
           f"{args.idle_minutes:g} min; Ctrl+C to stop)", file=sys.stderr, flush=True)
     server.serve(sc, proposal, port=args.port, address=args.address, websocket_origin=origin,
                  max_sessions=args.max_sessions, idle_minutes=args.idle_minutes)
