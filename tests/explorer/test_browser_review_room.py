@@ -8,6 +8,7 @@ Expected values come from the core (thermo.sweep / thermo.point), not from the a
 from __future__ import annotations
 
 import re
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -18,7 +19,7 @@ from thermo.sweep import LIMIT_VARIABLES
 
 pytestmark = pytest.mark.usefixtures("chromium_path")
 
-ROOT_SCENARIOS = "scenarios"
+ROOT_SCENARIOS = Path(__file__).resolve().parents[2] / "scenarios"
 
 #: Viewport rectangle of the canvas of the Bokeh figure `name`, without scrolling.
 CANVAS_BOX = """(name) => {
@@ -119,7 +120,7 @@ def test_comparison_with_the_shipped_proposal_has_no_patchwork_where_nothing_cha
     from thermo.compare import on_base_window
 
     base = small_scenario()
-    proposal = thermo.load_scenario(f"{ROOT_SCENARIOS}/demo-proposal.toml")
+    proposal = thermo.load_scenario(ROOT_SCENARIOS / "demo-proposal.toml")
     # The core's view: methane slip (an outlet mole fraction) is the same for both over
     # this window, to round-off (the proposal changes flows, preheat and adds a pre-reformer;
     # the reformer outlet is at equilibrium at the same T, P and S/C either way).
