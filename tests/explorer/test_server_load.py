@@ -2,8 +2,9 @@
 
 Loopback only, bounded in count (50 abandoned requests, at most 3 pages) and in time (every
 wait has a deadline). The deadlines are the issue's requirements (maps within 5 s after the
-abandoned burst; the busy page within 1 s), not speed measurements: those are in
-tests/benchmarks/bench_browser.py.
+abandoned burst, or within twice the time of a page loaded just before it when the machine is
+so loaded that one page alone takes longer; the busy page within 1 s), not speed
+measurements: those are in tests/benchmarks/bench_browser.py.
 """
 
 from __future__ import annotations
@@ -57,6 +58,14 @@ def test_abandoned_page_loads_build_nothing_and_a_real_one_shows_maps(browser, s
     with served_app(solved) as url:
         server = served_app.last
         port = int(url.rsplit(":", 1)[1].strip("/"))
+        # A page loaded before the burst, as the reference of this run: on a machine loaded
+        # by other work one page alone can take longer than 5 s; the burst may not slow the
+        # next page to more than twice that.
+        before = browser.new_page()
+        t0 = time.monotonic()
+        _maps_shown(before, url, 60000)
+        deadline_ms = max(MAPS_WITHIN_MS, 2000 * (time.monotonic() - t0))
+        before.close()
         # The server is held busy for a second (as by a long page build) while the 50
         # requests arrive and are given up; a client that retries with a short timeout.
         server.server.io_loop.add_callback(time.sleep, 1.0)
@@ -70,11 +79,11 @@ def test_abandoned_page_loads_build_nothing_and_a_real_one_shows_maps(browser, s
         page = browser.new_page()
         errors = []
         page.on("pageerror", lambda e: errors.append(str(e)))
-        _maps_shown(page, url, MAPS_WITHIN_MS)
+        _maps_shown(page, url, deadline_ms)
         book = server.book
-        # Only the real page was built; the abandoned GETs built no page at all (most were
+        # Only the real pages were built; the abandoned GETs built no page at all (most were
         # not even given a shell: the client had hung up before the server got to them).
-        assert book.built == 1
+        assert book.built == 2
         assert book.gone >= ABANDONED // 2
         assert errors == []
         page.close()
