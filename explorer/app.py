@@ -16,7 +16,7 @@ import thermo
 from explorer import CAUTION
 from explorer.form import ScenarioForm, read_upload, scenario_files
 from explorer.safe import html, paragraphs
-from explorer.state import ExplorerState, check_window_size
+from explorer.state import SHARED_CACHE, ExplorerState, check_window_size
 from explorer.static import CAUTION_CSS, PAGE_CSS, SECTION_CSS
 from explorer.views import (
     BalanceView,
@@ -37,6 +37,28 @@ def _section(title: str, *objects):
                      sizing_mode="stretch_width")
 
 
+def poll_while_working(state: ExplorerState, period_ms: int = 200) -> None:
+    """Publish the session's background work every `period_ms` while there is any, and stop
+    polling when there is none (an idle page costs the server nothing)."""
+    callback = None
+
+    def tick():
+        state.poll()
+        if not state.working():
+            callback.stop()
+
+    def wake():
+        nonlocal callback
+        if callback is None:
+            callback = pn.state.add_periodic_callback(tick, period=period_ms)
+        elif not callback.running:
+            callback.start()
+
+    state.wake = wake
+    if state.working():
+        wake()
+
+
 def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
               solve: str = "background", proposal: Scenario | None = None) -> pn.Column:
     """The explorer page for one session.
@@ -54,6 +76,10 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
     if not isinstance(scenario, Scenario):
         scenario = thermo.load_scenario(scenario)
     state = ExplorerState(check_window_size(scenario))
+    if solve == "now" or scenario in SHARED_CACHE:
+        # Solved already (by another session, or by `explorer serve` at start): adopt it
+        # before the views exist, so that each draws the window once.
+        state.solve_now()
     summary = SummaryView(state)
     maps = MapsView(state)
     balance = BalanceView(state)
@@ -107,20 +133,21 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
                            "scenario": scenario_card, "maps": maps, "compare": compare}
     page.explorer_state = state  # for tests and notebooks
     if solve == "now":
-        state.solve_now()
         if proposal is not None:
             state.set_proposal(proposal, background=False)
     else:
         def start():
-            state.solve_in_background()
+            poll_while_working(state)
+            if state.dataset is None:
+                state.solve_in_background()
             if proposal is not None:
                 state.set_proposal(proposal)
-            pn.state.add_periodic_callback(state.poll, period=200)
 
         if pn.state.curdoc is not None and pn.state.curdoc.session_context is not None:
             pn.state.onload(start)
         else:
-            state.solve_now()
+            if state.dataset is None:
+                state.solve_now()
             if proposal is not None:
                 state.set_proposal(proposal, background=False)
     return page

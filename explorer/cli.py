@@ -196,19 +196,30 @@ def _cmd_serve(args: argparse.Namespace) -> int:
         print(f"explorer: warning: serving on {args.address}: anyone who can reach this "
               "address can use the app. Bind 127.0.0.1 unless you mean to share it.",
               file=sys.stderr)
+    if not 1 <= args.max_sessions <= 1000:
+        raise InputError("--max-sessions", args.max_sessions,
+                         "a number of live pages from 1 to 1000")
+    if not 1 <= args.idle_minutes <= 7 * 24 * 60:
+        raise InputError("--idle-minutes", args.idle_minutes,
+                         "minutes from 1 to 10080 (one week)")
     _kernel_notice()
-    import panel as pn
-
-    from explorer.app import build_app
+    from explorer import server
+    from explorer.state import SHARED_CACHE
 
     origin = [f"{args.address}:{args.port}"]
     if loopback:
         origin.append(f"localhost:{args.port}")
+    print(f"explorer: solving {sc.title!r} ({sc.window.size():,} points) before serving ...",
+          file=sys.stderr, flush=True)
+    # Solved once here, so that every page (the first too) adopts it from the shared cache.
+    SHARED_CACHE.get(sc)
+    if proposal is not None:
+        SHARED_CACHE.get(proposal)
     print(f"explorer: serving {sc.title!r} at http://{args.address}:{args.port}/ "
-          "(Ctrl+C to stop)", file=sys.stderr, flush=True)
-    pn.serve({"/": lambda: build_app(sc, proposal=proposal)}, port=args.port, address=args.address,
-             websocket_origin=origin, show=False, title="Reformer window explorer",
-             verbose=False)
+          f"(at most {args.max_sessions} pages at once; idle pages released after "
+          f"{args.idle_minutes:g} min; Ctrl+C to stop)", file=sys.stderr, flush=True)
+    server.serve(sc, proposal, port=args.port, address=args.address, websocket_origin=origin,
+                 max_sessions=args.max_sessions, idle_minutes=args.idle_minutes)
     return 0
 
 
@@ -291,6 +302,14 @@ def build_parser() -> argparse.ArgumentParser:
                     help="address to bind (default 127.0.0.1: this machine only)")
     sv.add_argument("--compare", default=None, metavar="PROPOSAL",
                     help="open with a proposal scenario loaded for comparison")
+    from explorer.server import DEFAULT_IDLE_MINUTES, DEFAULT_MAX_SESSIONS
+
+    sv.add_argument("--max-sessions", type=int, default=DEFAULT_MAX_SESSIONS, metavar="N",
+                    help="most pages served at once; past it a short 'busy' page answers "
+                         "(default %(default)s)")
+    sv.add_argument("--idle-minutes", type=float, default=DEFAULT_IDLE_MINUTES, metavar="MIN",
+                    help="release a page after this many minutes without use "
+                         "(default %(default)s)")
     sv.set_defaults(func=_cmd_serve)
     return p
 

@@ -80,6 +80,8 @@ class ExplorerState(param.Parameterized):
         self._cmp_lock = threading.Lock()
         # (scenario content key, PointResult) of the design point, computed once per key.
         self._design: tuple = (None, None)
+        #: Called whenever work for poll() starts (the served page starts polling then).
+        self.wake = lambda: None
 
     # -- solving -----------------------------------------------------------------------
     def solve_now(self) -> None:
@@ -111,8 +113,17 @@ class ExplorerState(param.Parameterized):
             except Exception as err:  # reported to the user by poll()
                 self._pending = ("error", sc, err)
 
-        self._thread = threading.Thread(target=work, daemon=True)
-        self._thread.start()
+        if sc in SHARED_CACHE:
+            work()  # solved already (another session, or earlier): no worker thread
+        else:
+            self._thread = threading.Thread(target=work, daemon=True)
+            self._thread.start()
+        self.wake()
+
+    def working(self) -> bool:
+        """Whether poll() still has something to publish (a solve or a comparison)."""
+        return (self.busy or self._pending is not None or self._cmp_pending is not None
+                or (self._cmp_thread is not None and self._cmp_thread.is_alive()))
 
     def _on_progress(self, done: int, total: int) -> None:
         self._done, self._total = done, total
@@ -208,6 +219,7 @@ class ExplorerState(param.Parameterized):
 
         self._cmp_thread = threading.Thread(target=work, daemon=True)
         self._cmp_thread.start()
+        self.wake()
 
     def _poll_proposal(self) -> None:
         with self._cmp_lock:

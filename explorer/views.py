@@ -17,6 +17,7 @@ from pathlib import Path
 import numpy as np
 import panel as pn
 from bokeh.events import Tap
+from bokeh.models import Legend
 
 import thermo
 from explorer.form import _message_pane, read_upload, scenario_files
@@ -31,11 +32,11 @@ from explorer.maps import (
     combine,
     empty_layers,
     has_change,
+    legend_visibility,
     map_figure,
     quiet_change,
     restyle_figure,
     shared_levels,
-    show_legend_entries,
     slice_fields,
     slice_layers,
     variable_layers,
@@ -78,28 +79,56 @@ class MapsView:
         self.sliders = pn.Row()
         # The figures exist from the start (empty until the window is solved) and are only
         # restyled afterwards: models added to a live page later can race its first render.
-        self.panes, self.sources = [], []
+        # A window solved already is drawn into them as they are made (no restyle pass).
+        self.panes, self.sources, self.legends = [], [], []
         self.levels: dict[str, np.ndarray] = {}
         for i, key in enumerate((state.left, state.right)):
             var = VARIABLES[key]
-            fig, src, _ = map_figure(var, state.mode, np.array([0.0, 1.0]), empty_layers(),
-                                     f"map-{i}", (0.0, 1.0), (0.0, 1.0), height=MAP_HEIGHT)
+            fig, src, _ = map_figure(var, state.mode, *self._first_content(key), f"map-{i}",
+                                     *self._ranges(), height=MAP_HEIGHT)
             fig.sizing_mode = "stretch_width"
             fig.on_event(Tap, self._tap)
             self.panes.append(pn.pane.Bokeh(fig, sizing_mode="stretch_width"))
             self.sources.append(src)
+            self.legends.append(next(m for m in fig.below if isinstance(m, Legend)))
         self.status = pn.pane.HTML("", margin=(0, 10))
         self.bar = pn.indicators.Progress(value=0, max=1000, width=300, visible=False)
         self.mode.param.watch(lambda e: setattr(state, "mode", e.new), "value")
         self.left.param.watch(lambda e: setattr(state, "left", e.new), "value")
         self.right.param.watch(lambda e: setattr(state, "right", e.new), "value")
-        state.param.watch(self._rebuild, ["dataset", "mode", "left", "right"])
-        state.param.watch(self._redraw_slices, ["fixed"])
+        # One watcher: a new window moves `dataset` and `fixed` together, drawn once.
+        state.param.watch(self._changed, ["dataset", "mode", "left", "right", "fixed"])
         state.param.watch(self._mark_selected, ["selected"])
         state.param.watch(self._progress, ["busy", "progress", "status"])
         self._progress()
         if state.dataset is not None:
+            self._build_sliders()
+            self._mark_selected()
+
+    def _first_content(self, key: str):
+        """Levels and layers of the first figure of `key` (empty while solving)."""
+        s = self.state
+        if s.dataset is None:
+            return np.array([0.0, 1.0]), empty_layers()
+        var = VARIABLES[key]
+        self.levels[key] = variable_levels(s.dataset, var)
+        return self.levels[key], slice_layers(s.dataset, var, s.mode, s.fixed,
+                                              s.scenario.limits, self.levels[key])
+
+    def _ranges(self):
+        """x and y ranges of the maps: the window's, in display units."""
+        ds = self.state.dataset
+        if ds is None:
+            return (0.0, 1.0), (0.0, 1.0)
+        x = ds.temperature.values - 273.15
+        y = ds[self.state.mode].values / (1e5 if self.state.mode == "pressure" else 1.0)
+        return (float(x.min()), float(x.max())), (float(y.min()), float(y.max()))
+
+    def _changed(self, *events):
+        if any(e.name != "fixed" for e in events):
             self._rebuild()
+        else:
+            self._redraw_slices()
 
     def _progress(self, *_):
         s = self.state
@@ -114,10 +143,7 @@ class MapsView:
         if ds is None:
             return
         self.levels = {k: variable_levels(ds, VARIABLES[k]) for k in (s.left, s.right)}
-        x = ds.temperature.values - 273.15
-        y = ds[s.mode].values / (1e5 if s.mode == "pressure" else 1.0)
-        x_range = (float(x.min()), float(x.max()))
-        y_range = (float(y.min()), float(y.max()))
+        x_range, y_range = self._ranges()
         for i, key in enumerate((s.left, s.right)):
             var = VARIABLES[key]
             layers = slice_layers(ds, var, s.mode, s.fixed, s.scenario.limits, self.levels[key])
@@ -164,9 +190,10 @@ class MapsView:
         self._mark_selected()
 
     def _legends(self) -> None:
-        for pane, src in zip(self.panes, self.sources, strict=True):
-            show_legend_entries(pane.object, {k: src[k].data for k in src},
-                                src["selected"].data)
+        for legend, src in zip(self.legends, self.sources, strict=True):
+            vis = legend_visibility({k: src[k].data for k in src}, src["selected"].data)
+            for item in legend.items:
+                item.visible = vis[item.name]
 
     def _mark_selected(self, *_):
         s = self.state

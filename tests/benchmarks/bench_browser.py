@@ -8,7 +8,8 @@ The demo scenario's app is served in this process (``pn.serve(..., threaded=True
 driven with Python Playwright in Debian's Chromium (the binary and flags of tests/conftest.py;
 no network but loopback). Measured, wall clock on the Python side:
 
-1. first maps: from ``page.goto`` of a fresh server to the text "points solved" and the Bokeh
+1. first maps: from ``page.goto`` of a fresh server (explorer.server, as ``explorer serve``
+   runs it, but without solving before serving) to the text "points solved" and the Bokeh
    figure "map-0" rendered (its view has a frame: tests/explorer/helpers.py FIND_PIXEL). The
    first session includes loading the numba kernel from its on-disk cache (refreshed first in
    a child process, so no compile is timed) and solving the demo window (5,746 points) in the
@@ -22,6 +23,12 @@ no network but loopback). Measured, wall clock on the Python side:
    in this process only (time_server_redraw). Target (issue): under 200 ms.
 3. click -> balance: click a grid node on map-0 and time until the balance heading names that
    node and the balance table shows its pressure.
+4. server time of a warm page load: the CPU time of the server's thread (its event loop runs
+   every GET, page build and callback) from ``goto`` to first maps, for each later session;
+   the page build's wall time as the server records it (SessionBook.build_seconds); the wall
+   time of a bare GET (the shell a client that never connects gets).
+5. a burst of 50 page requests, each abandoned after 0.5 s, then the first maps of a real page
+   right after it, and how many pages the server built for the abandoned requests.
 
 Figures only: nothing here asserts a time.
 """
@@ -117,17 +124,16 @@ def time_server_redraw() -> None:
 
 
 def serve():
-    import panel as pn
-
-    from explorer.app import build_app
+    """The demo served in this process by `explorer serve`'s server (explorer.server); the
+    window is NOT solved beforehand, so that the first session's first maps are cold."""
+    from explorer.server import serve as explorer_serve
 
     time_server_redraw()
 
     port = free_port()
     t0 = time.perf_counter()
-    server = pn.serve({"/": lambda: build_app(thermo.load_scenario())}, port=port,
-                      address="127.0.0.1", websocket_origin=[f"127.0.0.1:{port}"],
-                      threaded=True, show=False, verbose=False)
+    server = explorer_serve(thermo.load_scenario(), port=port, address="127.0.0.1",
+                            threaded=True)
     deadline = time.time() + 30
     while time.time() < deadline:
         try:
@@ -135,7 +141,85 @@ def serve():
             break
         except OSError:
             time.sleep(0.02)
-    return server, f"http://127.0.0.1:{port}/", time.perf_counter() - t0
+    return server, server.url, time.perf_counter() - t0
+
+
+def server_cpu(server) -> float:
+    """CPU time [s] used so far by the server's thread (its event loop: every page GET,
+    page build, model serialization and callback of every session runs there)."""
+    return time.clock_gettime(time.pthread_getcpuclockid(server.thread.ident))
+
+
+def get_page(url: str) -> float:
+    """Wall time [s] of one GET of the page (what a client that never connects costs)."""
+    import urllib.request
+
+    t0 = time.perf_counter()
+    urllib.request.urlopen(url, timeout=30).read()
+    return time.perf_counter() - t0
+
+
+def abandoned_burst(url: str, n: int = 50, after: float = 0.5) -> None:
+    """n page requests at once, each given up after `after` seconds (answered or not)."""
+    import threading
+
+    host, port = "127.0.0.1", int(url.rsplit(":", 1)[1].strip("/"))
+
+    def one():
+        with socket.create_connection((host, port), timeout=after) as s:
+            s.sendall(f"GET / HTTP/1.1\r\nHost: {host}:{port}\r\n\r\n".encode())
+            try:
+                s.recv(1)
+            except TimeoutError:
+                pass
+
+    threads = [threading.Thread(target=one) for _ in range(n)]
+    for t in threads:
+        t.start()
+    for t in threads:
+        t.join()
+
+
+def thread_cpu(thread) -> float:
+    """CPU time [s] used so far by a thread (by its ident)."""
+    return time.clock_gettime(time.pthread_getcpuclockid(thread.ident))
+
+
+def reference_serving(sc, ctx, n: int = 3):
+    """Reference in the same run: the same page served the way Panel serves an app function
+    by default (``pn.serve({"/": lambda: build_app(sc)})``: the whole page is built on every
+    GET). Returns the wall times of n bare GETs, the server thread's CPU time for each, and
+    the wall and server CPU time of n browser page loads to first maps."""
+    import panel as pn
+
+    from explorer.app import build_app
+
+    port = free_port()
+    thread = pn.serve({"/": lambda: build_app(sc)}, port=port, address="127.0.0.1",
+                      websocket_origin=[f"127.0.0.1:{port}"], threaded=True, show=False,
+                      verbose=False)
+    url = f"http://127.0.0.1:{port}/"
+    deadline = time.time() + 30
+    while time.time() < deadline:
+        try:
+            socket.create_connection(("127.0.0.1", port), timeout=1).close()
+            break
+        except OSError:
+            time.sleep(0.02)
+    try:
+        get_page(url)  # warm
+        gets, get_cpu, maps, maps_cpu = [], [], [], []
+        for _ in range(n):
+            c0 = thread_cpu(thread)
+            gets.append(get_page(url))
+            get_cpu.append(thread_cpu(thread) - c0)
+        for _ in range(n):
+            c0 = thread_cpu(thread)
+            maps.append(open_maps(ctx.new_page(), url))
+            maps_cpu.append(thread_cpu(thread) - c0)
+    finally:
+        thread.stop()
+    return gets, get_cpu, maps, maps_cpu
 
 
 def open_maps(page, url) -> float:
@@ -242,9 +326,28 @@ def main(argv=None) -> None:
             clicks = balance_clicks(page, sc, args.clicks)
             # New sessions last, kept open until the browser closes (a closed page's session
             # lingers in the server for a while and would add work to the timings above).
-            later = []
+            # Each: wall time to its first maps and the server thread's CPU time meanwhile
+            # (the GET, the page build, its serialization and the first updates).
+            later, cpu, gets = [], [], []
             for _ in range(3):
+                c0 = server_cpu(server)
                 later.append(open_maps(ctx.new_page(), url))
+                cpu.append(server_cpu(server) - c0)
+            build = list(server.book.build_seconds[1:])
+            get_cpu = []
+            for _ in range(5):
+                c0 = server_cpu(server)
+                gets.append(get_page(url))
+                get_cpu.append(server_cpu(server) - c0)
+            # A burst of 50 page requests abandoned after 0.5 s, then a real page.
+            built = server.book.built
+            t0 = time.perf_counter()
+            abandoned_burst(url)
+            t_burst = time.perf_counter() - t0
+            after_burst = open_maps(ctx.new_page(), url)
+            burst_built = server.book.built - built - 1
+            ref = reference_serving(sc, browser.new_context(viewport={"width": 1300,
+                                                                       "height": 950}))
             browser.close()
     finally:
         server.stop()
@@ -259,6 +362,25 @@ def main(argv=None) -> None:
     print(f"  {'first maps, later sessions (window cached in the server)':<60} "
           f"median {statistics.median(later):.2f} s (runs: "
           f"{', '.join(f'{t:.2f}' for t in later)})")
+    print(f"  {'server CPU per new page, GET to first maps (server thread)':<60} {fmt(cpu)}")
+    print(f"  {'  of which: page build on connection (wall, in the server)':<60} {fmt(build)}")
+    print(f"  {'page GET without connecting (the shell only, wall)':<60} {fmt(gets)}")
+    print(f"  {'  its server CPU':<60} {fmt(get_cpu)}")
+    ref_gets, ref_get_cpu, ref_maps, ref_maps_cpu = ref
+    print("  reference, same run: Panel's default serving of the same page (built on GET)")
+    print(f"  {'  page GET without connecting (wall)':<60} {fmt(ref_gets)}")
+    print(f"  {'  its server CPU':<60} {fmt(ref_get_cpu)}")
+    print(f"  {'  first maps, later sessions (wall)':<60} {fmt(ref_maps)}")
+    print(f"  {'  server CPU per new page, GET to first maps':<60} {fmt(ref_maps_cpu)}")
+    med = statistics.median
+    print(f"  ratios (reference / explorer.server): bare GET CPU "
+          f"{med(ref_get_cpu) / med(get_cpu):.0f}x, page load CPU "
+          f"{med(ref_maps_cpu) / med(cpu):.2f}x, first maps wall "
+          f"{med(ref_maps) / med(later):.2f}x")
+    print(f"  {'50 page requests abandoned after 0.5 s: burst took':<60} {t_burst:.2f} s; "
+          f"pages built for them: {burst_built}; GETs skipped (client gone): "
+          f"{server.book.gone}")
+    print(f"  {'first maps of a real page right after the burst':<60} {after_burst:.2f} s")
     if wall:
         print(f"  {'slice change -> map-0 data changed (Python wall clock)':<60} {fmt(wall)}")
         print(f"  {'slice change -> map-0 data changed (in page, from keydown)':<60} "

@@ -55,17 +55,16 @@ def free_port() -> int:
 
 
 @contextlib.contextmanager
-def served_app(scenario, proposal=None):
-    """The app served in this process on a free loopback port (with a proposal to compare,
-    if given); yields its URL."""
-    import panel as pn
-
-    from explorer.app import build_app
+def served_app(scenario, proposal=None, **options):
+    """The app served in this process by `explorer serve`'s server (explorer.server) on a
+    free loopback port, with a proposal to compare if given; options (max_sessions,
+    idle_minutes) go to the server. Yields its URL; the server is `served_app.last`."""
+    from explorer.server import serve
 
     port = free_port()
-    thread = pn.serve({"/": lambda: build_app(scenario, proposal=proposal)}, port=port,
-                      address="127.0.0.1", websocket_origin=[f"127.0.0.1:{port}"],
-                      threaded=True, show=False, verbose=False)
+    server = serve(scenario, proposal, port=port, address="127.0.0.1", threaded=True,
+                   **options)
+    served_app.last = server
     deadline = time.time() + 30
     while time.time() < deadline:
         try:
@@ -74,9 +73,9 @@ def served_app(scenario, proposal=None):
         except OSError:
             time.sleep(0.1)
     try:
-        yield f"http://127.0.0.1:{port}/"
+        yield server.url
     finally:
-        thread.stop()
+        server.stop()
 
 
 def open_scenario_form(page) -> None:
