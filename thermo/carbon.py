@@ -89,6 +89,9 @@ BINDING_WORDS = {
     "higher_hydrocarbons": "C2+ hydrocarbons entering above their cracking temperature",
     "other_stage": "graphite in another reforming stage of the train",
 }
+#: Plain names of the carbon-forming routes (thermo.reactions.CARBON_ROUTES keys).
+ROUTE_WORDS = {"methane_cracking": "methane cracking", "co_reduction": "CO reduction",
+               "boudouard": "Boudouard"}
 #: Species lower and upper data limits [K].
 _T_DATA = (300.0, 3500.0)
 
