@@ -101,7 +101,9 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
                                sizing_mode="stretch_width", margin=(0, 10))
     footer = pn.pane.Markdown(
         "Method: Gibbs energy minimization for an ideal gas plus pure graphite (element "
-        "potentials); composition at T minus the approach, enthalpy at T. Standard state "
+        "potentials); composition at T minus the approach, enthalpy at T. Carbon verdict: "
+        "the equilibrated gas along the tube from its inlet, the real gas at T by three "
+        "carbon-forming reactions, C2+ and other-stage flags. Standard state "
         "1 bar. Data: GRI-Mech 3.0 gas polynomials, NASA TM-4513 graphite, IUPAC 2021 atomic "
         f"weights. Reformer window explorer {thermo.__version__}.",
         styles={"font-size": "12px", "color": "#4a5a64"})

@@ -16,7 +16,7 @@ import thermo
 from explorer.safe import html, message_html, text
 from explorer.state import ExplorerState, check_window_size
 from thermo.errors import InputError
-from thermo.scenario import DEMO_PATH, Scenario, parse_scenario
+from thermo.scenario import DEMO_PATH, Scenario, carbon_toml, parse_scenario
 
 #: Largest scenario file accepted by upload [bytes].
 MAX_UPLOAD_BYTES = 256 * 1024
@@ -335,6 +335,8 @@ class ScenarioForm:
         if v["max_duty"].strip():
             lines.append(f"max_duty = {q('max_duty')}")
         lines += self._train_toml()
+        # The [carbon] table has no fields here yet: the scenario's own is kept as it is.
+        lines += carbon_toml(sc.carbon)
         return "\n".join(lines) + "\n"
 
     def submit(self) -> bool:
@@ -415,8 +417,9 @@ class ScenarioForm:
                                                          cell("max_duty")), self.carbon_free,
                            pn.pane.Markdown(
                                "With a train, the limits apply to it: slip after the last "
-                               "reformer, H2 after the last stage, graphite in any reforming "
-                               "stage; the duty limit stays on the primary's radiant duty.",
+                               "reformer, H2 after the last stage, the carbon verdict (graphite "
+                               "in any reforming stage included); the duty limit stays on the "
+                               "primary's radiant duty.",
                                styles={"font-size": "12px", "color": "#4a5a64"}, width=560))
         # The reforming train: each stage's fields show only when it is switched on.
         stage_rows = []

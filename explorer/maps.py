@@ -105,6 +105,8 @@ def _variables() -> dict[str, Variable]:
                  tuple(reversed(Inferno256)), 1),
         Variable("carbon_activity", "Carbon activity (graphite = 1)", "-", 1.0,
                  tuple(reversed(Inferno256)), 3),
+        Variable("carbon_activity_path_max", "Carbon activity along the tube, largest "
+                 "(graphite = 1)", "-", 1.0, tuple(reversed(Inferno256)), 3),
     ]
     for s in GAS_SPECIES:
         if s != "H2O":

@@ -5,8 +5,10 @@ from __future__ import annotations
 import math
 
 from explorer import CAUTION
+from explorer.tables import carbon_verdict
 from thermo import units
 from thermo.api import PointResult
+from thermo.carbon import ROUTE_WORDS
 from thermo.constants import V_NORMAL
 from thermo.species import GAS_SPECIES, GRAPHITE, molar_mass
 
@@ -74,7 +76,17 @@ def point_report(pt: PointResult) -> str:
     add(f"  methane conversion    {100 * d['methane_conversion']:.2f} % (hydrocarbon C basis)")
     add(f"  H2/CO                 {_num(d['h2_co_ratio'], '.3f')} mol/mol")
     carbon_word = "graphite stable: carbon expected" if c > 0 else "no graphite at equilibrium"
-    add(f"  carbon activity       {d['carbon_activity']:.4f} ({carbon_word})")
+    add(f"  carbon activity       {d['carbon_activity']:.4f} ({carbon_word}; outlet gas)")
+    t_max = d["carbon_path_max_temperature"]
+    add(f"  along the tube, max   {_num(d['carbon_activity_path_max'], '.4f')} at "
+        f"{_num(math.nan if t_max is None else t_max - 273.15, '.1f')} degC (equilibrated gas, "
+        f"from the inlet at {d['inlet']['temperature_K'] - 273.15:.1f} degC)")
+    chk = d["carbon_check"]
+    routes = ", ".join(f"{ROUTE_WORDS[k]} {v:.4f}"
+                       for k, v in chk["real_gas_by_route"].items())
+    add(f"  real gas at T         {_num(d['carbon_activity_real_gas'], '.4f')} ({routes})")
+    free, words = carbon_verdict(d)
+    add(f"  carbon verdict        {'carbon-free' if free else 'NOT carbon-free'}: {words}")
     add("")
     add("Energy balance (enthalpies include formation enthalpies)")
     add(f"  inlet enthalpy flow   {units.MW_from_W(d['inlet']['enthalpy_W']):.3f} MW")

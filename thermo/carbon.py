@@ -52,26 +52,32 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+import numba
 import numpy as np
 
 from thermo.constants import P_REF, R
 from thermo.equilibrium import equilibrate
-from thermo.reactions import CARBON_ROUTES, ln_K_at_pressure
+from thermo.reactions import CARBON_ROUTES
 from thermo.scenario import CarbonCheck
-from thermo.species import GAS_SPECIES, formula_matrix
+from thermo.species import GAS_SPECIES, formula_matrix, g_RT, graphite_mu_RT
 
 #: Largest spacing of the path's scan nodes [K]; local maxima between nodes are refined.
-PATH_STEP = 25.0
+PATH_STEP = 50.0
 #: Verdict value where a discrete flag breaks the carbon limit [-] (ln of activity e).
 FLAG_LN_ACTIVITY = 1.0
 #: C2+ carbon above this fraction of the hydrocarbon carbon entering the primary sets the
 #: higher-hydrocarbon flag [-]: 0.1 %, common practice, no source (natural gas carries a few
 #: per cent; a pre-reformer's equilibrium near 400-450 degC leaves about 1e-5).
 HIGHER_HYDROCARBON_FRACTION = 1e-3
-#: Stop refining a maximum when the parabola's step is below this [K].
-REFINE_XTOL = 1e-5
+#: Stop refining a maximum when the parabola's step is below this [K]: near the top the
+#: activity is flat, so 2 mK moves ln a by about 1e-10 (curvature near 1e-4 K-2).
+REFINE_XTOL = 2e-3
+#: ... or when the gain in ln a the parabola predicts at its vertex is below this [-].
+REFINE_GAIN = 1e-10
 #: Iteration cap of the refinement.
 REFINE_ITERATIONS = 40
+#: Gas-only solves of fewer points than this run on one thread [-].
+SMALL_BATCH = 4096
 #: Binding criterion codes (``carbon_binding``: value = index), CF-style flag meanings.
 BINDING = ("outlet_equilibrium", "path_equilibrium", "real_gas", "higher_hydrocarbons",
            "other_stage")
@@ -83,6 +89,9 @@ BINDING_WORDS = {
     "higher_hydrocarbons": "C2+ hydrocarbons entering above their cracking temperature",
     "other_stage": "graphite in another reforming stage of the train",
 }
+#: Plain names of the carbon-forming routes (thermo.reactions.CARBON_ROUTES keys).
+ROUTE_WORDS = {"methane_cracking": "methane cracking", "co_reduction": "CO reduction",
+               "boudouard": "Boudouard"}
 #: Species lower and upper data limits [K].
 _T_DATA = (300.0, 3500.0)
 
@@ -106,15 +115,25 @@ def gas_ln_activity(T_eq, P, elements, warm=None, row: int = 1):
     row : int
         Warm-start rows (thermo.equilibrium.equilibrate).
     """
-    eq = equilibrate(T_eq, P, elements, allow_carbon=False, warm_start=warm, row=row)
+    n = np.size(T_eq)
+    threads = numba.get_num_threads()
+    # Small batches (a few hundred points, most of them warm) run on one thread: starting
+    # the thread pool costs more than it saves there, much more on a loaded machine.
+    numba.set_num_threads(1 if n < SMALL_BATCH else threads)
+    try:
+        eq = equilibrate(T_eq, P, elements, allow_carbon=False, warm_start=warm, row=row)
+    finally:
+        numba.set_num_threads(threads)
     return np.where(eq.converged, eq.ln_carbon_activity, np.nan), eq.element_potentials
 
 
 def real_gas_ln_activities(mole_fraction, T, P) -> dict[str, np.ndarray]:
     """ln carbon activity (graphite) of a gas by each carbon-forming reaction at T, P [-].
 
-    ``ln a = ln K(T, P) - sum_i nu_i ln(x_i P / P°)`` over the reaction's gases; -inf where a
-    reactant is absent (route unavailable; also where the route's species are all absent).
+    ``ln a = ln K(T, P) - sum_i nu_i ln(x_i P / P°)`` over the reaction's gases, with
+    ``ln K(T, P) = -sum_i nu_i g_i/RT - mu_gr(T, P)/RT`` (thermo.reactions.ln_K_at_pressure,
+    written out here so that each species' g/RT is evaluated once); -inf where a reactant is
+    absent (route unavailable; also where the route's species are all absent).
 
     Parameters
     ----------
@@ -128,13 +147,16 @@ def real_gas_ln_activities(mole_fraction, T, P) -> dict[str, np.ndarray]:
     P = np.broadcast_to(np.asarray(P, dtype=float), (x.shape[0],))
     with np.errstate(divide="ignore"):
         ln_p = np.log(x) + np.log(P / P_REF)[:, None]
+    species = {s for rx in CARBON_ROUTES.values() for s in rx.stoich if s in _I}
+    mu = {s: g_RT(T, s) + ln_p[:, _I[s]] for s in species}  # mu_i / RT of the gas
+    mu_gr = graphite_mu_RT(T, P)
     out = {}
     for key, rx in CARBON_ROUTES.items():
-        val = ln_K_at_pressure(rx, T, P).astype(float)
+        val = -mu_gr
         with np.errstate(invalid="ignore"):
             for s, nu in rx.stoich.items():
                 if s in _I:
-                    val = val - nu * ln_p[:, _I[s]]
+                    val = val - nu * mu[s]
         out[key] = np.where(np.isnan(val), -np.inf, val)
     return out
 
@@ -177,7 +199,12 @@ def _refine(f, line, a, m, c, fa, fm, fc, warm):
         mid = np.where(wide_right, 0.5 * (mk + ck), 0.5 * (ak + mk))
         bad = ~np.isfinite(v) | (v <= ak) | (v >= ck)
         v = np.where(bad, mid, v)
-        done = ~bad & (np.abs(v - mk) < REFINE_XTOL)
+        # Done when the parabola's step is tiny, or the gain it predicts at its vertex is
+        # below REFINE_GAIN (ln a; the value, not the position, is what is reported).
+        with np.errstate(invalid="ignore", divide="ignore"):
+            curv = 2.0 * ((fak - fmk) / (ak - mk) - (fck - fmk) / (ck - mk)) / (ak - ck)
+        gain = -0.5 * curv * (v - mk) ** 2
+        done = ~bad & ((np.abs(v - mk) < REFINE_XTOL) | (np.abs(gain) < REFINE_GAIN))
         active[k[done]] = False
         k, v = k[~done], v[~done]
         if k.size == 0:
@@ -271,8 +298,19 @@ def path_maxima(elements, pressure, approach: float, start: float, stations, out
         LAM[:, out_idx] = known[1]
         unknown[out_idx] = False
     u = np.flatnonzero(unknown)
-    if u.size:
+    if u.size and known is not None:
+        # Outward from the grid's own nodes, one node index at a time over all lines, each
+        # new node warm-started from its solved neighbour (towards the window).
+        lo_k, hi_k = out_idx.min(), out_idx.max()
+        order = [k for k in range(lo_k - 1, -1, -1)] + [k for k in range(hi_k + 1, K)]
+        order += [k for k in u if lo_k < k < hi_k]  # gaps inside the window, if any
+        for k in order:
+            ref = k + 1 if k < lo_k else k - 1
+            ln, lam = gas_ln_activity(np.full(L, nodes[k] - dT), P, b, warm=LAM[:, ref])
+            F[:, k], LAM[:, k] = ln, lam
+    elif u.size:
         Tq = np.tile(nodes[u] - dT, L)
+        # Each line's nodes in one warm-started row (each from its predecessor).
         ln, lam = gas_ln_activity(Tq, np.repeat(P, u.size), np.repeat(b, u.size, axis=0),
                                   row=u.size)
         F[:, u] = ln.reshape(L, u.size)

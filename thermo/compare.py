@@ -17,7 +17,7 @@ from thermo.errors import InputError
 from thermo.scenario import Scenario
 
 #: Variables that are not differenced (flags, counters, and the fixed inputs).
-_SKIP = ("converged", "iterations", "feasible", "inlet_flow")
+_SKIP = ("converged", "iterations", "feasible", "inlet_flow", "carbon_binding")
 
 
 def on_base_window(base: Scenario, proposal: Scenario) -> Scenario:

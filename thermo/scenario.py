@@ -779,7 +779,7 @@ class Scenario:
                 f'max_duty = "{lim.max_duty!r} W"  # {units.MW_from_W(lim.max_duty):.6g} MW'
             )
         lines += _train_toml(self.train)
-        lines += _carbon_toml(self.carbon)
+        lines += carbon_toml(self.carbon)
         return "\n".join(lines) + "\n"
 
 
@@ -1436,7 +1436,7 @@ def _carbon(data: Mapping) -> CarbonCheck:
     return CarbonCheck(tuple(stations), reference, offset, crack)
 
 
-def _carbon_toml(check: CarbonCheck) -> list[str]:
+def carbon_toml(check: CarbonCheck) -> list[str]:
     """TOML lines of a non-default carbon check (none for the default)."""
     if check == CarbonCheck():
         return []

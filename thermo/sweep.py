@@ -304,9 +304,6 @@ def assemble(scenario: Scenario, results: list[dict[str, np.ndarray]]) -> xr.Dat
             ds[k].attrs = {"units": u, "long_name": ln}
     ds["converged"] = ds["converged"].astype(bool)
     ds["converged"].attrs = {"units": "1", "long_name": _VARIABLES["converged"][1]}
-    for k in ("carbon_free", "carbon_higher_hydrocarbons", "carbon_other_stage"):
-        ds[k] = ds[k].astype(bool)
-        ds[k].attrs = {"units": "1", "long_name": _VARIABLES[k][1]}
     ds["carbon_verdict_ln_activity"].attrs["reference"] = scenario.carbon.reference
     ds["carbon_binding"].attrs.update(
         flag_values=np.arange(len(carbon.BINDING), dtype=np.int8),

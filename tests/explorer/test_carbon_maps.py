@@ -70,3 +70,15 @@ def test_hatching_and_words_follow_the_binding_verdict(solved):
         ln_out = s["carbon_ln_activity_outlet"].values
         if (ln_out > 0).any() and (ln_out < 0).any():
             assert lay["carbon_outlet"]["xs"]
+
+
+def test_cli_text_names_the_binding_carbon_criterion():
+    import thermo
+    from explorer.report import point_report
+
+    sc = thermo.load_scenario()
+    text = point_report(thermo.point(sc, feed="CH4=1", temperature="700 degC",
+                                     pressure="10 bar", steam_to_carbon=1.1, approach="20 K"))
+    assert "NOT carbon-free" in text
+    assert "real (non-equilibrated) gas at the catalyst temperature" in text
+    assert "methane cracking 1.16" in text  # the example: about 1.16
