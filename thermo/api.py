@@ -7,6 +7,7 @@ returns is SI.
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass, replace
 
@@ -17,6 +18,12 @@ from thermo.balances import Balance, adiabatic_temperature
 from thermo.constants import P_REF
 from thermo.errors import InputError
 from thermo.extent import REFORMING, SHIFT
+from thermo.plant import (
+    GJ_PER_1000NM3_FROM_J_PER_MOL,
+    MJ_PER_KG_FROM_J_PER_MOL,
+    PlantResult,
+    plant_balance,
+)
 from thermo.scenario import (
     Scenario,
     check_approach,
@@ -52,6 +59,8 @@ class PointResult:
     train : TrainResult
         Every stage of the scenario's train (the primary alone if it names none), one point
         long.
+    plant : PlantResult or None
+        The hydrogen plant around it (thermo.plant), one point long; None without [plant].
     """
 
     scenario: Scenario
@@ -61,6 +70,7 @@ class PointResult:
     adiabatic: bool
     balance: Balance
     train: TrainResult
+    plant: PlantResult | None = None
 
     def __getattr__(self, name: str):
         # Scalar view of the one-point balance: pt.h2_yield, pt.duty, ...
@@ -166,7 +176,50 @@ class PointResult:
             "train": self._train_dict(),
         }
         out["converged"] = bool(self.train.converged[0])
+        if self.plant is not None:
+            out["plant"] = self._plant_dict()
         return _strict(out)
+
+    def _plant_dict(self) -> dict:
+        """The point JSON's ``plant`` object (SI; the plant issue's contract plus more)."""
+        p = {k: float(v[0]) for k, v in self.plant.scalars().items()}
+        pl = self.scenario.plant
+        spec = p["specific_energy"]
+        return {
+            "h2_product_mol_per_s": p["h2_product"],
+            "tail_gas_lhv_W": p["tail_gas_lhv"],
+            "fired_duty_W": p["fired_duty"],
+            "trim_fuel_W": p["trim_fuel"],
+            "trim_fuel_mol_per_s": p["trim_fuel_flow"],
+            "tail_gas_excess_W": p["tail_gas_excess"],
+            "tail_gas_exceeds_need": p["tail_gas_excess"] > 0.0,
+            "radiant_duty_W": p["radiant_duty"],
+            "radiant_efficiency": p["radiant_efficiency"],
+            "bridgewall_temperature_K": p["bridgewall_temperature"],
+            "feed_lhv_W": p["feed_lhv"],
+            "air_preheat_W": p["air_preheat"],
+            "feed_preheat_W": p["feed_preheat"],
+            "reheat_W": p["reheat"],
+            "convection_heat_W": p["convection_heat"],
+            "flue_steam_heat_W": p["flue_steam_heat"],
+            "process_gas_heat_W": p["process_gas_heat"],
+            "process_gas_dew_point_K": p["process_gas_dew_point"],
+            "process_gas_below_dew_point":
+                p["process_gas_dew_point"] > pl.process_gas_cooled_temperature,
+            "steam_raised_kg_per_s": p["steam_raised"],
+            "process_steam_kg_per_s": p["process_steam"],
+            "steam_export_kg_per_s": p["steam_export"],
+            "steam_value_J_per_kg": p["steam_value"],
+            "specific_energy_J_per_mol_h2": spec,
+            "specific_energy_GJ_per_1000Nm3_h2": spec * GJ_PER_1000NM3_FROM_J_PER_MOL,
+            "specific_energy_MJ_per_kg_h2": spec * MJ_PER_KG_FROM_J_PER_MOL,
+            "natural_gas_per_h2": p["natural_gas_per_h2"],
+            "steam_export_kg_per_mol_h2": p["steam_export_per_h2"],
+            "flue_gas_mol_per_s": self.species(self.plant.flue_gas),
+            "air_mol_per_s": self.species(self.plant.air),
+            "tail_gas_mol_per_s": self.species(self.plant.tail_gas),
+            "assumptions": dataclasses.asdict(pl),
+        }
 
     def _train_dict(self) -> dict:
         tr = self.train
@@ -326,4 +379,5 @@ def point(
         raise InputError("approach", f"{dT:g} K",
                          f"an approach that keeps T - approach at or above 300 K (T = {T:.2f} K)")
     tr = train_balance(sc.train, n_in[None, :], T, P, f.inlet_temperature, dT)
-    return PointResult(sc, float(T), float(P), float(dT), adiabatic, tr.primary, tr)
+    plant = None if sc.plant is None else plant_balance(sc.plant, sc, tr, P)
+    return PointResult(sc, float(T), float(P), float(dT), adiabatic, tr.primary, tr, plant)
