@@ -16,7 +16,7 @@ import thermo
 from explorer.safe import html, message_html, text
 from explorer.state import ExplorerState, check_window_size
 from thermo.errors import InputError
-from thermo.scenario import DEMO_PATH, Scenario, parse_scenario
+from thermo.scenario import DEMO_PATH, Scenario, parse_scenario, plant_toml
 
 #: Largest scenario file accepted by upload [bytes].
 MAX_UPLOAD_BYTES = 256 * 1024
@@ -334,7 +334,12 @@ class ScenarioForm:
             lines.append(f"min_h2_yield = {q('min_yield')}")
         if v["max_duty"].strip():
             lines.append(f"max_duty = {q('max_duty')}")
+        # The plant around the reformer has no fields here: its table and its fired-duty
+        # limit are kept as the scenario has them.
+        if sc.limits.max_fired_duty is not None and sc.plant is not None:
+            lines.append(f'max_fired_duty = "{sc.limits.max_fired_duty!r} W"')
         lines += self._train_toml()
+        lines += plant_toml(sc.plant)
         return "\n".join(lines) + "\n"
 
     def submit(self) -> bool:

@@ -184,42 +184,20 @@ class PointResult:
         """The point JSON's ``plant`` object (SI; the plant issue's contract plus more)."""
         p = {k: float(v[0]) for k, v in self.plant.scalars().items()}
         pl = self.scenario.plant
-        spec = p["specific_energy"]
-        return {
-            "h2_product_mol_per_s": p["h2_product"],
-            "tail_gas_lhv_W": p["tail_gas_lhv"],
-            "fired_duty_W": p["fired_duty"],
-            "trim_fuel_W": p["trim_fuel"],
-            "trim_fuel_mol_per_s": p["trim_fuel_flow"],
-            "tail_gas_excess_W": p["tail_gas_excess"],
+        out = {k: p[attr] for k, attr in PLANT_JSON.items()}
+        spec = out["specific_energy_J_per_mol_h2"]
+        out.update({
             "tail_gas_exceeds_need": p["tail_gas_excess"] > 0.0,
-            "radiant_duty_W": p["radiant_duty"],
-            "radiant_efficiency": p["radiant_efficiency"],
-            "bridgewall_temperature_K": p["bridgewall_temperature"],
-            "feed_lhv_W": p["feed_lhv"],
-            "air_preheat_W": p["air_preheat"],
-            "feed_preheat_W": p["feed_preheat"],
-            "reheat_W": p["reheat"],
-            "convection_heat_W": p["convection_heat"],
-            "flue_steam_heat_W": p["flue_steam_heat"],
-            "process_gas_heat_W": p["process_gas_heat"],
-            "process_gas_dew_point_K": p["process_gas_dew_point"],
             "process_gas_below_dew_point":
                 p["process_gas_dew_point"] > pl.process_gas_cooled_temperature,
-            "steam_raised_kg_per_s": p["steam_raised"],
-            "process_steam_kg_per_s": p["process_steam"],
-            "steam_export_kg_per_s": p["steam_export"],
-            "steam_value_J_per_kg": p["steam_value"],
-            "specific_energy_J_per_mol_h2": spec,
             "specific_energy_GJ_per_1000Nm3_h2": spec * GJ_PER_1000NM3_FROM_J_PER_MOL,
             "specific_energy_MJ_per_kg_h2": spec * MJ_PER_KG_FROM_J_PER_MOL,
-            "natural_gas_per_h2": p["natural_gas_per_h2"],
-            "steam_export_kg_per_mol_h2": p["steam_export_per_h2"],
             "flue_gas_mol_per_s": self.species(self.plant.flue_gas),
             "air_mol_per_s": self.species(self.plant.air),
             "tail_gas_mol_per_s": self.species(self.plant.tail_gas),
             "assumptions": dataclasses.asdict(pl),
-        }
+        })
+        return out
 
     def _train_dict(self) -> dict:
         tr = self.train
@@ -260,6 +238,36 @@ class PointResult:
                 "mole_fraction_dry": self.species(dry[None, :] / dry.sum()),
             },
         }
+
+
+#: The point JSON's plant numbers: JSON key -> thermo.plant.PlantResult attribute (the plant
+#: issue's contract first, then more).
+PLANT_JSON: dict[str, str] = {
+    "h2_product_mol_per_s": "h2_product",
+    "tail_gas_lhv_W": "tail_gas_lhv",
+    "fired_duty_W": "fired_duty",
+    "trim_fuel_W": "trim_fuel",
+    "radiant_efficiency": "radiant_efficiency",
+    "bridgewall_temperature_K": "bridgewall_temperature",
+    "steam_raised_kg_per_s": "steam_raised",
+    "process_steam_kg_per_s": "process_steam",
+    "steam_export_kg_per_s": "steam_export",
+    "specific_energy_J_per_mol_h2": "specific_energy",
+    "natural_gas_per_h2": "natural_gas_per_h2",
+    "trim_fuel_mol_per_s": "trim_fuel_flow",
+    "tail_gas_excess_W": "tail_gas_excess",
+    "radiant_duty_W": "radiant_duty",
+    "feed_lhv_W": "feed_lhv",
+    "air_preheat_W": "air_preheat",
+    "feed_preheat_W": "feed_preheat",
+    "reheat_W": "reheat",
+    "convection_heat_W": "convection_heat",
+    "flue_steam_heat_W": "flue_steam_heat",
+    "process_gas_heat_W": "process_gas_heat",
+    "process_gas_dew_point_K": "process_gas_dew_point",
+    "steam_value_J_per_kg": "steam_value",
+    "steam_export_kg_per_mol_h2": "steam_export_per_h2",
+}
 
 
 def _strict(obj):
