@@ -122,7 +122,7 @@ def _plant_variables() -> list[Variable]:
         Variable("plant_trim_fuel", "Trim natural gas (LHV)", "MW", 1e-6, hot, 1),
         Variable("plant_tail_gas_lhv", "Tail gas to the furnace (LHV)", "MW", 1e-6, Cividis256,
                  1),
-        Variable("plant_tail_gas_excess", "Tail gas beyond the furnace's need", "MW", 1e-6,
+        Variable("plant_tail_gas_excess", "Tail gas beyond what the furnace needs", "MW", 1e-6,
                  hot, 1),
         Variable("radiant_efficiency", "Radiant efficiency", "%", 100.0, Viridis256, 1),
         Variable("plant_h2_product", "H2 product (purified)", "kmol/h", 3.6, Viridis256, 0),

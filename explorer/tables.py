@@ -124,7 +124,7 @@ PLANT_ROWS: list[tuple[str, str, str, str, int]] = [
     ("Tail gas to the furnace (LHV)", "MW", "plant.tail_gas_lhv_W", "MW", 2),
     ("Trim natural gas to the furnace (LHV)", "MW", "plant.trim_fuel_W", "MW", 2),
     ("Trim natural gas to the furnace", "kmol/h", "plant.trim_fuel_mol_per_s", "kmolh", 2),
-    ("Tail gas beyond the furnace's need", "MW", "plant.tail_gas_excess_W", "MW", 2),
+    ("Tail gas beyond what the furnace needs", "MW", "plant.tail_gas_excess_W", "MW", 2),
     ("Fired duty (LHV)", "MW", "plant.fired_duty_W", "MW", 2),
     ("Radiant duty (absorbed by the tubes)", "MW", "plant.radiant_duty_W", "MW", 2),
     ("Radiant efficiency (radiant / fired)", "%", "plant.radiant_efficiency", "pct", 1),
@@ -169,7 +169,7 @@ def plant_warnings(d: dict) -> list[str]:
                    "MW more than the radiant box needs: no trim gas burns, and the excess must "
                    "go elsewhere.")
     if pl.get("process_gas_below_dew_point"):
-        out.append("The process gas's dew point "
+        out.append("The dew point of the process gas "
                    f"({display(pl['process_gas_dew_point_K'], 'degC', 1)} degC) lies above "
                    "the temperature it is cooled to: water would condense there.")
     flue = pl.get("flue_steam_heat_W")

@@ -6,6 +6,8 @@ from the core (thermo.point, thermo.sweep); the display conversions from explore
 from __future__ import annotations
 
 import json
+import shutil
+import subprocess
 from html import unescape
 from pathlib import Path
 
@@ -128,3 +130,37 @@ def test_form_keeps_the_plant_table(scenario):
     again = parse_scenario(form.toml_text())
     assert again.plant == scenario.plant
     assert again.limits.max_fired_duty == scenario.limits.max_fired_duty
+
+
+@pytest.mark.skipif(shutil.which("node") is None, reason="Node.js is not installed")
+def test_review_script_assembles_the_plant_table_as_the_core_does(scenario, tmp_path):
+    # The review file's script builds a clicked point's plant table from the embedded
+    # per-point arrays; its tables equal the app's (thermo.point) row for row.
+    from importlib import resources
+
+    import numpy as np
+
+    from explorer import export
+
+    sc = scenario.with_window(**SMALL)
+    ds = thermo.sweep(sc)
+    R = export._page_data(sc, ds)
+    data = {k: np.asarray(v).tolist() for k, v in export._points_source(ds, sc).data.items()}
+    flat = [0, 13, 35]
+    js = resources.files("explorer").joinpath("review.js").read_text("utf-8")
+    script = (f"globalThis.window = {{__rwData: {json.dumps(R)}}};\n"
+              f"const pts = {{data: {json.dumps(data)}}};\n{js}\n"
+              f"console.log(JSON.stringify({json.dumps(flat)}.map((p) => "
+              "balanceHtml(assemble(p)))));")
+    file = tmp_path / "assemble.js"
+    file.write_text(script, "utf-8")
+    out = json.loads(subprocess.run([shutil.which("node"), str(file)], capture_output=True,
+                                    text=True, timeout=60, check=True).stdout)
+    dims = list(ds["h2_yield"].dims)
+    for p, shown in zip(flat, out, strict=True):
+        g = ds.isel(dict(zip(dims, np.unravel_index(p, ds["h2_yield"].shape), strict=True)))
+        pt = thermo.point(sc, temperature=f"{float(g.temperature)!r} K",
+                          pressure=f"{float(g.pressure)!r} Pa",
+                          steam_to_carbon=float(g.steam_to_carbon))
+        assert "Plant: furnace" in shown
+        assert table_cells(shown) == table_cells(balance_html(pt.to_dict()))
