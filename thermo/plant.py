@@ -416,8 +416,10 @@ def plant_balance(plant: Plant, scenario: Scenario, train: TrainResult,
     # Process gas: the train's coolers and shift stages, then down to the cooled temperature.
     T_cool = plant.process_gas_cooled_temperature
     T_prod = train.product_temperature
-    last = np.maximum(enthalpy_flow(np.nan_to_num(product), np.maximum(T_prod, 300.0))
-                      - product @ _h_at(T_cool), 0.0)
+    # Points whose train failed carry NaN: evaluate them anywhere in range, then mask.
+    T_safe = np.where(np.isfinite(T_prod), np.clip(T_prod, 300.0, 3500.0), 1000.0)
+    last = np.maximum(enthalpy_flow(np.nan_to_num(product), T_safe)
+                      - np.nan_to_num(product) @ _h_at(T_cool), 0.0)
     last = np.where(np.isfinite(product).all(axis=1), last, np.nan)
     pg_heat = -train.heat_removed + last
     with np.errstate(invalid="ignore", divide="ignore"):

@@ -399,3 +399,25 @@ def test_plant_balance_is_vectorised(small):
     for k in range(3):
         one = thermo.point(small, temperature=f"{float(T[k])!r} K", pressure="25 bar").plant
         assert many.specific_energy[k] == pytest.approx(one.specific_energy[0], rel=1e-9)
+
+
+def test_failed_points_give_nan_not_an_error(small):
+    # A point whose train found no outlet carries NaN flows: its plant numbers are NaN too,
+    # and its neighbours keep theirs.
+    import dataclasses
+
+    from thermo.train import train_balance
+
+    n_in = np.tile(small.feed.inlet_flows(), (2, 1))
+    tr = train_balance(small.train, n_in, 1153.15, 25e5, small.feed.inlet_temperature,
+                       small.approach)
+    bad = tr.converged.copy()
+    bad[1] = False
+    product = tr.product_flow.copy()
+    product[1] = np.nan
+    T_prod = tr.product_temperature.copy().astype(float)
+    T_prod[1] = np.nan
+    tr = dataclasses.replace(tr, product_flow=product, product_temperature=T_prod,
+                             converged=bad)
+    res = plant_balance(small.plant, small, tr, 25e5)
+    assert np.isfinite(res.specific_energy[0]) and np.isnan(res.specific_energy[1])
