@@ -164,3 +164,15 @@ def test_review_script_assembles_the_plant_table_as_the_core_does(scenario, tmp_
                           steam_to_carbon=float(g.steam_to_carbon))
         assert "Plant: furnace" in shown
         assert table_cells(shown) == table_cells(balance_html(pt.to_dict()))
+
+
+def test_form_edits_the_fired_duty_limit(scenario):
+    s = ExplorerState(scenario)
+    form = ScenarioForm(s)
+    assert form.inputs["max_fired_duty"].value == "135 MW"
+    form.inputs["max_fired_duty"].value = "120 MW"
+    assert parse_scenario(form.toml_text()).limits.max_fired_duty == 120e6
+    plain = ScenarioForm(ExplorerState(thermo.load_scenario()))
+    plain.inputs["max_fired_duty"].value = "120 MW"
+    assert not plain.submit()
+    assert "[plant]" in plain.messages["max_fired_duty"].object
