@@ -75,6 +75,8 @@ from explorer.sheet import (
 from explorer.tables import (
     CONVERSIONS,
     ENERGY_ROWS,
+    PLANT_NOTE,
+    PLANT_ROWS,
     REACTION_COLUMNS,
     SPECIES_COLUMNS,
     STAGE_COLUMNS,
@@ -95,6 +97,9 @@ from thermo.sweep import RATIO_AXES
 #: Variables the review file can map (each adds its slices to the file).
 #: Added to the review file's chooser when the scenario has a reforming train.
 TRAIN_EXPORT_VARIABLES = ("h2_product", "train_duty", "train_methane_slip_dry")
+#: Added when the scenario has a [plant] table (the plant around the reformer).
+PLANT_EXPORT_VARIABLES = ("specific_energy", "plant_fired_duty", "radiant_efficiency",
+                          "plant_trim_fuel", "plant_steam_export", "natural_gas_per_h2")
 
 EXPORT_VARIABLES = ("h2_yield", "methane_slip_dry", "h2_potential", "methane_conversion",
                     "h2_co_ratio", "duty", "duty_per_h2", "carbon_activity", "dry:CO",
@@ -192,7 +197,32 @@ def _page_data(sc: Scenario, ds: xr.Dataset) -> dict:
                  "reactions": REACTION_COLUMNS, "train": TRAIN_ROWS, "stage": STAGE_COLUMNS,
                  "train_note": TRAIN_NOTE, "compare": compare_rows()},
         "train": _train_descriptor(sc),
+        "plant": _plant_descriptor(sc, ds),
     }
+
+
+def _plant_descriptor(sc: Scenario, ds: xr.Dataset) -> dict | None:
+    """What the page's script needs to assemble a point's plant table (None without one):
+    the point JSON keys with the embedded per-point arrays (``pl_<variable>``) or the
+    scenario's constants behind them, the table rows and the flags' threshold."""
+    if sc.plant is None or "specific_energy" not in ds:
+        return None
+    from thermo.api import PLANT_JSON
+    from thermo.sweep import PLANT_CONSTANTS, PLANT_VARIABLES
+
+    by_attr = {attr: name for name, (attr, _, _) in PLANT_VARIABLES.items()}
+    arrays, constants = [], {}
+    for key, attr in PLANT_JSON.items():
+        if attr == "radiant_duty":  # the primary's duty, embedded already
+            arrays.append([key, "duty"])
+            continue
+        name = by_attr[attr]
+        if name in PLANT_CONSTANTS:
+            constants[key] = float(ds[name])
+        else:
+            arrays.append([key, f"pl_{name}"])
+    return {"arrays": arrays, "constants": constants, "rows": PLANT_ROWS, "note": PLANT_NOTE,
+            "cooled_K": sc.plant.process_gas_cooled_temperature}
 
 
 def _train_descriptor(sc: Scenario) -> dict:
@@ -260,6 +290,12 @@ def _points_source(ds: xr.Dataset, sc: Scenario | None = None):
     data["converged"] = ds["converged"].transpose(*dims).values.ravel().astype(np.int8)
     if sc is not None:
         data.update(_train_arrays(sc, ds))
+    from thermo.sweep import PLANT_CONSTANTS, PLANT_VARIABLES
+
+    for name in PLANT_VARIABLES:
+        if name in ds and name not in PLANT_CONSTANTS:
+            data[f"pl_{name}"] = np.ascontiguousarray(
+                ds[name].transpose(*dims).values.ravel().astype(float))
     return ColumnDataSource(data, name="points")
 
 
@@ -326,11 +362,15 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
     figs, srcs, mappers = [], [], []
     if compare is None:
         variables = EXPORT_VARIABLES + (() if sc.train.empty else TRAIN_EXPORT_VARIABLES)
+        plant = sc.plant is not None and "specific_energy" in ds
+        if plant:
+            variables = variables + PLANT_EXPORT_VARIABLES
+        right0 = "specific_energy" if plant else "methane_slip_dry"
         layers, common = all_layers(ds, sc.limits, variables)
         R["layers"], R["common"] = layers, common
         R["titles"] = {v: VARIABLES[v].title for v in variables}
         R["palettes"] = {v: mappers_palette(v, ds) for v in variables}
-        for i, v in enumerate(("h2_yield", "methane_slip_dry")):
+        for i, v in enumerate(("h2_yield", right0)):
             var = VARIABLES[v]
             start = combine(layers[v][mode0][key0], common[mode0][key0])
             fig, src, mapper = map_figure(var, mode0, variable_levels(ds, var), start,
@@ -340,7 +380,7 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
             mappers.append(mapper)
         options = [(v, VARIABLES[v].title) for v in variables]
         selects = [Select(title="Left map", value="h2_yield", options=options, width=280),
-                   Select(title="Right map", value="methane_slip_dry", options=options,
+                   Select(title="Right map", value=right0, options=options,
                           width=280)]
         update_js, tap_js = _UPDATE_JS, _TAP_JS
     else:

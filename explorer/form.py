@@ -16,7 +16,7 @@ import thermo
 from explorer.safe import html, message_html, text
 from explorer.state import ExplorerState, check_window_size
 from thermo.errors import InputError
-from thermo.scenario import DEMO_PATH, Scenario, carbon_toml, parse_scenario
+from thermo.scenario import DEMO_PATH, Scenario, carbon_toml, parse_scenario, plant_toml
 
 #: Largest scenario file accepted by upload [bytes].
 MAX_UPLOAD_BYTES = 256 * 1024
@@ -103,6 +103,7 @@ class ScenarioForm:
         ("max_slip", "Max methane slip, dry", "limits.max_methane_slip_dry"),
         ("min_yield", "Min H2 yield (mol/mol C)", "limits.min_h2_yield"),
         ("max_duty", "Max duty", "limits.max_duty"),
+        ("max_fired_duty", "Max fired duty (LHV; with [plant])", "limits.max_fired_duty"),
         ("pre_inlet", "Pre-reformer inlet T", "train.pre_reformer.inlet_temperature"),
         ("sec_ratio", "O2 per hydrocarbon C", "train.secondary_reformer.oxygen_to_carbon"),
         ("sec_temperature", "Oxidant temperature",
@@ -199,6 +200,8 @@ class ScenarioForm:
                          else repr(lim.max_methane_slip_dry)),
             "min_yield": None if lim.min_h2_yield is None else repr(lim.min_h2_yield),
             "max_duty": None if lim.max_duty is None else json.dumps(f"{lim.max_duty!r} W"),
+            "max_fired_duty": (None if lim.max_fired_duty is None
+                               else json.dumps(f"{lim.max_fired_duty!r} W")),
         }
         v["composition"].value = ", ".join(f"{k}={_display(x)}" for k, x in
                                            f.composition.items())
@@ -231,6 +234,8 @@ class ScenarioForm:
                                else f"{_display(lim.max_methane_slip_dry * 100)} mol%")
         v["min_yield"].value = "" if lim.min_h2_yield is None else _display(lim.min_h2_yield)
         v["max_duty"].value = "" if lim.max_duty is None else f"{_display(lim.max_duty / 1e6)} MW"
+        v["max_fired_duty"].value = ("" if lim.max_fired_duty is None
+                                     else f"{_display(lim.max_fired_duty / 1e6)} MW")
         self.carbon_free.value = lim.carbon_free
         self._fill_train(sc)
         self._filled = {k: w.value for k, w in self.inputs.items()}
@@ -334,9 +339,14 @@ class ScenarioForm:
             lines.append(f"min_h2_yield = {q('min_yield')}")
         if v["max_duty"].strip():
             lines.append(f"max_duty = {q('max_duty')}")
+        if v["max_fired_duty"].strip():
+            lines.append(f"max_fired_duty = {q('max_fired_duty')}")
         lines += self._train_toml()
         # The [carbon] table has no fields here yet: the scenario's own is kept as it is.
         lines += carbon_toml(sc.carbon)
+        # The plant's assumptions have no fields here: its table is kept as the scenario has
+        # it (the review sheet states each assumption).
+        lines += plant_toml(sc.plant)
         return "\n".join(lines) + "\n"
 
     def submit(self) -> bool:
@@ -414,7 +424,8 @@ class ScenarioForm:
                            self.cofeed,
                            self._cofeed_row)
         limits = pn.Column("#### Review limits", pn.Row(cell("max_slip"), cell("min_yield"),
-                                                         cell("max_duty")), self.carbon_free,
+                                                         cell("max_duty")),
+                           pn.Row(cell("max_fired_duty")), self.carbon_free,
                            pn.pane.Markdown(
                                "With a train, the limits apply to it: slip after the last "
                                "reformer, H2 after the last stage, the carbon verdict (graphite "

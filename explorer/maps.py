@@ -35,6 +35,8 @@ from bokeh.palettes import Cividis256, Inferno256, RdBu11, Viridis256, interp_pa
 from bokeh.plotting import figure
 
 from thermo.carbon import BINDING, BINDING_WORDS
+from thermo.constants import V_NORMAL
+from thermo.plant import GJ_PER_1000NM3_FROM_J_PER_MOL
 from thermo.species import GAS_SPECIES
 from thermo.sweep import LIMIT_VARIABLES
 
@@ -111,10 +113,46 @@ def _variables() -> dict[str, Variable]:
     for s in GAS_SPECIES:
         if s != "H2O":
             v.append(Variable(f"dry:{s}", f"{s}, dry", "mol %", 100.0, Cividis256, 3))
+    v += _plant_variables()
     return {x.key: x for x in v}
 
 
+def _plant_variables() -> list[Variable]:
+    """Map variables of the plant around the reformer (Datasets of a [plant] scenario)."""
+    hot = tuple(reversed(Inferno256))
+    return [
+        Variable("specific_energy", "Net specific energy", "GJ/1000 Nm3 H2",
+                 GJ_PER_1000NM3_FROM_J_PER_MOL, hot, 2),
+        Variable("plant_fired_duty", "Fired duty (LHV)", "MW", 1e-6, hot, 1),
+        Variable("plant_trim_fuel", "Trim natural gas (LHV)", "MW", 1e-6, hot, 1),
+        Variable("plant_tail_gas_lhv", "Tail gas to the furnace (LHV)", "MW", 1e-6, Cividis256,
+                 1),
+        Variable("plant_tail_gas_excess", "Tail gas beyond what the furnace needs", "MW", 1e-6,
+                 hot, 1),
+        Variable("radiant_efficiency", "Radiant efficiency", "%", 100.0, Viridis256, 1),
+        Variable("plant_h2_product", "H2 product (purified)", "kmol/h", 3.6, Viridis256, 0),
+        Variable("plant_steam_raised", "Steam raised", "t/h", 3.6, Cividis256, 1),
+        Variable("plant_process_steam", "Process steam", "t/h", 3.6, hot, 1),
+        Variable("plant_steam_export", "Steam export (negative: import)", "t/h", 3.6,
+                 Cividis256, 1),
+        Variable("natural_gas_per_h2", "Natural gas (feed + trim) per H2", "Nm3/Nm3 H2", 1.0,
+                 hot, 3),
+        Variable("steam_export_per_h2", "Steam export per H2", "kg/Nm3 H2", 1.0 / V_NORMAL,
+                 Cividis256, 3),
+    ]
+
+
+def available(ds: xr.Dataset | None, key: str) -> bool:
+    """Whether map variable `key` can be drawn from `ds` (plant variables need [plant];
+    before a Dataset exists, every variable but the plant's)."""
+    if ds is None:
+        return key in VARIABLES and key not in PLANT_MAP_KEYS
+    return ("mole_fraction_dry" if key.startswith("dry:") else key) in ds
+
+
 VARIABLES: dict[str, Variable] = _variables()
+#: Map variables that exist only for a scenario with a [plant] table.
+PLANT_MAP_KEYS = frozenset(v.key for v in _plant_variables())
 
 #: Diverging colours of change maps: red where the proposal is lower, blue where higher.
 CHANGE_PALETTE = tuple(interp_palette(tuple(reversed(RdBu11)), 256))
@@ -284,6 +322,9 @@ def infeasibility(s: xr.Dataset, limits) -> np.ndarray:
                      / max(limits.min_h2_yield, 1e-12))
     if limits.max_duty is not None:
         terms.append((s[v["max_duty"]] - limits.max_duty) / max(abs(limits.max_duty), 1.0))
+    if limits.max_fired_duty is not None and v["max_fired_duty"] in s:
+        terms.append((s[v["max_fired_duty"]] - limits.max_fired_duty)
+                     / max(abs(limits.max_fired_duty), 1.0))
     if limits.carbon_free:
         # The binding carbon verdict's field (thermo.carbon): negative exactly where
         # carbon_free holds; NaN (no verdict) counts as carbon.
@@ -454,6 +495,9 @@ def broken_limits(s: xr.Dataset, limits) -> np.ndarray:
             f"H2 below {limits.min_h2_yield:g} mol/mol C")
     if limits.max_duty is not None:
         add(s[v["max_duty"]] > limits.max_duty, f"duty above {limits.max_duty / 1e6:g} MW")
+    if limits.max_fired_duty is not None and v["max_fired_duty"] in s:
+        add(s[v["max_fired_duty"]] > limits.max_fired_duty,
+            f"fired duty above {limits.max_fired_duty / 1e6:g} MW")
     if limits.carbon_free:
         add(carbon_forms(s), "carbon")
     add(~np.asarray(s["converged"], dtype=bool), "not converged")

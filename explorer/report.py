@@ -3,9 +3,17 @@
 from __future__ import annotations
 
 import math
+import textwrap
 
 from explorer import CAUTION
-from explorer.tables import carbon_verdict
+from explorer.tables import (
+    PLANT_NOTE,
+    PLANT_ROWS,
+    carbon_verdict,
+    display,
+    lookup,
+    plant_warnings,
+)
 from thermo import units
 from thermo.api import PointResult
 from thermo.carbon import ROUTE_WORDS
@@ -114,6 +122,7 @@ def point_report(pt: PointResult) -> str:
     cl = d["element_closure"]
     add("Element closure |out - in| / in:  " + "  ".join(f"{k} {v:.1e}" for k, v in cl.items()))
     lines += _train_lines(d)
+    lines += _plant_lines(d)
     add("")
     add("Caution: " + CAUTION)
     return "\n".join(lines)
@@ -147,4 +156,20 @@ def _train_lines(d: dict) -> list[str]:
     out.append(f"  heat removed          {mw(tr['heat_removed_W']):.3f} MW (coolers and shift)")
     out.append(f"  methane slip          {100 * tr['methane_slip_dry']:.3f} mol% dry after the "
                "last reformer")
+    return out
+
+
+def _plant_lines(d: dict) -> list[str]:
+    """The plant around the reformer (nothing without a [plant] table)."""
+    if not d.get("plant"):
+        return []
+    out = ["", "Plant: furnace, purification and steam"]
+    width = max(len(r[0].strip()) for r in PLANT_ROWS) + 2
+    for label, unit, key, conv, dec in PLANT_ROWS:
+        indent = "    " if label.startswith(" ") else "  "
+        name = label.strip()
+        out.append(f"{indent}{name:<{width - len(indent) + 2}}"
+                   f"{display(lookup(d, key), conv, dec):>12} {unit}")
+    out += ["  WARNING: " + w for w in plant_warnings(d)]
+    out.append(textwrap.fill(PLANT_NOTE, 96, initial_indent="  ", subsequent_indent="  "))
     return out

@@ -231,7 +231,45 @@ function assemble(p, D = R, Q = pts) {
                product: {temperature_K: T, flow_mol_per_s: byName(nout),
                          mole_fraction_dry: byName(xd)}};
   }
+  if (D.plant) d.plant = assemblePlant(p, D, Q);
   return d;
+}
+
+function assemblePlant(p, D, Q) {
+  // PointResult.to_dict()["plant"] of flat grid point p: the plant's numbers are embedded
+  // per point (pl_<Dataset variable>, computed by the core) or are scenario constants.
+  const P = Q.data;
+  const out = Object.assign({}, D.plant.constants);
+  for (const [key, column] of D.plant.arrays) out[key] = P[column][p];
+  out.tail_gas_exceeds_need = out.tail_gas_excess_W > 0;
+  out.process_gas_below_dew_point = out.process_gas_dew_point_K > D.plant.cooled_K;
+  return out;
+}
+
+function plantHtml(d) {
+  // explorer.tables.plant_html
+  if (!d.plant || !R.plant) return "";
+  const pl = d.plant;
+  const parts = ["<h4>Plant: furnace, purification and steam</h4>" +
+    table(["quantity", "value", "unit"], R.plant.rows.map(([label, unit, key, conv, dec]) =>
+      [label, display(lookup(d, key), conv, dec), unit]), "rw-table rw-plant")];
+  // explorer.tables.plant_warnings
+  if (pl.tail_gas_exceeds_need) {
+    parts.push(`<p class="rw-warn">${esc("The tail gas alone releases " +
+      display(pl.tail_gas_excess_W, "MW", 2) + " MW more than the radiant box needs: no " +
+      "trim gas burns, and the excess must go elsewhere.")}</p>`);
+  }
+  if (pl.process_gas_below_dew_point) {
+    parts.push(`<p class="rw-warn">${esc("The dew point of the process gas (" +
+      display(pl.process_gas_dew_point_K, "degC", 1) + " degC) lies above the temperature " +
+      "it is cooled to: water would condense there.")}</p>`);
+  }
+  if (Number.isFinite(pl.flue_steam_heat_W) && pl.flue_steam_heat_W < 0) {
+    parts.push(`<p class="rw-warn">${esc("The convection section is short of heat for the " +
+      "preheats at this stack temperature.")}</p>`);
+  }
+  parts.push(`<p class='rw-small'>${esc(R.plant.note)}</p>`);
+  return parts.join("\n");
 }
 
 function balanceHtml(d) {
@@ -265,6 +303,8 @@ function balanceHtml(d) {
              "</p>");
   const t = trainHtml(d);
   if (t) parts.push(t);
+  const pl = plantHtml(d);
+  if (pl) parts.push(pl);
   return parts.join("\n");
 }
 

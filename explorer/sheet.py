@@ -172,7 +172,44 @@ def limits_rows(sc: Scenario) -> list[tuple[str, str]]:
          else f"{lim.min_h2_yield:g} mol H2 / mol hydrocarbon C"),
         ("Maximum duty (primary reformer, radiant)",
          "none" if lim.max_duty is None else f"{lim.max_duty / 1e6:g} MW"),
-    ]
+    ] + ([("Maximum fired duty (furnace, LHV)",
+           "none" if lim.max_fired_duty is None else f"{lim.max_fired_duty / 1e6:g} MW")]
+         if sc.plant is not None else [])
+
+
+#: Words of each [plant] assumption for the sheet: (label, how the value is shown).
+PLANT_WORDS: dict[str, tuple[str, str]] = {
+    "h2_recovery": ("H2 recovery of the pressure-swing unit", "pct"),
+    "excess_air": ("Excess combustion air", "pct"),
+    "air_preheat_temperature": ("Combustion air preheat", "degC"),
+    "bridgewall_temperature": ("Bridgewall temperature (flue gas leaving the radiant box)",
+                               "degC"),
+    "stack_temperature": ("Stack temperature", "degC"),
+    "supply_temperature": ("Natural gas, tail gas and air supplied at", "degC"),
+    "process_gas_cooled_temperature": ("Process gas cooled to (heat recovery)", "degC"),
+    "steam_pressure": ("Steam header pressure", "bar"),
+    "steam_temperature": ("Steam header temperature", "degC"),
+    "feed_water_temperature": ("Boiler feed water temperature", "degC"),
+    "steam_credit_efficiency": ("Boiler efficiency behind the steam credit", "pct"),
+}
+
+
+def plant_rows(sc: Scenario) -> list[tuple[str, str]]:
+    """Each [plant] assumption as (name, value) rows, saying which are the defaults (common
+    practice for a natural-gas hydrogen plant, no source); none without a [plant] table."""
+    if sc.plant is None:
+        return []
+    from thermo.scenario import PLANT_DEFAULTS
+
+    rows = []
+    for key, (label, how) in PLANT_WORDS.items():
+        v = getattr(sc.plant, key)
+        shown = {"pct": f"{v * 100:.4g} %", "degC": f"{v - 273.15:.1f} degC",
+                 "bar": f"{v / 1e5:.4g} bar abs"}[how]
+        default = abs(v - PLANT_DEFAULTS[key]) <= 1e-9 * max(abs(v), 1.0)
+        rows.append((label, shown + (" (default, common practice)" if default
+                                     else " (set by the scenario)")))
+    return rows
 
 
 def _inputs(sc: Scenario) -> list[tuple[str, str]]:
@@ -239,6 +276,25 @@ def _assumptions(sc: Scenario) -> list[tuple[str, str]]:
                  "temperature"),
         ("Standard state", f"{P_REF / 1e5:g} bar; normal volume at 0 degC and 1.01325 bar"),
     ]
+    if sc.plant is not None:
+        rows += [
+            ("Plant around the reformer", "pressure-swing purification recovers its share of "
+                                          "the H2 after the last stage; the rest of the dry "
+                                          "gas is tail gas, fired with trim natural gas of the "
+                                          "feed's composition; the furnace closes its own "
+                                          "energy balance (fuel and air in; radiant duty and "
+                                          "flue gas at the bridgewall out), complete "
+                                          "combustion in dry air; the convection section "
+                                          "preheats air and mixed feed, then raises steam; "
+                                          "the process gas is cooled for steam; no heat "
+                                          "losses and no pinch check"),
+            ("Heating values and steam", "LHV at 25 degC with water as vapour, from the "
+                                         "species data; water and steam from IAPWS-IF97"),
+            ("Net specific energy", "(natural gas feed LHV + trim fuel LHV - steam export x "
+                                    "steam value) per unit of H2 product; the steam value is "
+                                    "the fuel a boiler of the stated efficiency burns to "
+                                    "raise it"),
+        ]
     if not sc.train.empty:
         rows += [
             ("Reforming train", "every stage at the outlet pressure (no pressure drop); "
@@ -262,7 +318,17 @@ def review_context(sc: Scenario, ds: xr.Dataset, pinned: list[dict]) -> dict:
                                     if bad else "")
                    + ". Feasible outlet temperatures [degC] at each pressure and "
                    "steam-to-carbon (grid points; 'none' where no point qualifies):")
+    plant_table = ""
+    if sc.plant is not None:
+        from explorer.tables import plant_html
+
+        design = thermo.point(sc).to_dict()
+        plant_table = Markup(plant_html(design))  # explorer.tables escapes every cell
     return {
+        "plant": plant_rows(sc),
+        "plant_heading": (f"At the design point ({sc.temperature - 273.15:.1f} degC, "
+                          f"{sc.pressure / 1e5:.4g} bar abs, S/C {sc.feed.steam_to_carbon:g})"),
+        "plant_table": plant_table,
         "inputs": _inputs(sc),
         "assumptions": _assumptions(sc),
         "limits": limits_rows(sc),

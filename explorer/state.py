@@ -68,6 +68,9 @@ class ExplorerState(param.Parameterized):
     compare_status = param.String(default="")
 
     def __init__(self, scenario: Scenario, **params):
+        if scenario.plant is not None:
+            # The figure the decision rests on comes first for a plant scenario.
+            params.setdefault("right", "specific_energy")
         super().__init__(scenario=scenario, notes=scenario.notes, **params)
         self._done = 0
         self._total = 1

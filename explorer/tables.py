@@ -14,6 +14,7 @@ import math
 from explorer.safe import spreadsheet_text, text
 from thermo.carbon import BINDING_WORDS
 from thermo.constants import V_NORMAL
+from thermo.plant import GJ_PER_1000NM3_FROM_J_PER_MOL, MJ_PER_KG_FROM_J_PER_MOL
 from thermo.species import GAS_SPECIES, GRAPHITE, molar_mass
 
 #: Conversions from SI to display units (the export's script implements the same names).
@@ -28,6 +29,11 @@ CONVERSIONS = {
     "kJmol": (1e-3, 0.0),
     "MJkmol": (1e-3, 0.0),
     "MJNm3": (1e-6 / V_NORMAL, 0.0),
+    "Nm3h": (3600.0 * V_NORMAL, 0.0),
+    "th": (3.6, 0.0),
+    "kgNm3": (1.0 / V_NORMAL, 0.0),
+    "GJ1000Nm3": (GJ_PER_1000NM3_FROM_J_PER_MOL, 0.0),
+    "MJkgH2": (MJ_PER_KG_FROM_J_PER_MOL, 0.0),
 }
 
 #: (label, unit shown, key path in the point dict, conversion, decimals)
@@ -113,6 +119,83 @@ TRAIN_NOTE = ("Every stage at the outlet pressure. Heat before: reheat of pre-re
               "approach.")
 
 
+#: The plant around the reformer (with a [plant] table): (label, unit, key, conversion,
+#: decimals), keys of PointResult.to_dict()["plant"].
+PLANT_ROWS: list[tuple[str, str, str, str, int]] = [
+    ("H2 product after purification", "kmol/h", "plant.h2_product_mol_per_s", "kmolh", 2),
+    ("H2 product after purification", "Nm3/h", "plant.h2_product_mol_per_s", "Nm3h", 0),
+    ("Natural gas feed to the process (LHV)", "MW", "plant.feed_lhv_W", "MW", 2),
+    ("Tail gas to the furnace (LHV)", "MW", "plant.tail_gas_lhv_W", "MW", 2),
+    ("Trim natural gas to the furnace (LHV)", "MW", "plant.trim_fuel_W", "MW", 2),
+    ("Trim natural gas to the furnace", "kmol/h", "plant.trim_fuel_mol_per_s", "kmolh", 2),
+    ("Tail gas beyond what the furnace needs", "MW", "plant.tail_gas_excess_W", "MW", 2),
+    ("Fired duty (LHV)", "MW", "plant.fired_duty_W", "MW", 2),
+    ("Radiant duty (absorbed by the tubes)", "MW", "plant.radiant_duty_W", "MW", 2),
+    ("Radiant efficiency (radiant / fired)", "%", "plant.radiant_efficiency", "pct", 1),
+    ("Bridgewall temperature", "degC", "plant.bridgewall_temperature_K", "degC", 0),
+    ("Convection section: flue gas, bridgewall to stack", "MW", "plant.convection_heat_W",
+     "MW", 2),
+    ("  to the combustion air", "MW", "plant.air_preheat_W", "MW", 2),
+    ("  to the mixed feed (and oxidant)", "MW", "plant.feed_preheat_W", "MW", 2),
+    ("  to reheat pre-reformed gas", "MW", "plant.reheat_W", "MW", 2),
+    ("  left for steam", "MW", "plant.flue_steam_heat_W", "MW", 2),
+    ("Process gas heat recovered", "MW", "plant.process_gas_heat_W", "MW", 2),
+    ("Process gas dew point", "degC", "plant.process_gas_dew_point_K", "degC", 1),
+    ("Steam raised", "t/h", "plant.steam_raised_kg_per_s", "th", 2),
+    ("Process steam", "t/h", "plant.process_steam_kg_per_s", "th", 2),
+    ("Steam export (negative: import)", "t/h", "plant.steam_export_kg_per_s", "th", 2),
+    ("Steam value (fuel saved per kg exported)", "MJ/kg", "plant.steam_value_J_per_kg", "MW",
+     3),
+    ("Net specific energy", "GJ/1000 Nm3 H2", "plant.specific_energy_J_per_mol_h2",
+     "GJ1000Nm3", 2),
+    ("Net specific energy", "MJ/kg H2", "plant.specific_energy_J_per_mol_h2", "MJkgH2", 1),
+    ("Natural gas (feed + trim) per H2", "Nm3/Nm3 H2", "plant.natural_gas_per_h2", "", 3),
+    ("Steam export per H2", "kg/Nm3 H2", "plant.steam_export_kg_per_mol_h2", "kgNm3", 3),
+]
+
+#: Notes printed under the plant table.
+PLANT_NOTE = ("Net specific energy = (natural gas feed LHV + trim fuel LHV - steam export x "
+              "steam value) per unit of H2 product; LHV at 25 degC, water as vapour. The "
+              "furnace closes its own energy balance: fuel at the supply temperature and "
+              "preheated air in, the radiant duty and the flue gas at the bridgewall out. "
+              "Ideal-gas enthalpies for the gases, IAPWS-IF97 for water and steam; no heat "
+              "losses, no pinch check between the hot gases and the steam.")
+
+
+def plant_warnings(d: dict) -> list[str]:
+    """What the plant numbers of one point flag, in words (none without a [plant] table)."""
+    pl = d.get("plant")
+    if not pl:
+        return []
+    out = []
+    if pl.get("tail_gas_exceeds_need"):
+        out.append(f"The tail gas alone releases {display(pl['tail_gas_excess_W'], 'MW', 2)} "
+                   "MW more than the radiant box needs: no trim gas burns, and the excess must "
+                   "go elsewhere.")
+    if pl.get("process_gas_below_dew_point"):
+        out.append("The dew point of the process gas "
+                   f"({display(pl['process_gas_dew_point_K'], 'degC', 1)} degC) lies above "
+                   "the temperature it is cooled to: water would condense there.")
+    flue = pl.get("flue_steam_heat_W")
+    if flue is not None and math.isfinite(flue) and flue < 0:
+        out.append("The convection section is short of heat for the preheats at this stack "
+                   "temperature.")
+    return out
+
+
+def plant_html(d: dict) -> str:
+    """The plant around the reformer at one point (empty text without a [plant] table)."""
+    if not d.get("plant"):
+        return ""
+    rows = [[label, display(lookup(d, key), conv, dec), unit]
+            for label, unit, key, conv, dec in PLANT_ROWS]
+    parts = ["<h4>Plant: furnace, purification and steam</h4>"
+             + _table(["quantity", "value", "unit"], rows, "rw-table rw-plant")]
+    parts += [f'<p class="rw-warn">{text(w)}</p>' for w in plant_warnings(d)]
+    parts.append(f"<p class='rw-small'>{text(PLANT_NOTE)}</p>")
+    return "\n".join(parts)
+
+
 def lookup(d: dict, path: str):
     """Value at a dotted key path of a nested dict (None if absent)."""
     cur = d
@@ -184,6 +267,7 @@ def balance_html(d: dict) -> str:
     parts.append("<p class='rw-small'>Element closure |out - in| / in: "
                  + ", ".join(f"{k} {v:.1e}" for k, v in cl.items()) + "</p>")
     parts.append(train_html(d))
+    parts.append(plant_html(d))
     return "\n".join(parts)
 
 
@@ -247,6 +331,10 @@ def balance_csv(d: dict, title: str = "", notes: str = "") -> str:
                 w.writerow(["stage", f"{st['label']}: {title}",
                             display(lookup(st, key), conv, max(dec, 6)).replace(",", ""),
                             title.rsplit(" ", 1)[-1]])
+    if d.get("plant"):
+        for label, unit, key, conv, dec in PLANT_ROWS:
+            w.writerow(["plant", label.strip(),
+                        display(lookup(d, key), conv, max(dec, 6)).replace(",", ""), unit])
     return buf.getvalue()
 
 
@@ -330,6 +418,11 @@ def limit_checks(d: dict, limits) -> list[tuple[str, bool, str]]:
         duty = d["duty_W"]
         out.append(("duty", duty <= limits.max_duty,
                     f"radiant duty {duty / 1e6:.2f} MW (limit {limits.max_duty / 1e6:g})"))
+    if limits.max_fired_duty is not None and d.get("plant"):
+        fired = d["plant"]["fired_duty_W"]
+        out.append(("fired duty", fired <= limits.max_fired_duty,
+                    f"fired duty {fired / 1e6:.2f} MW LHV (limit "
+                    f"{limits.max_fired_duty / 1e6:g})"))
     if limits.carbon_free:
         free, words = carbon_verdict(d)
         out.append(("carbon", free, words))

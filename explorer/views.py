@@ -26,6 +26,7 @@ from explorer.maps import (
     COMPARE_ORDER,
     MODES,
     VARIABLES,
+    available,
     change_levels,
     change_tolerance,
     change_variable,
@@ -70,9 +71,10 @@ class MapsView:
         self.mode = pn.widgets.RadioButtonGroup(options={v: k for k, v in MODES.items()},
                                                 value=state.mode, color="light",
                                                 margin=(24, 10, 5, 10))
-        self.left = pn.widgets.Select(label="Left map", options=_var_options(),
+        options = _var_options(state.dataset, state.scenario.plant is not None)
+        self.left = pn.widgets.Select(label="Left map", options=options,
                                       value=state.left, width=250)
-        self.right = pn.widgets.Select(label="Right map", options=_var_options(),
+        self.right = pn.widgets.Select(label="Right map", options=options,
                                        value=state.right, width=250)
         self.present = pn.widgets.Toggle(label="Presentation layout", value=False, width=170)
         self.present.param.watch(self._presentation, "value")
@@ -142,6 +144,16 @@ class MapsView:
         ds = s.dataset
         if ds is None:
             return
+        # The chooser offers what this Dataset holds (the plant's variables need [plant]).
+        options = _var_options(ds)
+        for widget, name, fallback in ((self.left, "left", "h2_yield"),
+                                       (self.right, "right", "methane_slip_dry")):
+            if widget.options != options:
+                widget.options = options
+            if getattr(s, name) not in options.values():
+                setattr(s, name, fallback)  # rebuilds through the watcher
+                return
+            widget.value = getattr(s, name)
         self.levels = {k: variable_levels(ds, VARIABLES[k]) for k in (s.left, s.right)}
         x_range, y_range = self._ranges()
         for i, key in enumerate((s.left, s.right)):
@@ -245,8 +257,11 @@ class MapsView:
         )
 
 
-def _var_options() -> dict[str, str]:
-    return {v.title: k for k, v in VARIABLES.items()}
+def _var_options(ds=None, plant: bool = False) -> dict[str, str]:
+    """Chooser options (title -> key) of the map variables `ds` can draw (before a Dataset
+    exists: every variable, the plant's only if the scenario has a [plant] table)."""
+    return {v.title: k for k, v in VARIABLES.items()
+            if available(ds, k) or (ds is None and plant)}
 
 
 class BalanceView:

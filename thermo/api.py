@@ -7,6 +7,7 @@ returns is SI.
 
 from __future__ import annotations
 
+import dataclasses
 import math
 from dataclasses import dataclass, replace
 
@@ -18,6 +19,12 @@ from thermo.balances import Balance, adiabatic_temperature
 from thermo.constants import P_REF
 from thermo.errors import InputError
 from thermo.extent import REFORMING, SHIFT
+from thermo.plant import (
+    GJ_PER_1000NM3_FROM_J_PER_MOL,
+    MJ_PER_KG_FROM_J_PER_MOL,
+    PlantResult,
+    plant_balance,
+)
 from thermo.scenario import (
     Scenario,
     check_approach,
@@ -56,6 +63,8 @@ class PointResult:
     carbon : dict
         The carbon check (thermo.carbon.point_check): the Dataset's carbon variables, one
         point long.
+    plant : PlantResult or None
+        The hydrogen plant around it (thermo.plant), one point long; None without [plant].
     """
 
     scenario: Scenario
@@ -66,6 +75,7 @@ class PointResult:
     balance: Balance
     train: TrainResult
     carbon: dict
+    plant: PlantResult | None = None
 
     @property
     def carbon_free(self) -> bool:
@@ -177,10 +187,12 @@ class PointResult:
             **self._carbon_dict(),
         }
         out["converged"] = bool(self.train.converged[0])
+        if self.plant is not None:
+            out["plant"] = self._plant_dict()
         return _strict(out)
 
     def _carbon_dict(self) -> dict:
-        """Top-level carbon keys of the point JSON (README, `explorer point --json`) and their detail."""
+        """Top-level carbon keys of the point JSON (`explorer point --json`), with detail."""
         c = {k: v[0] for k, v in self.carbon.items()}
         routes = {k: float(c[f"carbon_activity_real_gas_{k}"])
                   for k in carbon_check.CARBON_ROUTES}
@@ -213,6 +225,25 @@ class PointResult:
                 "real_gas": float(c["carbon_activity_real_gas_catalyst"]),
                 "verdict_ln_activity": float(c["carbon_verdict_ln_activity_catalyst"]),
             }
+        return out
+
+    def _plant_dict(self) -> dict:
+        """The point JSON's ``plant`` object (SI; the plant issue's contract plus more)."""
+        p = {k: float(v[0]) for k, v in self.plant.scalars().items()}
+        pl = self.scenario.plant
+        out = {k: p[attr] for k, attr in PLANT_JSON.items()}
+        spec = out["specific_energy_J_per_mol_h2"]
+        out.update({
+            "tail_gas_exceeds_need": p["tail_gas_excess"] > 0.0,
+            "process_gas_below_dew_point":
+                p["process_gas_dew_point"] > pl.process_gas_cooled_temperature,
+            "specific_energy_GJ_per_1000Nm3_h2": spec * GJ_PER_1000NM3_FROM_J_PER_MOL,
+            "specific_energy_MJ_per_kg_h2": spec * MJ_PER_KG_FROM_J_PER_MOL,
+            "flue_gas_mol_per_s": self.species(self.plant.flue_gas),
+            "air_mol_per_s": self.species(self.plant.air),
+            "tail_gas_mol_per_s": self.species(self.plant.tail_gas),
+            "assumptions": dataclasses.asdict(pl),
+        })
         return out
 
     def _train_dict(self) -> dict:
@@ -254,6 +285,36 @@ class PointResult:
                 "mole_fraction_dry": self.species(dry[None, :] / dry.sum()),
             },
         }
+
+
+#: The point JSON's plant numbers: JSON key -> thermo.plant.PlantResult attribute (the plant
+#: issue's contract first, then more).
+PLANT_JSON: dict[str, str] = {
+    "h2_product_mol_per_s": "h2_product",
+    "tail_gas_lhv_W": "tail_gas_lhv",
+    "fired_duty_W": "fired_duty",
+    "trim_fuel_W": "trim_fuel",
+    "radiant_efficiency": "radiant_efficiency",
+    "bridgewall_temperature_K": "bridgewall_temperature",
+    "steam_raised_kg_per_s": "steam_raised",
+    "process_steam_kg_per_s": "process_steam",
+    "steam_export_kg_per_s": "steam_export",
+    "specific_energy_J_per_mol_h2": "specific_energy",
+    "natural_gas_per_h2": "natural_gas_per_h2",
+    "trim_fuel_mol_per_s": "trim_fuel_flow",
+    "tail_gas_excess_W": "tail_gas_excess",
+    "radiant_duty_W": "radiant_duty",
+    "feed_lhv_W": "feed_lhv",
+    "air_preheat_W": "air_preheat",
+    "feed_preheat_W": "feed_preheat",
+    "reheat_W": "reheat",
+    "convection_heat_W": "convection_heat",
+    "flue_steam_heat_W": "flue_steam_heat",
+    "process_gas_heat_W": "process_gas_heat",
+    "process_gas_dew_point_K": "process_gas_dew_point",
+    "steam_value_J_per_kg": "steam_value",
+    "steam_export_kg_per_mol_h2": "steam_export_per_h2",
+}
 
 
 def _strict(obj):
@@ -374,4 +435,6 @@ def point(
                          f"an approach that keeps T - approach at or above 300 K (T = {T:.2f} K)")
     tr = train_balance(sc.train, n_in[None, :], T, P, f.inlet_temperature, dT)
     chk = carbon_check.point_check(tr, T, P, dT, f.inlet_temperature, sc.carbon)
-    return PointResult(sc, float(T), float(P), float(dT), adiabatic, tr.primary, tr, chk)
+    plant = None if sc.plant is None else plant_balance(sc.plant, sc, tr, P)
+    return PointResult(sc, float(T), float(P), float(dT), adiabatic, tr.primary, tr, chk,
+                       plant)

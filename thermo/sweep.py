@@ -76,6 +76,47 @@ _VARIABLES: dict[str, tuple[str, str]] = {
     "iterations": ("1", "equilibrium solver iterations"),
 }
 
+#: Plant variables (with a [plant] table only; thermo.plant): Dataset name -> (PlantResult
+#: attribute, units, long_name). Absent, not zero, without [plant].
+PLANT_VARIABLES: dict[str, tuple[str, str, str]] = {
+    "plant_h2_product": ("h2_product", "mol s-1", "H2 product of the purification unit"),
+    "plant_tail_gas_lhv": ("tail_gas_lhv", "W", "tail gas to the furnace, LHV"),
+    "plant_fired_duty": ("fired_duty", "W", "furnace fired duty, LHV (tail gas + trim)"),
+    "plant_trim_fuel": ("trim_fuel", "W", "trim natural gas to the furnace, LHV"),
+    "plant_trim_fuel_flow": ("trim_fuel_flow", "mol s-1", "trim natural gas to the furnace"),
+    "plant_tail_gas_excess": ("tail_gas_excess", "W", "heat of tail gas beyond the furnace's "
+                              "need (0 where trim gas burns)"),
+    "radiant_efficiency": ("radiant_efficiency", "1", "radiant duty over fired duty (LHV)"),
+    "plant_feed_lhv": ("feed_lhv", "W", "natural gas fed to the process, LHV"),
+    "plant_air_preheat": ("air_preheat", "W", "combustion air preheat (convection section)"),
+    "plant_feed_preheat": ("feed_preheat", "W", "mixed feed (and oxidant) preheat "
+                           "(convection section)"),
+    "plant_reheat": ("reheat", "W", "reheat of pre-reformed gas (convection section)"),
+    "plant_convection_heat": ("convection_heat", "W", "flue gas heat, bridgewall to stack"),
+    "plant_flue_steam_heat": ("flue_steam_heat", "W", "flue gas heat left for steam "
+                              "(negative: convection section short)"),
+    "plant_process_gas_heat": ("process_gas_heat", "W", "process gas heat recovered, "
+                               "reformer outlet to the cooled temperature"),
+    "process_gas_dew_point": ("process_gas_dew_point", "K", "water dew point of the process "
+                              "gas after the last stage (IAPWS-IF97)"),
+    "plant_steam_raised": ("steam_raised", "kg s-1", "steam raised (flue and process gas)"),
+    "plant_process_steam": ("process_steam", "kg s-1", "process steam to the mixed feed"),
+    "plant_steam_export": ("steam_export", "kg s-1", "steam export (raised - process; "
+                           "negative: import)"),
+    "specific_energy": ("specific_energy", "J mol-1", "net specific energy: (feed + trim "
+                        "fuel LHV - steam export x steam value) per mol H2 product"),
+    "natural_gas_per_h2": ("natural_gas_per_h2", "1", "natural gas (feed + trim fuel) per "
+                           "H2 product (mol per mol)"),
+    "steam_export_per_h2": ("steam_export_per_h2", "kg mol-1", "steam export per mol H2 "
+                            "product"),
+    "plant_bridgewall_temperature": ("bridgewall_temperature", "K", "flue gas leaving the "
+                                     "radiant box (an assumption)"),
+    "plant_steam_value": ("steam_value", "J kg-1", "fuel LHV one kg of exported steam saves "
+                          "(an assumption)"),
+}
+#: Plant variables that are constants of a scenario: 0-d in the Dataset.
+PLANT_CONSTANTS = ("plant_bridgewall_temperature", "plant_steam_value")
+
 #: Scalar (per point) variables taken from a Balance.
 _SCALARS = ("carbon_deposit", "carbon_activity", "h2_yield", "h2_potential",
             "methane_slip_dry", "methane_conversion", "h2_co_ratio", "duty",
@@ -143,6 +184,8 @@ def train_results(scenario: Scenario, n_in, T, P, row: int = 1) -> dict[str, np.
             out[key] = st.temperature
     for k, v in carbon.local_terms(tr, T, P, scenario.approach, scenario.carbon).items():
         out[_CARBON_LOCAL + k] = v
+    if scenario.plant is not None:
+        out.update(plant_results(scenario, tr, P))
     return out
 
 
@@ -150,15 +193,23 @@ def train_results(scenario: Scenario, n_in, T, P, row: int = 1) -> dict[str, np.
 _CARBON_LOCAL = "_carbon_"
 
 
+def plant_results(scenario: Scenario, tr, P) -> dict[str, np.ndarray]:
+    """The :data:`PLANT_VARIABLES` of N points of a train (flat arrays; thermo.plant)."""
+    from thermo.plant import plant_balance
+
+    pr = plant_balance(scenario.plant, scenario, tr, P)
+    return {k: getattr(pr, attr) for k, (attr, _, _) in PLANT_VARIABLES.items()}
+
+
 def _chunks(n: int, size: int) -> list[tuple[int, int]]:
     return [(a, min(a + size, n)) for a in range(0, n, size)]
 
 
-def _sources() -> str:
+def _sources(plant: bool = False) -> str:
     text = resources.files("thermo").joinpath("data/references.toml").read_text("utf-8")
     refs = tomllib.loads(text)
-    return "; ".join(f"[{k}] {v['citation']}" for k, v in refs.items()
-                     if k in ("GRI30", "TM4513", "IUPAC2021", "CODATA2018"))
+    keys = ("GRI30", "TM4513", "IUPAC2021", "CODATA2018") + (("IAPWS-IF97",) if plant else ())
+    return "; ".join(f"[{k}] {v['citation']}" for k, v in refs.items() if k in keys)
 
 
 #: What each review limit is checked on: the train's figures (slip after the last reforming
@@ -171,6 +222,7 @@ LIMIT_VARIABLES = {
     "min_h2_yield": "h2_product",
     "max_duty": "duty",
     "carbon_free": "carbon_free",
+    "max_fired_duty": "plant_fired_duty",
 }
 
 
@@ -187,6 +239,8 @@ def feasible_mask(ds: xr.Dataset, limits) -> xr.DataArray:
         ok = ok & (ds[v["min_h2_yield"]] >= limits.min_h2_yield)
     if limits.max_duty is not None:
         ok = ok & (ds[v["max_duty"]] <= limits.max_duty)
+    if getattr(limits, "max_fired_duty", None) is not None and v["max_fired_duty"] in ds:
+        ok = ok & (ds[v["max_fired_duty"]] <= limits.max_fired_duty)
     ok.attrs = {"units": "1", "long_name": "all review limits met"}
     return ok
 
@@ -290,7 +344,9 @@ def assemble(scenario: Scenario, results: list[dict[str, np.ndarray]]) -> xr.Dat
     flat.update(carbon.window_check(scenario, local, axes))
     data_vars = {}
     for k, v in flat.items():
-        if k in _PER_SPECIES:
+        if k in PLANT_CONSTANTS:
+            data_vars[k] = ((), v[0])
+        elif k in _PER_SPECIES:
             data_vars[k] = (dims + ["species"], v.reshape(shape + (len(GAS_SPECIES),)))
         else:
             data_vars[k] = (dims, v.reshape(shape))
@@ -300,6 +356,9 @@ def assemble(scenario: Scenario, results: list[dict[str, np.ndarray]]) -> xr.Dat
     coords["species"] = np.array(GAS_SPECIES, dtype=object)
     ds = xr.Dataset(data_vars, coords=coords)
     for k, (u, ln) in _VARIABLES.items():
+        if k in ds:
+            ds[k].attrs = {"units": u, "long_name": ln}
+    for k, (_, u, ln) in PLANT_VARIABLES.items():
         if k in ds:
             ds[k].attrs = {"units": u, "long_name": ln}
     ds["converged"] = ds["converged"].astype(bool)
@@ -327,7 +386,7 @@ def assemble(scenario: Scenario, results: list[dict[str, np.ndarray]]) -> xr.Dat
         "schema_version": SCHEMA_VERSION,
         "thermo_version": __version__,
         "scenario": scenario.to_toml(),
-        "data_sources": _sources(),
+        "data_sources": _sources(scenario.plant is not None),
         "standard_pressure_Pa": P_REF,
         "approach_K": scenario.approach,
         "inlet_temperature_K": scenario.feed.inlet_temperature,
