@@ -58,6 +58,7 @@ from explorer.maps import (
     has_change,
     map_figure,
     quiet_change,
+    scenario_markers,
     shared_levels,
     slice_fields,
     variable_layers,
@@ -71,6 +72,7 @@ from explorer.sheet import (
     render,
     review_context,
     summary_html,
+    window_facts,
 )
 from explorer.tables import (
     CONVERSIONS,
@@ -131,7 +133,8 @@ def _key_text(fixed: dict[str, int]) -> str:
     return "|".join(f"{d}={i}" for d, i in fixed.items())
 
 
-def all_layers(ds: xr.Dataset, limits, variables=EXPORT_VARIABLES) -> tuple[dict, dict]:
+def all_layers(ds: xr.Dataset, limits, variables=EXPORT_VARIABLES,
+               markers: dict | None = None) -> tuple[dict, dict]:
     """Layers of every slice, split into what depends on the variable and what does not.
 
     Returns
@@ -149,7 +152,7 @@ def all_layers(ds: xr.Dataset, limits, variables=EXPORT_VARIABLES) -> tuple[dict
         for fixed in _slice_keys(ds, mode):
             key = _key_text(fixed)
             s = slice_fields(ds, mode, fixed)
-            common[mode][key] = _round(window_layers(s, mode, limits), 4)
+            common[mode][key] = _round(window_layers(s, mode, limits, markers), 4)
             for v in variables:
                 per_var[v][mode][key] = _round(variable_layers(s, VARIABLES[v], mode, levels[v]),
                                                4)
@@ -309,6 +312,7 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
     """
     pinned = list(pinned or [])
     R = _page_data(sc, ds)
+    facts = window_facts(sc, ds)
     fixed0 = _fixed0(sc, ds)
     mode0 = "pressure"
     key0 = _key_text({d: j for d, j in fixed0.items() if d != mode0})
@@ -323,7 +327,8 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
     figs, srcs, mappers = [], [], []
     if compare is None:
         variables = EXPORT_VARIABLES + (() if sc.train.empty else TRAIN_EXPORT_VARIABLES)
-        layers, common = all_layers(ds, sc.limits, variables)
+        layers, common = all_layers(ds, sc.limits, variables,
+                                    scenario_markers(sc, facts["best"]))
         R["layers"], R["common"] = layers, common
         R["titles"] = {v: VARIABLES[v].title for v in variables}
         R["palettes"] = {v: mappers_palette(v, ds) for v in variables}
@@ -402,7 +407,7 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
         maps = column(controls, row(*figs[:2]), row(figs[2]), name="maps")
     bal = column(heading, balance, name="balance")
     now = datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC")
-    review = review_context(sc, ds, pinned)
+    review = review_context(sc, ds, pinned, facts)
     title, comparison = sc.title, None
     if compare is not None:
         comparison = comparison_context(sc, ds, *compare)
@@ -422,7 +427,7 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
         bokeh_js=Markup(bundle.scripts()), plot_script=Markup(script),
         maps=Markup(divs["maps"]), balance=Markup(divs["balance"]),
         data_json=Markup(script_json(R)), comparison=comparison, review=review,
-        summary=summary_html(sc, ds),
+        summary=summary_html(sc, ds, facts),
     )
     return with_content_security_policy(page)
 
@@ -545,7 +550,9 @@ for (let i = 0; i < 2; i++) {
   const L = R.layers[v][m][k];
   const C = R.common[m][k];
   for (const name of ["bands", "lines", "labels"]) srcs[i][name].data = L[name];
-  for (const name of ["carbon", "infeasible", "edge"]) srcs[i][name].data = C[name];
+  for (const name of ["carbon", "infeasible", "edge", "best", "design"]) {
+    if (C[name] && srcs[i][name]) srcs[i][name].data = C[name];
+  }
   srcs[i].nodes.data = Object.assign({}, C.nodes, {value: L.values});
   const pal = R.palettes[v];
   mappers[i].palette = pal.palette;
@@ -594,7 +601,9 @@ for (let i = 0; i < 3; i++) {
   const L = layers[v][m][k];
   const C = common[m][k];
   for (const name of ["bands", "lines", "labels"]) srcs[i][name].data = L[name];
-  for (const name of ["carbon", "infeasible", "edge"]) srcs[i][name].data = C[name];
+  for (const name of ["carbon", "infeasible", "edge", "best", "design"]) {
+    if (C[name] && srcs[i][name]) srcs[i][name].data = C[name];
+  }
   srcs[i].nodes.data = Object.assign({}, C.nodes, {value: L.values});
   const pal = palettes[v];
   mappers[i].palette = pal.palette;

@@ -14,7 +14,8 @@ import param
 import xarray as xr
 
 import thermo
-from explorer.maps import VARIABLES
+from explorer.maps import VARIABLES, scenario_markers
+from thermo.edges import DEFAULT_OBJECTIVE, OBJECTIVES
 from thermo.errors import InputError
 from thermo.scenario import Scenario
 from thermo.sweep import SweepCache, apply_limits
@@ -66,6 +67,10 @@ class ExplorerState(param.Parameterized):
     difference = param.ClassSelector(class_=xr.Dataset, allow_None=True,
                                      doc="proposal minus scenario, point by point")
     compare_status = param.String(default="")
+    objective = param.Selector(default=DEFAULT_OBJECTIVE, objects=list(OBJECTIVES),
+                               doc="what the best point makes best (thermo.edges.OBJECTIVES)")
+    typed = param.Boolean(default=False,
+                          doc="the selected point was typed (exact), not clicked (grid node)")
 
     def __init__(self, scenario: Scenario, **params):
         super().__init__(scenario=scenario, notes=scenario.notes, **params)
@@ -80,6 +85,10 @@ class ExplorerState(param.Parameterized):
         self._cmp_lock = threading.Lock()
         # (scenario content key, PointResult) of the design point, computed once per key.
         self._design: tuple = (None, None)
+        # (key, result) of the best point and of the design point's margins.
+        self._best: tuple = (None, None)
+        self._margins: tuple = (None, None)
+        self._dataset_key = None
 
     # -- solving -----------------------------------------------------------------------
     def solve_now(self) -> None:
@@ -156,6 +165,7 @@ class ExplorerState(param.Parameterized):
                 target = getattr(sc.feed, d)
             fixed[d] = int(np.argmin(np.abs(vals - target)))
         bad = int((~ds["converged"]).sum())
+        self._dataset_key = SHARED_CACHE.key(sc)
         self.param.update(dataset=ds, fixed=fixed)
         self.status = (f"{ds['converged'].size:,} points solved"
                        + (f"; {bad} did not converge and are marked infeasible" if bad else ""))
@@ -279,6 +289,7 @@ class ExplorerState(param.Parameterized):
     def select_index(self, idx: dict[str, int]) -> None:
         """Select the grid node with these indexes (all window dims)."""
         ds = self.dataset
+        self.typed = False
         self.selected = {d: float(ds[d].values[i]) for d, i in idx.items()}
 
     def select_display(self, x_degC: float, y: float) -> None:
@@ -305,6 +316,49 @@ class ExplorerState(param.Parameterized):
                       "steam_to_carbon": sc.feed.steam_to_carbon}
             self._design = (key, thermo.point(sc, **kwargs))
         return self._design[1]
+
+    def _limits_key(self) -> tuple:
+        return (SHARED_CACHE.key(self.scenario), self.scenario.limits)
+
+    def best_point(self):
+        """thermo.best_point of the current objective over the solved window (None while
+        solving); computed once per scenario content, limits and objective."""
+        if self.dataset is None or self._dataset_key != SHARED_CACHE.key(self.scenario):
+            return None  # the dataset is of other numbers (a new scenario is solving)
+        key = (*self._limits_key(), self.objective, id(self.dataset))
+        if self._best[0] != key:
+            self._best = (key, thermo.best_point(self.scenario, self.objective,
+                                                 ds=self.dataset))
+        return self._best[1]
+
+    def design_margins(self):
+        """thermo.margins at the exact design point."""
+        key = self._limits_key()
+        if self._margins[0] != key:
+            self._margins = (key, thermo.margins(self.scenario, point=self.design_point()))
+        return self._margins[1]
+
+    def markers(self) -> dict:
+        """The best and design points for the maps (explorer.maps.marker_layers)."""
+        return scenario_markers(self.scenario, self.best_point())
+
+    def select_exact(self, temperature, pressure, steam_to_carbon, **cofeeds) -> None:
+        """Select a typed point, exactly where it is (quantities as for thermo.point).
+
+        Raises
+        ------
+        InputError
+            A value the core refuses, naming the field.
+        """
+        pt = thermo.point(self.scenario, temperature=temperature, pressure=pressure,
+                          steam_to_carbon=steam_to_carbon, **cofeeds)
+        sel = {"temperature": pt.temperature, "pressure": pt.pressure,
+               "steam_to_carbon": pt.steam_to_carbon}
+        for d in ("oxygen_to_carbon", "co2_to_carbon"):
+            if self.dataset is not None and d in self.dataset.dims:
+                sel[d] = getattr(pt, d)
+        self.typed = True
+        self.selected = sel
 
     def design_in_window(self) -> list[str]:
         """What of the design point lies outside the window, in words (empty if inside)."""
