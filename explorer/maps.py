@@ -369,45 +369,92 @@ def variable_layers(s: xr.Dataset, var: Variable, mode: str, levels: np.ndarray)
     return out
 
 
-def exact_window_field(s: xr.Dataset) -> tuple[np.ndarray, np.ndarray] | None:
-    """A field over (rows, temperatures) that is zero exactly at the edges of the exact
-    feasible intervals of each row (``feasible_t_low`` / ``feasible_t_high``, thermo.edges),
-    positive inside, negative outside; None when the slice does not hold them.
+def _match(a: list[tuple[float, float]], b: list[tuple[float, float]]) -> list[tuple[int, int]]:
+    """Pairs (i, j) of the intervals of two neighbouring rows that are one band: in order,
+    each to the nearest centre not yet taken (one interval each: always a pair)."""
+    if len(a) == 1 and len(b) == 1:
+        return [(0, 0)]
+    pairs, used = [], set()
+    for i, (a0, a1) in enumerate(a):
+        best = None
+        for j, (b0, b1) in enumerate(b):
+            if j in used or (pairs and j < pairs[-1][1]):
+                continue
+            overlap = min(a1, b1) - max(a0, b0)
+            d = -overlap if overlap > 0 else abs((a0 + a1) - (b0 + b1)) / 2
+            if best is None or d < best[0]:
+                best = (d, j)
+        if best is not None and (best[0] <= 0 or len(a) == len(b)):
+            pairs.append((i, best[1]))
+            used.add(best[1])
+    return pairs
+
+
+def exact_window_polygons(s: xr.Dataset, mode: str):
+    """The region outside the review limits and its edge, drawn from the exact feasible
+    intervals of each row (``feasible_t_low`` / ``feasible_t_high``, thermo.edges); None when
+    the slice does not hold them.
+
+    Between two neighbouring rows a band (an interval in each, matched by :func:`_match`) is
+    the quadrilateral through its four exact ends, so its edges run through every row's
+    exact edge temperatures and are straight between rows; a band however narrow stays one
+    band. Everything else of the strip between the rows is outside. A band that does not go
+    on to the next row ends flat at its last row.
 
     Returns
     -------
-    (T, field)
-        Temperatures [K] (the grid nodes plus every interval's ends and middle, so each row's
-        zeros fall exactly on its edges) and the signed distance to the nearest edge [K].
-        Window ends are not edges: an interval reaching one is open there.
+    (infeasible, edge)
+        ColumnDataSource data of the hatched polygons and of the edge lines (degC; bar or
+        S/C).
     """
     if "feasible_t_low" not in s:
         return None
-    T = np.asarray(s["temperature"].values, dtype=float)
-    lo = np.atleast_2d(np.asarray(s["feasible_t_low"].values, dtype=float))
-    hi = np.atleast_2d(np.asarray(s["feasible_t_high"].values, dtype=float))
-    ends = lo[np.isfinite(lo)].tolist() + hi[np.isfinite(hi)].tolist()
-    mids = ((lo + hi) / 2)[np.isfinite(lo)].tolist()
-    xu = np.unique(np.concatenate([T, ends, mids]))
-    t0, t1 = T.min(), T.max()
-    span = max(t1 - t0, 1.0)
-    field = np.empty((lo.shape[0], xu.size))
-    for r in range(lo.shape[0]):
-        inside_d = np.full(xu.size, -np.inf)
-        outside_d = np.full(xu.size, np.inf)
-        for a, b in zip(lo[r], hi[r], strict=True):
-            if not np.isfinite(a):
-                continue
-            da = xu - a if a > t0 + 1e-9 else np.full(xu.size, span)
-            db = b - xu if b < t1 - 1e-9 else np.full(xu.size, span)
-            inside = (xu >= a) & (xu <= b)
-            inside_d = np.where(inside, np.maximum(inside_d, np.minimum(da, db)), inside_d)
-            outside_d = np.minimum(outside_d, np.where(xu < a, a - xu, np.where(xu > b, xu - b,
-                                                                               np.inf)))
-        f = np.where(np.isfinite(inside_d), np.minimum(inside_d, span),
-                     -np.minimum(outside_d, span))
-        field[r] = f
-    return xu, field
+    T = np.asarray(s["temperature"].values, dtype=float) - 273.15
+    yv = _y_display(mode, np.asarray(s[mode].values, dtype=float))
+    lo = np.atleast_2d(np.asarray(s["feasible_t_low"].values, dtype=float)) - 273.15
+    hi = np.atleast_2d(np.asarray(s["feasible_t_high"].values, dtype=float)) - 273.15
+    rows = [[(float(a), float(b)) for a, b in zip(lo[r], hi[r], strict=True)
+             if np.isfinite(a)] for r in range(lo.shape[0])]
+    t0, t1 = float(T.min()), float(T.max())
+    eps = 1e-6 * max(t1 - t0, 1.0)
+    polys_x, polys_y, lines_x, lines_y = [], [], [], []
+
+    def poly(xs, ys):
+        polys_x.append([list(map(float, xs))])
+        polys_y.append([list(map(float, ys))])
+
+    def line(xs, ys):
+        lines_x.append(list(map(float, xs)))
+        lines_y.append(list(map(float, ys)))
+
+    for r in range(len(rows) - 1):
+        ya, yb = float(yv[r]), float(yv[r + 1])
+        A, B = rows[r], rows[r + 1]
+        pairs = _match(A, B)
+        # Outside: the strip minus the matched bands, left to right.
+        left_a, left_b = t0, t0
+        for i, j in pairs:
+            (a0, a1), (b0, b1) = A[i], B[j]
+            if a0 > left_a + eps or b0 > left_b + eps:
+                poly([left_a, a0, b0, left_b], [ya, ya, yb, yb])
+            if not (a0 <= t0 + eps and b0 <= t0 + eps):
+                line([a0, b0], [ya, yb])
+            if not (a1 >= t1 - eps and b1 >= t1 - eps):
+                line([a1, b1], [ya, yb])
+            left_a, left_b = a1, b1
+        if left_a < t1 - eps or left_b < t1 - eps:
+            poly([left_a, t1, t1, left_b], [ya, ya, yb, yb])
+        # Ends of bands that do not go on: flat at their row.
+        for i, iv in enumerate(A):
+            if i not in {p[0] for p in pairs}:
+                line(list(iv), [ya, ya])
+        for j, iv in enumerate(B):
+            if j not in {p[1] for p in pairs}:
+                line(list(iv), [yb, yb])
+    if len(rows) == 1:
+        for iv in rows[0]:
+            line(list(iv), [float(yv[0])] * 2)
+    return ({"xs": [polys_x], "ys": [polys_y]}, {"xs": lines_x, "ys": lines_y})
 
 
 def marker_layers(s: xr.Dataset, mode: str, markers: dict | None,
@@ -520,18 +567,16 @@ def window_layers(s: xr.Dataset, mode: str, limits, markers: dict | None = None,
         cgen = contourpy.contour_generator(x, y, np.asarray(carbon_margin(s), dtype=float),
                                            line_type="Separate")
         out["carbon"] = _paths(cgen.lines(0.0))
-        exact = exact_window_field(s)
+        exact = exact_window_polygons(s, mode)
         if exact is not None:
-            xu, field = exact
-            fgen = contourpy.contour_generator(xu - 273.15, y, -field,
-                                               fill_type="OuterOffset", line_type="Separate")
+            out["infeasible"], out["edge"] = exact
         else:
             fgen = contourpy.contour_generator(x, y, infeasibility(s, limits),
                                                fill_type="OuterOffset", line_type="Separate")
-        pts, offs = fgen.filled(0.0, 1e300)
-        ixs, iys = _polys(pts, offs) if pts else ([], [])
-        out["infeasible"] = {"xs": [ixs], "ys": [iys]}
-        out["edge"] = _paths(fgen.lines(0.0))
+            pts, offs = fgen.filled(0.0, 1e300)
+            ixs, iys = _polys(pts, offs) if pts else ([], [])
+            out["infeasible"] = {"xs": [ixs], "ys": [iys]}
+            out["edge"] = _paths(fgen.lines(0.0))
         out["carbon"] = _with_side_ticks(out["carbon"], x, y, np.asarray(carbon_margin(s),
                                                                          dtype=float))
     X, Y = np.meshgrid(x, y)
@@ -755,7 +800,8 @@ def map_figure(var: Variable, mode: str, levels: np.ndarray, layers: dict[str, d
     fig.text("x", "y", "text", source=src["labels"], text_font_size=LABEL_PT,
              text_align="center", text_baseline="middle", text_color="#111111",
              background_fill_color="#ffffff", background_fill_alpha=0.8)
-    edge = fig.multi_line("xs", "ys", source=src["edge"], line_color=EDGE_COLOUR, line_width=3.5)
+    edge = fig.multi_line("xs", "ys", source=src["edge"], line_color=EDGE_COLOUR, line_width=3.5,
+                          name="edge-line")
     carbon = fig.multi_line("xs", "ys", source=src["carbon"], line_color=CARBON_COLOUR,
                             line_width=3, line_dash=[8, 4])
     nodes = fig.scatter("x", "y", source=src["nodes"], size=3.5, fill_color="#000000",

@@ -20,6 +20,7 @@ import thermo
 from explorer import CAUTION
 from explorer.limits_report import (
     best_summary,
+    design_outside,
     grid_warning_text,
     intervals_text,
     margins_html,
@@ -177,7 +178,8 @@ def summary_html(sc: Scenario, ds: xr.Dataset, facts: dict | None = None) -> Mar
         design_p=f"{sc.pressure / 1e5:.4g}", design_sc=f"{sc.feed.steam_to_carbon:g}",
         best=None if bp is None else best_summary(bp),
         warning=facts.get("grid_warning", ""),
-        margins=margins_html(facts["margins"]))
+        margins=margins_html(facts["margins"]),
+        outside="; ".join(design_outside(sc)).capitalize())
 
 
 def _train_inputs(sc: Scenario) -> list[tuple[str, str]]:

@@ -362,19 +362,9 @@ class ExplorerState(param.Parameterized):
 
     def design_in_window(self) -> list[str]:
         """What of the design point lies outside the window, in words (empty if inside)."""
-        sc, out = self.scenario, []
-        for name, value, unit, scale, offset in (
-                ("temperature", sc.temperature, "degC", 1.0, -273.15),
-                ("pressure", sc.pressure, "bar abs", 1e-5, 0.0),
-                ("steam_to_carbon", sc.feed.steam_to_carbon, "", 1.0, 0.0)):
-            axis = sc.window.axes()[name]
-            lo, hi = sorted((axis.start, axis.stop))
-            if not lo - 1e-9 * abs(lo) <= value <= hi + 1e-9 * abs(hi):
-                words = name.replace("_", "-")
-                out.append(f"design {words} {value * scale + offset:.4g} {unit} lies outside "
-                           f"the window's {lo * scale + offset:.4g} to "
-                           f"{hi * scale + offset:.4g} {unit}".replace("  ", " "))
-        return out
+        from explorer.limits_report import design_outside
+
+        return design_outside(self.scenario)
 
     def selected_point(self) -> thermo.PointResult | None:
         """The core's result at the selected grid node (same numbers as the grid)."""

@@ -628,11 +628,10 @@ class SummaryView:
                                                    "exactly there): ")]
         outside = s.design_in_window()
         if outside:
-            parts.append('<p class="rw-warn" data-role="design-outside">'
-                         + text("; ".join(outside)).capitalize()
-                         + ": the maps mark it at their border with a triangle pointing "
-                         "towards it; this verdict and its balance are computed at its exact "
-                         "values.</p>")
+            parts.append(str(html(
+                '<p class="rw-warn" data-role="design-outside">{}: the maps mark it at their '
+                "border with a triangle pointing towards it; this verdict and its balance are "
+                "computed at its exact values.</p>", "; ".join(outside).capitalize())))
         if ds is None:
             parts.append("<p>Solving the window ...</p>")
         else:
