@@ -307,13 +307,14 @@ def feasible_intervals(scenario: Scenario, ds: xr.Dataset,
     row_i = np.concatenate(row_i) if row_i else np.zeros(0, int)
     step_i = np.concatenate(step_i) if step_i else np.zeros(0, int)
     lo, hi = T[step_i].copy(), T[step_i + 1].copy()
-    ok_lo = np.array([ok[names[k]][r, i] for k, r, i in zip(lim_i, row_i, step_i, strict=True)],
-                     dtype=bool)
+    ok_all = np.stack([ok[n] for n in names]) if names else np.zeros((0, 1, 1), dtype=bool)
+    ok_lo = ok_all[lim_i, row_i, step_i].astype(bool)
     while lo.size and float(np.max(hi - lo)) > tolerance:
         mid = 0.5 * (lo + hi)
         pts = _row_points(scenario, row_coords, row_i, mid)
         okp = _ok_fields(pts, limits)
-        okm = np.array([bool(okp[names[k]].values[n]) for n, k in enumerate(lim_i)], dtype=bool)
+        okarr = np.stack([np.asarray(okp[n].values, dtype=bool) for n in names])
+        okm = okarr[lim_i, np.arange(lim_i.size)]
         go_up = okm == ok_lo
         lo = np.where(go_up, mid, lo)
         hi = np.where(go_up, hi, mid)
