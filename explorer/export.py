@@ -561,7 +561,8 @@ for (let i = 0; i < 2; i++) {
   figs[i].title.text = R.titles[v];
   figs[i].y_range.start = R.ranges[m][0];
   figs[i].y_range.end = R.ranges[m][1];
-  figs[i].yaxis[0].axis_label = R.axis_labels[m];
+  // BokehJS figures have no yaxis list: the y axis is the renderer on the left.
+  for (const ax of figs[i].left) if ("axis_label" in ax) ax.axis_label = R.axis_labels[m];
   const [label, unit, digits] = R.hover[v];
   hovers[i].tooltips = [["temperature", "@x{0.0} degC"],
     m === "pressure" ? ["pressure", "@y{0.00} bar abs"] : ["steam-to-carbon", "@y{0.00}"],
@@ -612,7 +613,8 @@ for (let i = 0; i < 3; i++) {
   figs[i].title.text = R.prefixes[i] + R.titles[v];
   figs[i].y_range.start = R.ranges[m][0];
   figs[i].y_range.end = R.ranges[m][1];
-  figs[i].yaxis[0].axis_label = R.axis_labels[m];
+  // BokehJS figures have no yaxis list: the y axis is the renderer on the left.
+  for (const ax of figs[i].left) if ("axis_label" in ax) ax.axis_label = R.axis_labels[m];
   const [label, unit, digits] = R.hover[v];
   const dg = digits + (i === 2 ? 1 : 0);
   hovers[i].tooltips = [["temperature", "@x{0.0} degC"],
