@@ -73,7 +73,7 @@ def _cmd_best(args: argparse.Namespace) -> int:
     from thermo.edges import objective
 
     sc = thermo.load_scenario(args.scenario)
-    obj = objective(args.objective)
+    obj = objective(args.objective, sc)
     _kernel_notice()
     bar = _progress_bar(sc.window.size(), "solving window")
     try:
@@ -268,10 +268,10 @@ def build_parser() -> argparse.ArgumentParser:
                                      "with its balance and margins")
     bs.add_argument("scenario", nargs="?", default=None,
                     help="scenario TOML file (default: the shipped demo)")
-    bs.add_argument("--objective", default=DEFAULT_OBJECTIVE,
-                    help="what to make best: " + "; ".join(
+    bs.add_argument("--objective", default=None,
+                    help="what to make best: " + ", ".join(
                         f"{k} ({o.label})" for k, o in OBJECTIVES.items())
-                    + f" (default {DEFAULT_OBJECTIVE})")
+                    + f" (default {DEFAULT_OBJECTIVE}; specific_energy with a [plant] table)")
     bs.add_argument("--json", action="store_true", help="print one strict JSON object (SI)")
     bs.set_defaults(func=_cmd_best)
 

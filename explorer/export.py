@@ -58,6 +58,7 @@ from explorer.maps import (
     has_change,
     map_figure,
     quiet_change,
+    scenario_markers,
     shared_levels,
     slice_fields,
     variable_layers,
@@ -71,6 +72,7 @@ from explorer.sheet import (
     render,
     review_context,
     summary_html,
+    window_facts,
 )
 from explorer.tables import (
     CONVERSIONS,
@@ -136,7 +138,8 @@ def _key_text(fixed: dict[str, int]) -> str:
     return "|".join(f"{d}={i}" for d, i in fixed.items())
 
 
-def all_layers(ds: xr.Dataset, limits, variables=EXPORT_VARIABLES) -> tuple[dict, dict]:
+def all_layers(ds: xr.Dataset, limits, variables=EXPORT_VARIABLES,
+               markers: dict | None = None) -> tuple[dict, dict]:
     """Layers of every slice, split into what depends on the variable and what does not.
 
     Returns
@@ -154,7 +157,7 @@ def all_layers(ds: xr.Dataset, limits, variables=EXPORT_VARIABLES) -> tuple[dict
         for fixed in _slice_keys(ds, mode):
             key = _key_text(fixed)
             s = slice_fields(ds, mode, fixed)
-            common[mode][key] = _round(window_layers(s, mode, limits), 4)
+            common[mode][key] = _round(window_layers(s, mode, limits, markers), 4)
             for v in variables:
                 per_var[v][mode][key] = _round(variable_layers(s, VARIABLES[v], mode, levels[v]),
                                                4)
@@ -348,6 +351,7 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
     """
     pinned = list(pinned or [])
     R = _page_data(sc, ds)
+    facts = window_facts(sc, ds)
     fixed0 = _fixed0(sc, ds)
     mode0 = "pressure"
     key0 = _key_text({d: j for d, j in fixed0.items() if d != mode0})
@@ -366,7 +370,8 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
         if plant:
             variables = variables + PLANT_EXPORT_VARIABLES
         right0 = "specific_energy" if plant else "methane_slip_dry"
-        layers, common = all_layers(ds, sc.limits, variables)
+        layers, common = all_layers(ds, sc.limits, variables,
+                                    scenario_markers(sc, facts["best"]))
         R["layers"], R["common"] = layers, common
         R["titles"] = {v: VARIABLES[v].title for v in variables}
         R["palettes"] = {v: mappers_palette(v, ds) for v in variables}
@@ -445,7 +450,7 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
         maps = column(controls, row(*figs[:2]), row(figs[2]), name="maps")
     bal = column(heading, balance, name="balance")
     now = datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC")
-    review = review_context(sc, ds, pinned)
+    review = review_context(sc, ds, pinned, facts)
     title, comparison = sc.title, None
     if compare is not None:
         comparison = comparison_context(sc, ds, *compare)
@@ -465,7 +470,7 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
         bokeh_js=Markup(bundle.scripts()), plot_script=Markup(script),
         maps=Markup(divs["maps"]), balance=Markup(divs["balance"]),
         data_json=Markup(script_json(R)), comparison=comparison, review=review,
-        summary=summary_html(sc, ds),
+        summary=summary_html(sc, ds, facts),
     )
     return with_content_security_policy(page)
 
@@ -589,7 +594,9 @@ for (let i = 0; i < 2; i++) {
   const C = R.common[m][k];
   for (const name of ["bands", "lines", "labels"]) srcs[i][name].data = L[name];
   for (const name of ["carbon", "carbon_outlet", "carbon_catalyst", "carbon_graphite",
-                     "infeasible", "edge"]) srcs[i][name].data = C[name];
+                      "infeasible", "edge", "best", "design"]) {
+    if (C[name] && srcs[i][name]) srcs[i][name].data = C[name];
+  }
   srcs[i].nodes.data = Object.assign({}, C.nodes, {value: L.values});
   const pal = R.palettes[v];
   mappers[i].palette = pal.palette;
@@ -598,7 +605,8 @@ for (let i = 0; i < 2; i++) {
   figs[i].title.text = R.titles[v];
   figs[i].y_range.start = R.ranges[m][0];
   figs[i].y_range.end = R.ranges[m][1];
-  figs[i].yaxis[0].axis_label = R.axis_labels[m];
+  // BokehJS figures have no yaxis list: the y axis is the renderer on the left.
+  for (const ax of figs[i].left) if ("axis_label" in ax) ax.axis_label = R.axis_labels[m];
   const [label, unit, digits] = R.hover[v];
   hovers[i].tooltips = [["temperature", "@x{0.0} degC"],
     m === "pressure" ? ["pressure", "@y{0.00} bar abs"] : ["steam-to-carbon", "@y{0.00}"],
@@ -639,7 +647,9 @@ for (let i = 0; i < 3; i++) {
   const C = common[m][k];
   for (const name of ["bands", "lines", "labels"]) srcs[i][name].data = L[name];
   for (const name of ["carbon", "carbon_outlet", "carbon_catalyst", "carbon_graphite",
-                     "infeasible", "edge"]) srcs[i][name].data = C[name];
+                      "infeasible", "edge", "best", "design"]) {
+    if (C[name] && srcs[i][name]) srcs[i][name].data = C[name];
+  }
   srcs[i].nodes.data = Object.assign({}, C.nodes, {value: L.values});
   const pal = palettes[v];
   mappers[i].palette = pal.palette;
@@ -648,7 +658,8 @@ for (let i = 0; i < 3; i++) {
   figs[i].title.text = R.prefixes[i] + R.titles[v];
   figs[i].y_range.start = R.ranges[m][0];
   figs[i].y_range.end = R.ranges[m][1];
-  figs[i].yaxis[0].axis_label = R.axis_labels[m];
+  // BokehJS figures have no yaxis list: the y axis is the renderer on the left.
+  for (const ax of figs[i].left) if ("axis_label" in ax) ax.axis_label = R.axis_labels[m];
   const [label, unit, digits] = R.hover[v];
   const dg = digits + (i === 2 ? 1 : 0);
   hovers[i].tooltips = [["temperature", "@x{0.0} degC"],

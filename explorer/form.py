@@ -166,6 +166,27 @@ class ScenarioForm:
         self.chooser.param.watch(self._choose, "value")
         self.upload.param.watch(self._upload, "value")
         self.fill(state.scenario)
+        state.param.watch(lambda e: self.design_warnings(), ["scenario"])
+        self.design_warnings()
+
+    def design_warnings(self) -> None:
+        """A warning beside each design-point field whose value lies outside the window
+        (the balance is still computed at the exact value)."""
+        sc = self.state.scenario
+        values = {"temperature": sc.temperature, "pressure": sc.pressure,
+                  "steam_to_carbon": sc.feed.steam_to_carbon}
+        for name, value in values.items():
+            axis = sc.window.axes()[name]
+            lo, hi = sorted((axis.start, axis.stop))
+            if lo - 1e-9 * abs(lo) <= value <= hi + 1e-9 * abs(hi):
+                continue
+            shown = {"temperature": lambda v: f"{v - 273.15:.4g} degC",
+                     "pressure": lambda v: f"{v / 1e5:.4g} bar abs",
+                     "steam_to_carbon": lambda v: f"{v:.4g}"}[name]
+            self.messages[name].object = html(
+                '<span class="rw-warn" data-role="design-outside">Outside the window '
+                "({} to {}): computed exactly at {}; the maps mark it at their border."
+                "</span>", shown(lo), shown(hi), shown(value))
 
     def fill(self, sc: Scenario) -> None:
         """Put a scenario's values in the fields (engineer units).

@@ -141,3 +141,43 @@ def intervals_text(lows, highs) -> str:
              for a, b in zip(np.asarray(lows), np.asarray(highs), strict=True)
              if np.isfinite(a)]
     return ", ".join(parts) if parts else "none"
+
+
+def grid_warning_text(ds) -> str:
+    """Where the grid may hide an edge, in words ('' where it does not)."""
+    if "feasible_grid_warning" not in ds:
+        return ""
+    w = ds["feasible_grid_warning"]
+    n = int(w.sum())
+    if n == 0:
+        return ""
+    rows = []
+    for idx in np.argwhere(np.asarray(w.values)):
+        parts = []
+        for d, i in zip(w.dims, idx, strict=True):
+            v = float(ds[d].values[i])
+            parts.append(f"{v / 1e5:.3g} bar" if d == "pressure" else f"{d.replace('_', ' ')} "
+                         f"{v:.3g}")
+        rows.append(", ".join(parts))
+    shown = "; ".join(rows[:6]) + (f"; and {n - 6} more" if n > 6 else "")
+    return (f"Grid warning: on {n} row(s) a limit may be crossed twice inside one temperature "
+            "step (the curve through three neighbouring grid points turns back across the "
+            "limit), where the grid cannot see an edge; refine the temperature axis there: "
+            + shown + ".")
+
+
+def design_outside(sc) -> list[str]:
+    """What of the design point lies outside the window, in words (empty if inside)."""
+    out = []
+    for name, value, unit, scale, offset in (
+            ("temperature", sc.temperature, "degC", 1.0, -273.15),
+            ("pressure", sc.pressure, "bar abs", 1e-5, 0.0),
+            ("steam_to_carbon", sc.feed.steam_to_carbon, "", 1.0, 0.0)):
+        axis = sc.window.axes()[name]
+        lo, hi = sorted((axis.start, axis.stop))
+        if not lo - 1e-9 * abs(lo) <= value <= hi + 1e-9 * abs(hi):
+            words = name.replace("_", "-")
+            out.append(f"design {words} {value * scale + offset:.4g} {unit} lies outside "
+                       f"the window's {lo * scale + offset:.4g} to "
+                       f"{hi * scale + offset:.4g} {unit}".replace("  ", " "))
+    return out

@@ -59,6 +59,8 @@ OUTLET_CARBON_COLOUR = "#8a7b76"
 REFERENCE_CARBON_COLOUR = "#b0602c"
 EDGE_COLOUR = "#00a37a"
 SELECTED_COLOUR = "#ff3b30"
+BEST_COLOUR = "#ffd21f"
+DESIGN_COLOUR = "#3d7bd9"
 HATCH_COLOUR = "#3b3b3b"
 
 
@@ -264,7 +266,7 @@ OVERLAY_VARIABLES = ("h2_yield", "methane_slip_dry", "duty", "carbon_deposit",
                      "carbon_binding", "carbon_activity_path_max",
                      "carbon_path_max_temperature", "carbon_activity_real_gas",
                      "carbon_verdict_ln_activity_catalyst",
-                     "carbon_verdict_ln_activity_graphite")
+                     "carbon_verdict_ln_activity_graphite", "feasible_t_low", "feasible_t_high")
 
 
 #: Carbon lines drawn beside the binding boundary: the outlet-only graphite boundary, and the
@@ -438,15 +440,202 @@ def variable_layers(s: xr.Dataset, var: Variable, mode: str, levels: np.ndarray)
     return out
 
 
-def window_layers(s: xr.Dataset, mode: str, limits) -> dict:
+def _match(a: list[tuple[float, float]], b: list[tuple[float, float]]) -> list[tuple[int, int]]:
+    """Pairs (i, j) of the intervals of two neighbouring rows that are one band: in order,
+    each to the nearest centre not yet taken (one interval each: always a pair)."""
+    if len(a) == 1 and len(b) == 1:
+        return [(0, 0)]
+    pairs, used = [], set()
+    for i, (a0, a1) in enumerate(a):
+        best = None
+        for j, (b0, b1) in enumerate(b):
+            if j in used or (pairs and j < pairs[-1][1]):
+                continue
+            overlap = min(a1, b1) - max(a0, b0)
+            d = -overlap if overlap > 0 else abs((a0 + a1) - (b0 + b1)) / 2
+            if best is None or d < best[0]:
+                best = (d, j)
+        if best is not None and (best[0] <= 0 or len(a) == len(b)):
+            pairs.append((i, best[1]))
+            used.add(best[1])
+    return pairs
+
+
+def exact_window_polygons(s: xr.Dataset, mode: str):
+    """The region outside the review limits and its edge, drawn from the exact feasible
+    intervals of each row (``feasible_t_low`` / ``feasible_t_high``, thermo.edges); None when
+    the slice does not hold them.
+
+    Between two neighbouring rows a band (an interval in each, matched by :func:`_match`) is
+    the quadrilateral through its four exact ends, so its edges run through every row's
+    exact edge temperatures and are straight between rows; a band however narrow stays one
+    band. Everything else of the strip between the rows is outside. A band that does not go
+    on to the next row ends flat at its last row.
+
+    Returns
+    -------
+    (infeasible, edge)
+        ColumnDataSource data of the hatched polygons and of the edge lines (degC; bar or
+        S/C).
+    """
+    if "feasible_t_low" not in s:
+        return None
+    T = np.asarray(s["temperature"].values, dtype=float) - 273.15
+    yv = _y_display(mode, np.asarray(s[mode].values, dtype=float))
+    lo = np.atleast_2d(np.asarray(s["feasible_t_low"].values, dtype=float)) - 273.15
+    hi = np.atleast_2d(np.asarray(s["feasible_t_high"].values, dtype=float)) - 273.15
+    rows = [[(float(a), float(b)) for a, b in zip(lo[r], hi[r], strict=True)
+             if np.isfinite(a)] for r in range(lo.shape[0])]
+    t0, t1 = float(T.min()), float(T.max())
+    eps = 1e-6 * max(t1 - t0, 1.0)
+    polys_x, polys_y, lines_x, lines_y = [], [], [], []
+
+    def poly(xs, ys):
+        polys_x.append([list(map(float, xs))])
+        polys_y.append([list(map(float, ys))])
+
+    def line(xs, ys):
+        lines_x.append(list(map(float, xs)))
+        lines_y.append(list(map(float, ys)))
+
+    for r in range(len(rows) - 1):
+        ya, yb = float(yv[r]), float(yv[r + 1])
+        A, B = rows[r], rows[r + 1]
+        pairs = _match(A, B)
+        # Outside: the strip minus the matched bands, left to right.
+        left_a, left_b = t0, t0
+        for i, j in pairs:
+            (a0, a1), (b0, b1) = A[i], B[j]
+            if a0 > left_a + eps or b0 > left_b + eps:
+                poly([left_a, a0, b0, left_b], [ya, ya, yb, yb])
+            if not (a0 <= t0 + eps and b0 <= t0 + eps):
+                line([a0, b0], [ya, yb])
+            if not (a1 >= t1 - eps and b1 >= t1 - eps):
+                line([a1, b1], [ya, yb])
+            left_a, left_b = a1, b1
+        if left_a < t1 - eps or left_b < t1 - eps:
+            poly([left_a, t1, t1, left_b], [ya, ya, yb, yb])
+        # Ends of bands that do not go on: flat at their row.
+        for i, iv in enumerate(A):
+            if i not in {p[0] for p in pairs}:
+                line(list(iv), [ya, ya])
+        for j, iv in enumerate(B):
+            if j not in {p[1] for p in pairs}:
+                line(list(iv), [yb, yb])
+    if len(rows) == 1:
+        for iv in rows[0]:
+            line(list(iv), [float(yv[0])] * 2)
+    return ({"xs": [polys_x], "ys": [polys_y]}, {"xs": lines_x, "ys": lines_y})
+
+
+def marker_layers(s: xr.Dataset, mode: str, markers: dict | None,
+                  x_range: tuple[float, float], y_range: tuple[float, float]) -> dict:
+    """The best point and the design point on a slice (display units).
+
+    Parameters
+    ----------
+    s : xarray.Dataset
+        A 2-D slice (its fixed axes are scalar coordinates).
+    mode : {"pressure", "steam_to_carbon"}
+    markers : dict, optional
+        ``{"best": coords, "design": coords}``, each coords a dict of every window axis [SI].
+    x_range, y_range : tuple
+        The map's extent (degC; bar or S/C).
+
+    Notes
+    -----
+    A marker lies at its true place. Off this slice (another value of a fixed axis) it is
+    drawn faint and its label says where it is. A design point outside the window is drawn
+    at the map's border with a triangle pointing towards its true place.
+    """
+    out = {k: {"x": [], "y": [], "angle": [], "marker": [], "text": [], "alpha": []}
+           for k in MARKER_LAYERS}
+    if not markers:
+        return out
+    for name, c in markers.items():
+        if c is None or name not in out:
+            continue
+        x = c["temperature"] - 273.15
+        y = float(_y_display(mode, np.asarray(c[mode])))
+        off = []
+        for d in s.coords:
+            if d in ("temperature", mode, "species", "interval") or d not in c:
+                continue
+            if np.ndim(s[d].values) == 0:
+                v = float(s[d].values)
+                if not math.isclose(v, c[d], rel_tol=1e-6, abs_tol=1e-9):
+                    off.append(f"{AXIS_WORDS[d]} {_axis_value(d, c[d])}")
+        cx = min(max(x, x_range[0]), x_range[1])
+        cy = min(max(y, y_range[0]), y_range[1])
+        outside = (cx, cy) != (x, y)
+        label = {"best": "best point", "design": "design point"}[name]
+        if outside:
+            sx = (x_range[1] - x_range[0]) or 1.0
+            sy = (y_range[1] - y_range[0]) or 1.0
+            angle = math.atan2((y - cy) / sy, (x - cx) / sx) - math.pi / 2
+            where = f"{x:.1f} degC, " + (f"{y:.3g} bar abs" if mode == "pressure"
+                                         else f"S/C {y:.3g}")
+            label += f" outside the window ({where})"
+        else:
+            angle = 0.0
+        if off:
+            label += " at " + ", ".join(off)
+        o = out[name]
+        o["x"].append(cx)
+        o["y"].append(cy)
+        o["angle"].append(angle)
+        o["marker"].append("triangle" if outside else ("star" if name == "best" else "diamond"))
+        o["text"].append(label)
+        o["alpha"].append(0.45 if off else 1.0)
+    return out
+
+
+def design_coordinates(sc) -> dict[str, float]:
+    """A scenario's design point on every axis of its window [SI]."""
+    c = {"temperature": sc.temperature, "pressure": sc.pressure,
+         "steam_to_carbon": sc.feed.steam_to_carbon}
+    for d in ("oxygen_to_carbon", "co2_to_carbon"):
+        if d in sc.window.axes():
+            c[d] = getattr(sc.feed, d)
+    return c
+
+
+def scenario_markers(sc, best) -> dict:
+    """The markers of :func:`marker_layers` from a scenario and its thermo.best_point
+    result (None: no best point)."""
+    return {"best": best.coordinates if best is not None and best.feasible else None,
+            "design": design_coordinates(sc)}
+
+
+#: Layers of the best point and the design point.
+MARKER_LAYERS = ("best", "design")
+#: How a fixed axis is named in a marker's label.
+AXIS_WORDS = {"pressure": "P", "steam_to_carbon": "S/C", "oxygen_to_carbon": "O2/C",
+              "co2_to_carbon": "CO2/C"}
+
+
+def _axis_value(d: str, v: float) -> str:
+    return f"{v / 1e5:.3g} bar" if d == "pressure" else f"{v:.3g}"
+
+
+def window_layers(s: xr.Dataset, mode: str, limits, markers: dict | None = None,
+                  ranges: tuple | None = None) -> dict:
     """What every map of a slice shares: the carbon boundary, the region outside a review
-    limit and its edge, and the grid nodes with their feasibility and carbon call."""
+    limit and its edge, the grid nodes with their feasibility and carbon call, and the best
+    and design points (:func:`marker_layers`).
+
+    The feasible edge and the hatching come from the exact feasible intervals of each row
+    (:func:`exact_window_field`) when the Dataset holds them, otherwise from the grid
+    values."""
     x = s["temperature"].values - 273.15
     y = _y_display(mode, s[mode].values)
     out = {"carbon": {"xs": [], "ys": []}, "infeasible": {"xs": [[]], "ys": [[]]},
            "edge": {"xs": [], "ys": []}}
     for k in CARBON_LINES:
         out[k] = {"xs": [], "ys": []}
+    if ranges is None:
+        ranges = ((float(x.min()), float(x.max())), (float(y.min()), float(y.max())))
+    out.update(marker_layers(s, mode, markers, *ranges))
     if len(x) >= 2 and len(y) >= 2:
         ogen = contourpy.contour_generator(x, y, np.asarray(outlet_carbon_margin(s), float),
                                            line_type="Separate")
@@ -458,12 +647,16 @@ def window_layers(s: xr.Dataset, mode: str, limits) -> dict:
         cgen = contourpy.contour_generator(x, y, np.asarray(carbon_margin(s), dtype=float),
                                            line_type="Separate")
         out["carbon"] = _paths(cgen.lines(0.0))
-        fgen = contourpy.contour_generator(x, y, infeasibility(s, limits),
-                                           fill_type="OuterOffset", line_type="Separate")
-        pts, offs = fgen.filled(0.0, 1e300)
-        ixs, iys = _polys(pts, offs) if pts else ([], [])
-        out["infeasible"] = {"xs": [ixs], "ys": [iys]}
-        out["edge"] = _paths(fgen.lines(0.0))
+        exact = exact_window_polygons(s, mode)
+        if exact is not None:
+            out["infeasible"], out["edge"] = exact
+        else:
+            fgen = contourpy.contour_generator(x, y, infeasibility(s, limits),
+                                               fill_type="OuterOffset", line_type="Separate")
+            pts, offs = fgen.filled(0.0, 1e300)
+            ixs, iys = _polys(pts, offs) if pts else ([], [])
+            out["infeasible"] = {"xs": [ixs], "ys": [iys]}
+            out["edge"] = _paths(fgen.lines(0.0))
         out["carbon"] = _with_side_ticks(out["carbon"], x, y, np.asarray(carbon_margin(s),
                                                                          dtype=float))
     X, Y = np.meshgrid(x, y)
@@ -557,14 +750,16 @@ def _with_side_ticks(lines: dict, x: np.ndarray, y: np.ndarray, field: np.ndarra
 
 def combine(variable: dict, window: dict) -> dict[str, dict]:
     """The ColumnDataSource data of every layer of one map from its two parts."""
-    out = {k: window[k] for k in ("carbon", "infeasible", "edge", *CARBON_LINES)}
+    out = {k: window[k] for k in ("carbon", "infeasible", "edge", *CARBON_LINES,
+                                  *MARKER_LAYERS) if k in window}
     out.update({k: variable[k] for k in ("bands", "lines", "labels")})
     out["nodes"] = dict(window["nodes"], value=variable["values"])
     return out
 
 
 def slice_layers(ds: xr.Dataset, var: Variable, mode: str, fixed: dict[str, int], limits,
-                 levels: np.ndarray | None = None) -> dict[str, dict]:
+                 levels: np.ndarray | None = None,
+                 markers: dict | None = None) -> dict[str, dict]:
     """All drawable data of one map slice, in display units.
 
     Parameters
@@ -581,6 +776,8 @@ def slice_layers(ds: xr.Dataset, var: Variable, mode: str, fixed: dict[str, int]
         Review limits for the feasible window.
     levels : ndarray, optional
         Contour levels; :func:`variable_levels` over the whole Dataset if None.
+    markers : dict, optional
+        The best and design points (:func:`marker_layers`).
 
     Returns
     -------
@@ -591,7 +788,8 @@ def slice_layers(ds: xr.Dataset, var: Variable, mode: str, fixed: dict[str, int]
     if levels is None:
         levels = variable_levels(ds, var)
     s = slice_fields(ds, mode, fixed)
-    return combine(variable_layers(s, var, mode, levels), window_layers(s, mode, limits))
+    return combine(variable_layers(s, var, mode, levels),
+                   window_layers(s, mode, limits, markers))
 
 
 def _band_colours(var: Variable, n: int) -> list[str]:
@@ -618,6 +816,8 @@ def empty_layers() -> dict[str, dict]:
         "infeasible": {"xs": [[]], "ys": [[]]},
         "edge": {"xs": [], "ys": []},
         "nodes": {"x": [], "y": [], "value": [], "feasible": [], "carbon": []},
+        **{k: {"x": [], "y": [], "angle": [], "marker": [], "text": [], "alpha": []}
+           for k in MARKER_LAYERS},
     }
 
 
@@ -680,6 +880,7 @@ def map_figure(var: Variable, mode: str, levels: np.ndarray, layers: dict[str, d
         axis.axis_label_text_font_size = AXIS_PT
         axis.major_label_text_font_size = AXIS_PT
         axis.axis_label_text_font_style = "normal"
+    layers = {**empty_layers(), **layers}
     src = {k: ColumnDataSource(v) for k, v in layers.items()}
     src["selected"] = ColumnDataSource({"x": [], "y": [], "alpha": []})
     fig.multi_polygons("xs", "ys", fill_color="color", line_color="color",
@@ -693,7 +894,8 @@ def map_figure(var: Variable, mode: str, levels: np.ndarray, layers: dict[str, d
     fig.text("x", "y", "text", source=src["labels"], text_font_size=LABEL_PT,
              text_align="center", text_baseline="middle", text_color="#111111",
              background_fill_color="#ffffff", background_fill_alpha=0.8)
-    edge = fig.multi_line("xs", "ys", source=src["edge"], line_color=EDGE_COLOUR, line_width=3.5)
+    edge = fig.multi_line("xs", "ys", source=src["edge"], line_color=EDGE_COLOUR, line_width=3.5,
+                          name="edge-line")
     carbon = fig.multi_line("xs", "ys", source=src["carbon"], line_color=CARBON_COLOUR,
                             line_width=3, line_dash=[8, 4])
     extra = {
@@ -712,6 +914,17 @@ def map_figure(var: Variable, mode: str, levels: np.ndarray, layers: dict[str, d
     selected = fig.scatter("x", "y", source=src["selected"], size=15, marker="circle",
                            fill_color=None, line_color=SELECTED_COLOUR, line_width=3,
                            line_alpha="alpha")
+    best = fig.scatter("x", "y", source=src["best"], size=22, marker="marker", angle="angle",
+                       fill_color=BEST_COLOUR, line_color="#111111", line_width=1.5,
+                       fill_alpha="alpha", line_alpha="alpha", name="best-marker")
+    design = fig.scatter("x", "y", source=src["design"], size=17, marker="marker",
+                         angle="angle", fill_color=DESIGN_COLOUR, line_color="#111111",
+                         line_width=1.5, fill_alpha="alpha", line_alpha="alpha",
+                         name="design-marker")
+    for s_ in (src["best"], src["design"]):
+        fig.text("x", "y", "text", source=s_, text_font_size=LABEL_PT, x_offset=12,
+                 y_offset=-10, text_color="#111111", text_alpha="alpha",
+                 background_fill_color="#ffffff", background_fill_alpha=0.75)
     fig.add_tools(HoverTool(renderers=[nodes], tooltips=hover_tooltips(var, mode)))
     mapper = LinearColorMapper(palette=_band_colours(var, len(levels) - 1),
                                low=float(levels[0]), high=float(levels[-1]))
@@ -721,7 +934,8 @@ def map_figure(var: Variable, mode: str, levels: np.ndarray, layers: dict[str, d
     legend = Legend(
         items=[LegendItem(label=LEGEND_LABELS[k], renderers=[r], index=0, name=k)
                for k, r in (("carbon", carbon), *extra.items(), ("edge", edge),
-                            ("infeasible", infeasible), ("selected", selected))],
+                            ("infeasible", infeasible), ("selected", selected), ("best", best),
+                            ("design", design))],
         orientation="horizontal",
         ncols=2,
         label_text_font_size=LEGEND_PT,
@@ -742,6 +956,8 @@ LEGEND_LABELS = {
     "edge": "feasible window edge",
     "infeasible": "outside a review limit (hover a dot: which)",
     "selected": "selected point",
+    "best": "best point",
+    "design": "design point",
 }
 
 
@@ -754,6 +970,8 @@ def legend_visibility(layers: dict[str, dict], selected: dict) -> dict[str, bool
         "infeasible": any(bool(p) for p in layers["infeasible"]["xs"][0])
         if layers["infeasible"]["xs"] else False,
         "selected": bool(selected.get("x")),
+        "best": bool(layers.get("best", {}).get("x")),
+        "design": bool(layers.get("design", {}).get("x")),
     }
 
 

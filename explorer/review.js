@@ -423,6 +423,8 @@ function showLegend(legend, common, selected) {
     edge: common.edge.xs.length > 0,
     infeasible: common.infeasible.xs.length > 0 && common.infeasible.xs[0].length > 0,
     selected: selected,
+    best: Boolean(common.best && common.best.x.length > 0),
+    design: Boolean(common.design && common.design.x.length > 0),
   };
-  for (const item of legend.items) item.visible = drawn[item.name];
+  for (const item of legend.items) item.visible = Boolean(drawn[item.name]);
 }

@@ -18,6 +18,13 @@ from markupsafe import Markup
 
 import thermo
 from explorer import CAUTION
+from explorer.limits_report import (
+    best_summary,
+    design_outside,
+    grid_warning_text,
+    intervals_text,
+    margins_html,
+)
 from explorer.tables import balance_html
 from thermo.constants import P_REF, V_NORMAL
 from thermo.scenario import Scenario
@@ -80,13 +87,22 @@ def feasible_ranges(ds: xr.Dataset) -> list[dict]:
     extra = [d for d in feas.dims if d not in ("temperature", "pressure", "steam_to_carbon")]
     blocks = []
     sub_keys = [{}] if not extra else [{extra[0]: i} for i in range(ds.sizes[extra[0]])]
+    exact = "feasible_t_low" in ds
     for sk in sub_keys:
         f = feas.isel(sk).transpose("steam_to_carbon", "pressure", "temperature").values
         head = ["S/C \\ P [bar abs]"] + [f"{p / 1e5:.1f}" for p in ds.pressure.values]
         rows = []
+        if exact:
+            lo = ds["feasible_t_low"].isel(sk).transpose("steam_to_carbon", "pressure",
+                                                         "interval").values
+            hi = ds["feasible_t_high"].isel(sk).transpose("steam_to_carbon", "pressure",
+                                                          "interval").values
         for i, sc in enumerate(ds.steam_to_carbon.values):
-            rows.append([f"{sc:.3g}"] + [_ranges_text(T, f[i, j])
-                                         for j in range(ds.sizes["pressure"])])
+            if exact:
+                cells = [intervals_text(lo[i, j], hi[i, j]) for j in range(ds.sizes["pressure"])]
+            else:
+                cells = [_ranges_text(T, f[i, j]) for j in range(ds.sizes["pressure"])]
+            rows.append([f"{sc:.3g}"] + cells)
         caption = ""
         if sk:
             d, i = next(iter(sk.items()))
@@ -121,10 +137,28 @@ def design_row_ranges(ds: xr.Dataset, sc: Scenario) -> tuple[str, float, float]:
     return words, float(ds.pressure.values[j]) / 1e5, float(ds.steam_to_carbon.values[k])
 
 
-def summary_html(sc: Scenario, ds: xr.Dataset) -> Markup:
-    """The answer first: the verdict at the exact design point and the feasible outlet
-    temperatures on the grid row nearest it."""
+def window_facts(sc: Scenario, ds: xr.Dataset, objective: str | None = None) -> dict:
+    """What the summary and the sheet state about the window (thermo.edges): the exact
+    feasible temperatures at the design pressure and S/C, the design point's margins, the
+    best point of `objective` (the default objective if None) and the grid warning."""
+    from thermo.edges import best_point, default_objective, design_row, margins
+
+    bp = best_point(sc, objective or default_objective(sc), ds=ds) if "feasible" in ds else None
+    return {
+        "design_row": design_row(sc) if "feasible_t_low" in ds else None,
+        "margins": margins(sc),
+        "best": bp,
+        "grid_warning": grid_warning_text(ds),
+    }
+
+
+def summary_html(sc: Scenario, ds: xr.Dataset, facts: dict | None = None) -> Markup:
+    """The answer first: the verdict at the exact design point, the feasible outlet
+    temperatures at the design pressure and S/C and on the grid row nearest them, the best
+    point and the design point's margins."""
     from explorer.tables import verdict_html
+
+    facts = window_facts(sc, ds) if facts is None else facts
 
     kw = {"temperature": f"{sc.temperature!r} K", "pressure": f"{sc.pressure!r} Pa",
           "steam_to_carbon": sc.feed.steam_to_carbon}
@@ -133,10 +167,19 @@ def summary_html(sc: Scenario, ds: xr.Dataset) -> Markup:
              f"S/C {sc.feed.steam_to_carbon:g}")
     words, p_bar, s_c = design_row_ranges(ds, sc)
     exact = "feasible_t_low" in ds
+    row = facts.get("design_row")
+    bp = facts.get("best")
     return Markup(verdict_html(d, sc.limits, prefix=f"Design point ({where}, computed "
                                                     "exactly there): ")) + _sheet().summary(
         words=words, p_bar=f"{p_bar:.4g}", s_c=f"{s_c:g}", exact=exact,
-        n_ok=f"{int(ds['feasible'].sum()):,}", n=f"{int(ds['feasible'].size):,}")
+        n_ok=f"{int(ds['feasible'].sum()):,}", n=f"{int(ds['feasible'].size):,}",
+        design_words=None if row is None else intervals_text(
+            [a for a, _ in row] or [np.nan], [b for _, b in row] or [np.nan]),
+        design_p=f"{sc.pressure / 1e5:.4g}", design_sc=f"{sc.feed.steam_to_carbon:g}",
+        best=None if bp is None else best_summary(bp),
+        warning=facts.get("grid_warning", ""),
+        margins=margins_html(facts["margins"]),
+        outside="; ".join(design_outside(sc)).capitalize())
 
 
 def _train_inputs(sc: Scenario) -> list[tuple[str, str]]:
@@ -310,14 +353,27 @@ def _assumptions(sc: Scenario) -> list[tuple[str, str]]:
     return rows
 
 
-def review_context(sc: Scenario, ds: xr.Dataset, pinned: list[dict]) -> dict:
+def review_context(sc: Scenario, ds: xr.Dataset, pinned: list[dict],
+                   facts: dict | None = None) -> dict:
     """Everything the review sheet shows, as plain values (the template escapes them)."""
     bad = int((~ds["converged"]).sum())
+    exact = "feasible_t_low" in ds
     window_text = (f"{int(ds['feasible'].sum()):,} of {ds['feasible'].size:,} grid points meet "
                    "every limit" + (f"; {bad} points did not converge and count as infeasible"
                                     if bad else "")
                    + ". Feasible outlet temperatures [degC] at each pressure and "
-                   "steam-to-carbon (grid points; 'none' where no point qualifies):")
+                   "steam-to-carbon ("
+                   + ("exact intervals: each limit's edge solved between the grid points to "
+                      "0.1 K" if exact else "grid points")
+                   + "; 'none' where no temperature qualifies):")
+    if facts is None and exact:
+        facts = window_facts(sc, ds)
+    bp = facts.get("best") if facts else None
+    best = None
+    if bp is not None:
+        best = {"summary": best_summary(bp),
+                "balance": Markup(balance_html(bp.point.to_dict())) if bp.feasible else None,
+                "margins": margins_html(bp.margins) if bp.feasible else None}
     plant_table = ""
     if sc.plant is not None:
         from explorer.tables import plant_html
@@ -334,6 +390,9 @@ def review_context(sc: Scenario, ds: xr.Dataset, pinned: list[dict]) -> dict:
         "limits": limits_rows(sc),
         "window_text": window_text,
         "ranges": feasible_ranges(ds),
+        "grid_warning": facts.get("grid_warning", "") if facts else "",
+        "design_margins": margins_html(facts["margins"]) if facts else None,
+        "best": best,
         "pinned": [{"heading": f"#{i + 1}: {d['temperature_K'] - 273.15:.1f} degC, "
                                f"{d['pressure_Pa'] / 1e5:.3f} bar abs, S/C "
                                f"{d['steam_to_carbon']:.3g}",

@@ -14,7 +14,8 @@ import param
 import xarray as xr
 
 import thermo
-from explorer.maps import VARIABLES
+from explorer.maps import VARIABLES, scenario_markers
+from thermo.edges import DEFAULT_OBJECTIVE, OBJECTIVES, default_objective
 from thermo.errors import InputError
 from thermo.scenario import Scenario
 from thermo.sweep import SweepCache, apply_limits
@@ -66,11 +67,17 @@ class ExplorerState(param.Parameterized):
     difference = param.ClassSelector(class_=xr.Dataset, allow_None=True,
                                      doc="proposal minus scenario, point by point")
     compare_status = param.String(default="")
+    objective = param.Selector(default=DEFAULT_OBJECTIVE, objects=list(OBJECTIVES),
+                               doc="what the best point makes best (thermo.edges.OBJECTIVES)")
+    typed = param.Boolean(default=False,
+                          doc="the selected point was typed (exact), not clicked (grid node)")
 
     def __init__(self, scenario: Scenario, **params):
         if scenario.plant is not None:
-            # The figure the decision rests on comes first for a plant scenario.
+            # The figure the decision rests on comes first for a plant scenario, and it is
+            # what the best point makes best.
             params.setdefault("right", "specific_energy")
+            params.setdefault("objective", "specific_energy")
         super().__init__(scenario=scenario, notes=scenario.notes, **params)
         self._done = 0
         self._total = 1
@@ -85,6 +92,10 @@ class ExplorerState(param.Parameterized):
         self._design: tuple = (None, None)
         #: Called whenever work for poll() starts (the served page starts polling then).
         self.wake = lambda: None
+        # (key, result) of the best point and of the design point's margins.
+        self._best: tuple = (None, None)
+        self._margins: tuple = (None, None)
+        self._dataset_key = None
 
     # -- solving -----------------------------------------------------------------------
     def solve_now(self) -> None:
@@ -170,6 +181,7 @@ class ExplorerState(param.Parameterized):
                 target = getattr(sc.feed, d)
             fixed[d] = int(np.argmin(np.abs(vals - target)))
         bad = int((~ds["converged"]).sum())
+        self._dataset_key = SHARED_CACHE.key(sc)
         self.param.update(dataset=ds, fixed=fixed)
         self.status = (f"{ds['converged'].size:,} points solved"
                        + (f"; {bad} did not converge and are marked infeasible" if bad else ""))
@@ -261,6 +273,9 @@ class ExplorerState(param.Parameterized):
     def set_scenario(self, sc: Scenario) -> None:
         """Adopt a new (validated) scenario; re-solve only when the numbers change."""
         same_numbers = SHARED_CACHE.key(sc) == SHARED_CACHE.key(self.scenario)
+        if (sc.plant is None) != (self.scenario.plant is None):
+            # A [plant] table comes or goes: the best point follows its default objective.
+            self.objective = default_objective(sc)
         self.scenario = sc.with_notes(self.notes) if self.notes != sc.notes else sc
         if same_numbers and self.dataset is not None:
             ds = apply_limits(sc, self.dataset)
@@ -294,6 +309,7 @@ class ExplorerState(param.Parameterized):
     def select_index(self, idx: dict[str, int]) -> None:
         """Select the grid node with these indexes (all window dims)."""
         ds = self.dataset
+        self.typed = False
         self.selected = {d: float(ds[d].values[i]) for d, i in idx.items()}
 
     def select_display(self, x_degC: float, y: float) -> None:
@@ -321,21 +337,54 @@ class ExplorerState(param.Parameterized):
             self._design = (key, thermo.point(sc, **kwargs))
         return self._design[1]
 
+    def _limits_key(self) -> tuple:
+        return (SHARED_CACHE.key(self.scenario), self.scenario.limits)
+
+    def best_point(self):
+        """thermo.best_point of the current objective over the solved window (None while
+        solving); computed once per scenario content, limits and objective."""
+        if self.dataset is None or self._dataset_key != SHARED_CACHE.key(self.scenario):
+            return None  # the dataset is of other numbers (a new scenario is solving)
+        key = (*self._limits_key(), self.objective, id(self.dataset))
+        if self._best[0] != key:
+            self._best = (key, thermo.best_point(self.scenario, self.objective,
+                                                 ds=self.dataset))
+        return self._best[1]
+
+    def design_margins(self):
+        """thermo.margins at the exact design point."""
+        key = self._limits_key()
+        if self._margins[0] != key:
+            self._margins = (key, thermo.margins(self.scenario, point=self.design_point()))
+        return self._margins[1]
+
+    def markers(self) -> dict:
+        """The best and design points for the maps (explorer.maps.marker_layers)."""
+        return scenario_markers(self.scenario, self.best_point())
+
+    def select_exact(self, temperature, pressure, steam_to_carbon, **cofeeds) -> None:
+        """Select a typed point, exactly where it is (quantities as for thermo.point).
+
+        Raises
+        ------
+        InputError
+            A value the core refuses, naming the field.
+        """
+        pt = thermo.point(self.scenario, temperature=temperature, pressure=pressure,
+                          steam_to_carbon=steam_to_carbon, **cofeeds)
+        sel = {"temperature": pt.temperature, "pressure": pt.pressure,
+               "steam_to_carbon": pt.steam_to_carbon}
+        for d in ("oxygen_to_carbon", "co2_to_carbon"):
+            if self.dataset is not None and d in self.dataset.dims:
+                sel[d] = getattr(pt, d)
+        self.typed = True
+        self.selected = sel
+
     def design_in_window(self) -> list[str]:
         """What of the design point lies outside the window, in words (empty if inside)."""
-        sc, out = self.scenario, []
-        for name, value, unit, scale, offset in (
-                ("temperature", sc.temperature, "degC", 1.0, -273.15),
-                ("pressure", sc.pressure, "bar abs", 1e-5, 0.0),
-                ("steam_to_carbon", sc.feed.steam_to_carbon, "", 1.0, 0.0)):
-            axis = sc.window.axes()[name]
-            lo, hi = sorted((axis.start, axis.stop))
-            if not lo - 1e-9 * abs(lo) <= value <= hi + 1e-9 * abs(hi):
-                words = name.replace("_", "-")
-                out.append(f"design {words} {value * scale + offset:.4g} {unit} lies outside "
-                           f"the window's {lo * scale + offset:.4g} to "
-                           f"{hi * scale + offset:.4g} {unit}".replace("  ", " "))
-        return out
+        from explorer.limits_report import design_outside
+
+        return design_outside(self.scenario)
 
     def selected_point(self) -> thermo.PointResult | None:
         """The core's result at the selected grid node (same numbers as the grid)."""

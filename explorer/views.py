@@ -21,6 +21,7 @@ from bokeh.models import Legend
 
 import thermo
 from explorer.form import _message_pane, read_upload, scenario_files
+from explorer.limits_report import best_summary, grid_warning_text, margins_html
 from explorer.maps import (
     CHANGE_TOLERANCE,
     COMPARE_ORDER,
@@ -56,6 +57,7 @@ from explorer.tables import (
     verdict_html,
 )
 from thermo import io as grid_io
+from thermo.edges import objectives_for
 from thermo.errors import InputError
 from thermo.scenario import Scenario
 
@@ -99,7 +101,8 @@ class MapsView:
         self.left.param.watch(lambda e: setattr(state, "left", e.new), "value")
         self.right.param.watch(lambda e: setattr(state, "right", e.new), "value")
         # One watcher: a new window moves `dataset` and `fixed` together, drawn once.
-        state.param.watch(self._changed, ["dataset", "mode", "left", "right", "fixed"])
+        state.param.watch(self._changed, ["dataset", "mode", "left", "right", "fixed",
+                                          "objective"])
         state.param.watch(self._mark_selected, ["selected"])
         state.param.watch(self._progress, ["busy", "progress", "status"])
         self._progress()
@@ -127,7 +130,7 @@ class MapsView:
         return (float(x.min()), float(x.max())), (float(y.min()), float(y.max()))
 
     def _changed(self, *events):
-        if any(e.name != "fixed" for e in events):
+        if any(e.name not in ("fixed", "objective") for e in events):
             self._rebuild()
         else:
             self._redraw_slices()
@@ -158,7 +161,8 @@ class MapsView:
         x_range, y_range = self._ranges()
         for i, key in enumerate((s.left, s.right)):
             var = VARIABLES[key]
-            layers = slice_layers(ds, var, s.mode, s.fixed, s.scenario.limits, self.levels[key])
+            layers = slice_layers(ds, var, s.mode, s.fixed, s.scenario.limits, self.levels[key],
+                                  markers=s.markers())
             restyle_figure(self.panes[i].object, self.sources[i], var, s.mode,
                            self.levels[key], layers, x_range, y_range)
         self._build_sliders()
@@ -193,7 +197,7 @@ class MapsView:
         if s.dataset is None or not self.levels:
             return
         cut = slice_fields(s.dataset, s.mode, s.fixed)
-        shared = window_layers(cut, s.mode, s.scenario.limits)
+        shared = window_layers(cut, s.mode, s.scenario.limits, s.markers())
         for i, key in enumerate((s.left, s.right)):
             layers = combine(variable_layers(cut, VARIABLES[key], s.mode, self.levels[key]),
                              shared)
@@ -247,10 +251,14 @@ class MapsView:
             self._maps_row,
             self._maps_column,
             pn.Row(pn.pane.Markdown(
-                "Click a map to select the nearest grid point. Dots are the solved grid "
-                "points (hover a dot for its values, the review limits it breaks and its "
-                "carbon call); colours and lines interpolate between them. Colour levels "
-                "are fixed over the whole window.",
+                "Click a map to select the nearest grid point (or type an exact point "
+                "under the balance). Dots are the solved grid points (hover a dot for its "
+                "values, the review limits it breaks and its carbon call); colours and lines "
+                "interpolate between them. The feasible edge and the hatching are exact: "
+                "each row's edges are solved between the grid points to 0.1 K. The star is "
+                "the best point, the diamond the design point (a triangle at the border "
+                "points to a design point outside the window). Colour levels are fixed over "
+                "the whole window.",
                 styles={"font-size": "13px", "color": "#4a5a64"}, sizing_mode="stretch_width"),
                 self.present, sizing_mode="stretch_width"),
             sizing_mode="stretch_width",
@@ -280,8 +288,35 @@ class BalanceView:
         self.grid = pn.widgets.FileDownload(callback=self._grid, filename="window-grid.nc",
                                             label="Whole grid (NetCDF)", color="light")
         self._current: dict | None = None
+        self.typed_t = pn.widgets.TextInput(label="Exact temperature", placeholder="867.5 degC",
+                                            width=170)
+        self.typed_p = pn.widgets.TextInput(label="Exact pressure", placeholder="23.4 bar",
+                                            width=170)
+        self.typed_s = pn.widgets.TextInput(label="Exact steam-to-carbon", placeholder="3.1",
+                                            width=170)
+        self.typed_go = pn.widgets.Button(label="Balance at this exact point", color="primary",
+                                          margin=(28, 10, 5, 10))
+        self.typed_go.on_click(lambda e: self.select_typed())
+        self.typed_message = _message_pane()
         state.param.watch(self._update, ["selected", "scenario"])
         self._update()
+
+    def select_typed(self) -> bool:
+        """Select the typed point exactly (no grid snapping); a bad value gets its message."""
+        self.typed_message.object = ""
+        s_c = self.typed_s.value.strip()
+        try:
+            try:
+                ratio = float(s_c)
+            except ValueError:
+                raise InputError("steam_to_carbon", s_c, "a plain number (mol per mol "
+                                 "hydrocarbon carbon)") from None
+            self.state.select_exact(self.typed_t.value.strip(), self.typed_p.value.strip(),
+                                    ratio)
+        except InputError as err:
+            self.typed_message.object = message_html("Not computed: ", err)
+            return False
+        return True
 
     def _update(self, *_):
         pt = self.state.selected_point()
@@ -292,12 +327,15 @@ class BalanceView:
             return
         d = pt.to_dict()
         self._current = d
+        what = "Typed point (computed exactly there)" if self.state.typed else "Grid node"
+        took = (" (typed; not snapped to the grid)" if self.state.typed
+                else "; a click takes the nearest solved node, labelled here")
         self.heading.object = (
-            f"**Grid node {d['temperature_K'] - 273.15:.1f} degC, "
+            f"**{what}: {d['temperature_K'] - 273.15:.{2 if self.state.typed else 1}f} degC, "
             f"{d['pressure_Pa'] / 1e5:.3f} bar abs, S/C {d['steam_to_carbon']:.3g}**"
             + (f", O2/C {d['oxygen_to_carbon']:.3g}" if d["oxygen_to_carbon"] else "")
             + (f", CO2/C {d['co2_to_carbon']:.3g}" if d["co2_to_carbon"] else "")
-            + f" (approach {d['approach_K']:g} K; a click takes the nearest solved node)"
+            + f" (approach {d['approach_K']:g} K{took})"
         )
         self.tables.object = verdict_html(d, self.state.scenario.limits) + balance_html(d)
 
@@ -329,7 +367,8 @@ class BalanceView:
 
     def __panel__(self):
         return pn.Column(self.heading, pn.Row(self.pin, self.csv, self.json, self.grid),
-                         self.tables)
+                         pn.Row(self.typed_t, self.typed_p, self.typed_s, self.typed_go),
+                         self.typed_message, self.tables)
 
 
 class ComparisonView:
@@ -599,14 +638,29 @@ class NotesView:
 
 class SummaryView:
     """The answer first: the verdict at the design point and the feasible window around it,
-    in words and numbers."""
+    in words and numbers; the margins of the design point; the best point of the chosen
+    objective, with its full balance (folded)."""
 
     def __init__(self, state: ExplorerState):
         self.state = state
         self.pane = pn.pane.HTML("", stylesheets=[PAGE_CSS], sizing_mode="stretch_width",
                                  margin=(0, 10))
+        self.objective = pn.widgets.Select(
+            label="Best point of",
+            options={o.label: k for k, o in objectives_for(state.scenario).items()},
+            value=state.objective, width=260)
+        self.objective.param.watch(lambda e: setattr(state, "objective", e.new), "value")
+        self.best = pn.pane.HTML("", stylesheets=[PAGE_CSS], sizing_mode="stretch_width",
+                                 margin=(0, 10))
+        self.best_balance = pn.pane.HTML("", stylesheets=[PAGE_CSS],
+                                         sizing_mode="stretch_width")
+        self.best_card = pn.Card(self.best_balance, title="Best point: full balance and "
+                                 "margins (open)", collapsed=True,
+                                 sizing_mode="stretch_width")
         state.param.watch(self._update, ["dataset", "scenario"])
+        state.param.watch(self._update_best, ["dataset", "scenario", "objective"])
         self._update()
+        self._update_best()
 
     def _update(self, *_):
         s = self.state
@@ -618,9 +672,10 @@ class SummaryView:
                                                    "exactly there): ")]
         outside = s.design_in_window()
         if outside:
-            parts.append('<p class="rw-warn">' + text("; ".join(outside)).capitalize()
-                         + ": the maps cannot mark it, but this verdict is computed at its "
-                         "exact values.</p>")
+            parts.append(str(html(
+                '<p class="rw-warn" data-role="design-outside">{}: the maps mark it at their '
+                "border with a triangle pointing towards it; this verdict and its balance are "
+                "computed at its exact values.</p>", "; ".join(outside).capitalize())))
         if ds is None:
             parts.append("<p>Solving the window ...</p>")
         else:
@@ -630,9 +685,41 @@ class SummaryView:
             parts.append(
                 f"<p><b>Feasible outlet temperature</b> at {p_bar:.4g} bar abs and S/C "
                 f"{s_c:g} (the grid row nearest the design point): <b>{text(words)}</b> degC"
-                + ("" if exact else " (grid points)")
+                + (" (exact edges, to 0.1 K)" if exact else " (grid points)")
                 + f". Within every review limit: {n_ok:,} of {n:,} grid points.</p>")
+            warn = grid_warning_text(ds)
+            if warn:
+                parts.append(str(html('<p class="rw-warn" data-role="grid-warning">{}</p>',
+                                      warn)))
+        m = s.design_margins()
+        parts.append("<p><b>Margins of the design point</b> (positive inside the window) and "
+                     "what moves if T, P or S/C drift (central differences through the core):"
+                     "</p>" + str(margins_html(m)))
         self.pane.object = '<div class="rw-summary">' + "\n".join(parts) + "</div>"
 
+    def _update_best(self, *_):
+        s = self.state
+        options = {o.label: k for k, o in objectives_for(s.scenario).items()}
+        if self.objective.options != options:
+            self.objective.options = options
+        if self.objective.value != s.objective:
+            self.objective.value = s.objective
+        bp = s.best_point()
+        if bp is None:
+            self.best.object = "<p>Solving the window ...</p>"
+            self.best_balance.object = ""
+            return
+        self.best.object = str(html('<p class="rw-summary" data-role="best-point">{}</p>',
+                                    best_summary(bp)))
+        if bp.feasible:
+            d = bp.point.to_dict()
+            self.best_balance.object = (str(margins_html(bp.margins))
+                                        + verdict_html(d, s.scenario.limits)
+                                        + balance_html(d))
+        else:
+            self.best_balance.object = ""
+
     def __panel__(self):
-        return self.pane
+        return pn.Column(self.pane, pn.Row(self.objective, self.best,
+                                           sizing_mode="stretch_width"),
+                         self.best_card, sizing_mode="stretch_width")

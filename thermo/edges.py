@@ -32,6 +32,7 @@ import numpy as np
 import xarray as xr
 
 from thermo import carbon
+from thermo.plant import GJ_PER_1000NM3_FROM_J_PER_MOL
 from thermo.scenario import Limits, Scenario
 from thermo.sweep import (
     _CARBON_LOCAL,
@@ -122,6 +123,9 @@ LIMITS: dict[str, Limit] = {
                   lambda ds: ds[LIMIT_VARIABLES["max_duty"]]),
     "carbon": Limit("carbon", "carbon_free", "max", "carbon verdict (ln activity)", "-", 1.0,
                     carbon_quantity),
+    # With a [plant] table: the furnace's fired duty (LHV), thermo.plant.
+    "fired_duty": Limit("fired_duty", "max_fired_duty", "max", "fired duty (LHV)", "MW", 1e-6,
+                        lambda ds: ds[LIMIT_VARIABLES["max_fired_duty"]]),
 }
 
 
@@ -359,14 +363,15 @@ def feasible_intervals(scenario: Scenario, ds: xr.Dataset,
     row_i = np.concatenate(row_i) if row_i else np.zeros(0, int)
     step_i = np.concatenate(step_i) if step_i else np.zeros(0, int)
     lo, hi = T[step_i].copy(), T[step_i + 1].copy()
-    ok_lo = np.array([ok[names[k]][r, i] for k, r, i in zip(lim_i, row_i, step_i, strict=True)],
-                     dtype=bool)
+    ok_all = np.stack([ok[n] for n in names]) if names else np.zeros((0, 1, 1), dtype=bool)
+    ok_lo = ok_all[lim_i, row_i, step_i].astype(bool)
     path_nodes = _path_nodes(scenario, ds, row_dims, row_i, step_i, T)
     while lo.size and float(np.max(hi - lo)) > tolerance:
         mid = 0.5 * (lo + hi)
         pts = _row_points(scenario, row_coords, row_i, mid, path_nodes)
         okp = _ok_fields(pts, limits)
-        okm = np.array([bool(okp[names[k]].values[n]) for n, k in enumerate(lim_i)], dtype=bool)
+        okarr = np.stack([np.asarray(okp[n].values, dtype=bool) for n in names])
+        okm = okarr[lim_i, np.arange(lim_i.size)]
         go_up = okm == ok_lo
         lo = np.where(go_up, mid, lo)
         hi = np.where(go_up, hi, mid)
@@ -466,6 +471,22 @@ def row_intervals(ds: xr.Dataset, **sel) -> list[tuple[float, float]]:
     return [(float(a), float(b)) for a, b in zip(lo, hi, strict=True) if np.isfinite(a)]
 
 
+def design_row(scenario: Scenario) -> list[tuple[float, float]]:
+    """Exact feasible temperature intervals [K] at the design pressure and ratios exactly
+    (one row over the window's temperatures, solved and edged like a sweep's rows)."""
+    from thermo.sweep import sweep
+
+    f = scenario.feed
+    kw = {"pressure": (f"{scenario.pressure!r} Pa", f"{scenario.pressure!r} Pa", 1),
+          "steam_to_carbon": (f.steam_to_carbon, f.steam_to_carbon, 1)}
+    cofeed = scenario.window.cofeed
+    if cofeed is not None:
+        kw[cofeed] = (getattr(f, cofeed), getattr(f, cofeed), 1)
+    row = sweep(scenario.with_window(**kw))
+    sel = {d: 0 for d in row["feasible_t_low"].dims if d != "interval"}
+    return row_intervals(row, **sel)
+
+
 def exclusion(ds: xr.Dataset, limits: Limits) -> dict[str, float]:
     """Share of the window's grid nodes each active limit excludes (and ``converged``: the
     share not converged) [-], largest first."""
@@ -515,16 +536,45 @@ OBJECTIVES: dict[str, Objective] = {
                              "kJ/mol H2", 1e-3),
     "methane_slip": Objective("methane_slip", LIMIT_VARIABLES["max_methane_slip_dry"], "min",
                               "least methane slip", "mol % dry", 100.0),
+    # With a [plant] table (thermo.plant): natural gas for feed and fuel minus the exported
+    # steam's credit, per H2 product; J/mol shown as GJ (LHV) per 1000 Nm3 of H2.
+    "specific_energy": Objective("specific_energy", "specific_energy", "min",
+                                 "least net specific energy", "GJ/1000 Nm3 H2",
+                                 GJ_PER_1000NM3_FROM_J_PER_MOL),
 }
+#: The default objective without a [plant] table; with one it is ``specific_energy``
+#: (:func:`default_objective`).
 DEFAULT_OBJECTIVE = "h2"
+#: Objectives that need the scenario's [plant] table.
+PLANT_OBJECTIVES = ("specific_energy",)
 
 
-def objective(name: str) -> Objective:
-    """The objective of this name; an InputError names the allowed ones."""
+def default_objective(scenario: Scenario | None = None) -> str:
+    """``specific_energy`` for a scenario with a [plant] table, else :data:`DEFAULT_OBJECTIVE`."""
+    if scenario is not None and scenario.plant is not None:
+        return "specific_energy"
+    return DEFAULT_OBJECTIVE
+
+
+def objectives_for(scenario: Scenario | None) -> dict[str, Objective]:
+    """The objectives a scenario offers (the plant's only with a [plant] table)."""
+    plant = scenario is not None and scenario.plant is not None
+    return {k: o for k, o in OBJECTIVES.items() if plant or k not in PLANT_OBJECTIVES}
+
+
+def objective(name: str | None, scenario: Scenario | None = None) -> Objective:
+    """The objective of this name (the scenario's default if None); an InputError names the
+    allowed ones."""
     from thermo.errors import InputError
 
+    if name is None:
+        name = default_objective(scenario)
     if name not in OBJECTIVES:
         raise InputError("objective", name, "one of " + ", ".join(OBJECTIVES))
+    if scenario is not None and name not in objectives_for(scenario):
+        raise InputError("objective", name,
+                         "one of " + ", ".join(objectives_for(scenario))
+                         + f" ({name} needs the scenario's [plant] table)")
     return OBJECTIVES[name]
 
 
@@ -614,7 +664,14 @@ def _point_kwargs(coords: dict[str, float]) -> dict:
     return kw
 
 
-def best_point(scenario: Scenario, objective: str = DEFAULT_OBJECTIVE, *,
+#: Best feasible grid nodes the best-point search starts from (besides a given start).
+N_STARTS = 3
+#: How far inside every limit the best point must lie, as a fraction of the limit (so that
+#: the round-off of re-entering its coordinates as text cannot put it outside) [-].
+INSIDE = 1e-9
+
+
+def best_point(scenario: Scenario, objective: str | None = None, *,
                ds: xr.Dataset | None = None, start: dict[str, float] | None = None,
                with_margins: bool = True) -> BestPoint:
     """The best feasible point of the window for an objective.
@@ -623,8 +680,9 @@ def best_point(scenario: Scenario, objective: str = DEFAULT_OBJECTIVE, *,
     ----------
     scenario : Scenario
         Feed, window, train and review limits.
-    objective : str
-        A key of :data:`OBJECTIVES`.
+    objective : str, optional
+        A key of :data:`OBJECTIVES`; None for :func:`default_objective` (least specific
+        energy with a [plant] table, else most H2).
     ds : xarray.Dataset, optional
         The scenario's sweep (computed if None).
     start : dict, optional
@@ -641,7 +699,11 @@ def best_point(scenario: Scenario, objective: str = DEFAULT_OBJECTIVE, *,
     -----
     The search runs over every window axis with more than one point, scaled to [0, 1] on
     the window, with ``scipy.optimize.minimize(method="SLSQP")``: bounds are the window, and
-    each active limit's margin divided by the limit's size is an inequality constraint. If
+    each active limit's margin divided by the limit's size is an inequality constraint.
+    Gradients are forward differences (step 1e-6 of each axis's span), the point and its
+    steps solved in one batch of the core. The search runs from the start and from the
+    :data:`N_STARTS` best feasible grid nodes, and keeps the best answer, so that a local
+    optimum on a limit's surface does not decide the result. If
     the answer breaks a limit by round-off it is pulled back along the line to the start
     until it meets every limit (bisection); if it is worse than the start, the start is kept.
     """
@@ -650,7 +712,7 @@ def best_point(scenario: Scenario, objective: str = DEFAULT_OBJECTIVE, *,
     from thermo.api import point as solve_point
     from thermo.sweep import feasible_mask, sweep
 
-    obj = globals()["objective"](objective)
+    obj = globals()["objective"](objective, scenario)
     if ds is None:
         ds = sweep(scenario)
     limits = scenario.limits
@@ -659,11 +721,14 @@ def best_point(scenario: Scenario, objective: str = DEFAULT_OBJECTIVE, *,
     excl = exclusion(ds, limits)
     if not bool(feasible.any()):
         return BestPoint(obj, False, None, {}, None, None, {}, None, excl)
-    cost = obj.cost(ds[obj.variable]).where(feasible)
-    flat = int(np.nanargmin(np.asarray(cost.transpose(*axes).values).ravel()))
-    idx = np.unravel_index(flat, tuple(len(v) for v in axes.values()))
-    node = {d: float(axes[d][i]) for d, i in zip(axes, idx, strict=True)}
-    grid_value = float(ds[obj.variable].isel(dict(zip(axes, idx, strict=True))))
+    cost = np.asarray(obj.cost(ds[obj.variable]).where(feasible).transpose(*axes).values)
+    order = np.argsort(np.where(np.isfinite(cost), cost, np.inf).ravel(), kind="stable")
+    order = [int(k) for k in order[:N_STARTS] if np.isfinite(cost.ravel()[k])]
+    shape = tuple(len(v) for v in axes.values())
+    nodes = [{d: float(axes[d][i]) for d, i in zip(axes, np.unravel_index(k, shape),
+                                                   strict=True)} for k in order]
+    node = nodes[0]
+    grid_value = float(obj.cost(cost.ravel()[order[0]]))
     x_start = dict(node if start is None else start)
     free = [d for d, v in axes.items() if len(v) > 1]
     lo = {d: float(np.min(axes[d])) for d in axes}
@@ -680,45 +745,88 @@ def best_point(scenario: Scenario, objective: str = DEFAULT_OBJECTIVE, *,
 
     cache: dict[tuple, tuple[float, np.ndarray, bool]] = {}
 
+    def run_many(X):
+        """Objective, scaled margins and convergence at several x, one batch of the core."""
+        X = [np.asarray(x, dtype=float) for x in X]
+        keys = [tuple(np.round(x, 15)) for x in X]
+        todo = [k for k in dict.fromkeys(keys) if k not in cache]
+        if todo:
+            cs = [coords_of(np.array(k)) for k in todo]
+            arr = {d: np.array([c[d] for c in cs]) for d in cs[0]}
+            pts = evaluate(scenario, arr["temperature"], arr["pressure"],
+                           arr.get("steam_to_carbon"), arr.get("oxygen_to_carbon"),
+                           arr.get("co2_to_carbon"))
+            f = np.asarray(obj.cost(pts[obj.variable]).values, dtype=float)
+            g = np.array([np.asarray(lim.margin(lim.quantity(pts), v).values, dtype=float)
+                          / scales[lim.name] for lim, v in active]).reshape(len(active), -1)
+            conv = np.asarray(pts["converged"].values, dtype=bool)
+            for n, k in enumerate(todo):
+                cache[k] = (float(f[n]), g[:, n], bool(conv[n]))
+        return [cache[k] for k in keys]
+
     def run(x):
-        key = tuple(np.round(np.asarray(x, dtype=float), 15))
-        if key not in cache:
-            c = coords_of(x)
-            pts = evaluate(scenario, c["temperature"], c["pressure"], c.get("steam_to_carbon"),
-                           c.get("oxygen_to_carbon"), c.get("co2_to_carbon"))
-            f = float(obj.cost(pts[obj.variable]).values[0])
-            g = np.array([float(lim.margin(lim.quantity(pts), v).values[0]) / scales[lim.name]
-                          for lim, v in active])
-            cache[key] = (f, g, bool(pts["converged"].values[0]))
-        return cache[key]
+        return run_many([x])[0]
 
-    x0 = np.array([(x_start[d] - lo[d]) / (hi[d] - lo[d]) for d in free])
-    f0 = run(x0)[0]
-    fscale = max(abs(f0), 1e-12)
-    x_best = x0
-    if free:
-        res = minimize(lambda x: run(x)[0] / fscale, x0, method="SLSQP",
+    eps = 1e-6  # forward-difference step on the [0, 1] scaled axes
+
+    def with_steps(x):
+        x = np.asarray(x, dtype=float)
+        # Step inwards at the upper bound, so every point stays in the window.
+        h = np.where(x + eps <= 1.0, eps, -eps)
+        X = [x] + [x + h[i] * np.eye(len(x))[i] for i in range(len(x))]
+        return run_many(X), h
+
+    def f_jac(x):
+        r, h = with_steps(x)
+        return np.array([(r[i + 1][0] - r[0][0]) / h[i] for i in range(len(h))]) / fscale
+
+    def g_jac(x):
+        r, h = with_steps(x)
+        return np.array([(r[i + 1][1] - r[0][1]) / h[i] for i in range(len(h))]).T
+
+    def good(x):
+        f, g, conv = run(x)
+        return conv and bool(np.all(g >= INSIDE))
+
+    def refine(x0):
+        """SLSQP from x0; the answer pulled back towards x0 if it breaks a limit by
+        round-off; x0 itself if the search did not improve on it."""
+        f0 = run(x0)[0]
+        if not free:
+            return x0
+        res = minimize(lambda x: run(x)[0] / fscale, x0, jac=f_jac, method="SLSQP",
                        bounds=[(0.0, 1.0)] * len(free),
-                       constraints=[{"type": "ineq", "fun": lambda x: run(x)[1]}]
-                       if active else [],
-                       options={"ftol": 1e-12, "maxiter": 200, "eps": 1e-6})
+                       constraints=[{"type": "ineq", "fun": lambda x: run(x)[1],
+                                     "jac": g_jac}] if active else [],
+                       options={"ftol": 1e-12, "maxiter": 200})
         x_try = np.clip(res.x, 0.0, 1.0)
-
-        def good(x):
-            f, g, conv = run(x)
-            return conv and bool(np.all(g >= 0.0))
-
+        if not good(x_try) and active:
+            # Round-off outside a limit: step into the window along the broken limits'
+            # gradients, the shortest step that meets every limit (one batch).
+            g = run(x_try)[1]
+            jac = g_jac(x_try)
+            d = jac[g < 0].sum(axis=0)
+            if np.linalg.norm(d) > 0:
+                d = d / np.linalg.norm(d)
+                xs = [np.clip(x_try + t * d, 0.0, 1.0) for t in np.logspace(-13, -4, 28)]
+                ok = [r[2] and bool(np.all(r[1] >= INSIDE)) for r in run_many(xs)]
+                if any(ok):
+                    x_try = xs[int(np.argmax(ok))]
         if not good(x_try) and good(x0):
-            a, b = 0.0, 1.0  # fraction of the way from x0 to x_try
-            for _ in range(40):
-                m = 0.5 * (a + b)
-                if good(x0 + m * (x_try - x0)):
-                    a = m
-                else:
-                    b = m
-            x_try = x0 + a * (x_try - x0)
-        if good(x_try) and run(x_try)[0] <= f0:
-            x_best = x_try
+            # The largest fraction of the way from x0 that meets every limit, in one batch.
+            fr = np.concatenate([1.0 - 2.0 ** -np.arange(1, 40), [0.0]])
+            xs = [x0 + m * (x_try - x0) for m in fr]
+            ok = [r[2] and bool(np.all(r[1] >= INSIDE)) for r in run_many(xs)]
+            x_try = xs[int(np.argmax(ok))]
+        return x_try if good(x_try) and run(x_try)[0] <= f0 else x0
+
+    def scaled(c):
+        return np.array([(c[d] - lo[d]) / (hi[d] - lo[d]) for d in free])
+
+    fscale = max(abs(run(scaled(x_start))[0]), 1e-12)
+    starts = [scaled(x_start)] + [scaled(n) for n in nodes if start is not None or n is not node]
+    finals = [refine(x0) for x0 in starts]
+    x_best = min(finals, key=lambda x: run(x)[0])
     coords = coords_of(x_best)
     pt = solve_point(scenario, **_point_kwargs(coords))
     f_best = run(x_best)[0]
@@ -807,24 +915,20 @@ class Margins:
                         for q, by_axis in self.sensitivities.items()})
 
 
-def _edge_distance(values: np.ndarray, ok: np.ndarray, x0: float, refine) -> float | None:
-    """Signed distance from x0 to the nearest change of `ok` along sorted `values` (x0 is
-    among them); `refine(a, b, ok_a)` returns the exact crossing between two values."""
+def _nearest_brackets(values: np.ndarray, ok: np.ndarray, x0: float) -> list[tuple]:
+    """The nearest change of `ok` on each side of x0 along sorted `values` (x0 is among
+    them), as ``(a, b, ok_a)`` brackets with ``ok[a] == ok at x0``."""
     k0 = int(np.argmin(np.abs(values - x0)))
     here = bool(ok[k0])
-    best = None
+    out = []
     for step in (1, -1):
         k = k0
         while 0 <= k + step < len(values):
             if bool(ok[k + step]) != here:
-                e = refine(values[k], values[k + step], here)
-                d = abs(e - x0)
-                best = d if best is None or d < best else best
+                out.append((float(values[k]), float(values[k + step]), here))
                 break
             k += step
-    if best is None:
-        return None
-    return float(best if here else -best)
+    return out
 
 
 def margins(scenario: Scenario, temperature=None, pressure=None, steam_to_carbon=None, *,
@@ -881,8 +985,6 @@ def margins(scenario: Scenario, temperature=None, pressure=None, steam_to_carbon
                         cc["oxygen_to_carbon"], cc["co2_to_carbon"])
 
     active = active_limits(sc.limits)
-    here = at()
-    # Sensitivities: six shifted points in one batch.
     steps = dict(SENSITIVITY_STEPS if steps is None else steps)
     # Each axis stepped up and down; the step down stops at the axis's floor (ratios >= 0,
     # T - approach >= 300 K, P > 0), where the difference becomes one-sided.
@@ -892,24 +994,13 @@ def margins(scenario: Scenario, temperature=None, pressure=None, steam_to_carbon
     for a, h in steps.items():
         shifted_at.append((a, c[a] + h))
         shifted_at.append((a, max(c[a] - h, floor[a])))
-    ax_vals = {k: np.array([x if a == k else c[k] for a, x in shifted_at]) for k in c}
-    shifted = evaluate(sc, ax_vals["temperature"], ax_vals["pressure"],
-                       ax_vals["steam_to_carbon"], ax_vals["oxygen_to_carbon"],
-                       ax_vals["co2_to_carbon"])
-    sens: dict[str, dict[str, tuple[float, float]]] = {}
-    for q, (_label, _unit, getter) in SENSITIVITY_QUANTITIES.items():
-        v = np.asarray(getter(shifted).values, dtype=float)
-        sens[q] = {}
-        for i, (a, h) in enumerate(steps.items()):
-            up, dn = shifted_at[2 * i][1], shifted_at[2 * i + 1][1]
-            sens[q][a] = (h, float(v[2 * i] - v[2 * i + 1]) * h / (up - dn))
-    # Scans along temperature and steam-to-carbon.
+    # Scans along temperature and steam-to-carbon over the window (extended to the point).
     win = sc.window
-    t_lo = min(win.temperature.start, win.temperature.stop, c["temperature"])
+    t_lo = max(min(win.temperature.start, win.temperature.stop, c["temperature"]),
+               300.0 + sc.approach)
     t_hi = max(win.temperature.start, win.temperature.stop, c["temperature"])
     s_lo = min(win.steam_to_carbon.start, win.steam_to_carbon.stop, c["steam_to_carbon"])
     s_hi = max(win.steam_to_carbon.start, win.steam_to_carbon.stop, c["steam_to_carbon"])
-    t_lo = max(t_lo, 300.0 + sc.approach)
 
     def scan(a, b, x0, step):
         n = max(2, int(math.ceil((b - a) / step)) + 1)
@@ -918,34 +1009,62 @@ def margins(scenario: Scenario, temperature=None, pressure=None, steam_to_carbon
     Ts = scan(t_lo, t_hi, c["temperature"], scan_step_K)
     Ss = scan(s_lo, s_hi, c["steam_to_carbon"], scan_step_sc) if s_hi > s_lo else \
         np.array([c["steam_to_carbon"]])
-    along_T = at(temperature=Ts)
-    along_S = at(steam_to_carbon=Ss)
+    # One batch of the core: the point, the six shifted points and both scans.
+    moves = [(None, None)] + shifted_at + [("temperature", t) for t in Ts] \
+        + [("steam_to_carbon", x) for x in Ss]
+    batch = at(**{k: np.array([x if a == k else c[k] for a, x in moves])
+                  for k in ("temperature", "pressure", "steam_to_carbon")})
+    n_sh = len(shifted_at)
+    here = batch.isel(point=[0])
+    shifted = batch.isel(point=slice(1, 1 + n_sh))
+    along_T = batch.isel(point=slice(1 + n_sh, 1 + n_sh + Ts.size))
+    along_S = batch.isel(point=slice(1 + n_sh + Ts.size, None))
+    sens: dict[str, dict[str, tuple[float, float]]] = {}
+    for q, (_label, _unit, getter) in SENSITIVITY_QUANTITIES.items():
+        v = np.asarray(getter(shifted).values, dtype=float)
+        sens[q] = {}
+        for i, (a, h) in enumerate(steps.items()):
+            up, dn = shifted_at[2 * i][1], shifted_at[2 * i + 1][1]
+            sens[q][a] = (h, float(v[2 * i] - v[2 * i + 1]) * h / (up - dn))
+
+    def ok_of(pts, lim, value):
+        return np.asarray(lim.margin(lim.quantity(pts), value) >= 0, dtype=bool)
+
+    # Brackets of the nearest edge on each side, per limit and axis, bisected together.
+    brackets = []  # (limit index, axis, a, b, ok_a)
+    for li, (lim, value) in enumerate(active):
+        for axis, vals, pts in (("temperature", Ts, along_T), ("steam_to_carbon", Ss, along_S)):
+            if vals.size > 1:
+                for a, b, o in _nearest_brackets(vals, ok_of(pts, lim, value), c[axis]):
+                    brackets.append([li, axis, a, b, o])
+    tol = {"temperature": EDGE_TOLERANCE_K, "steam_to_carbon": EDGE_TOLERANCE_SC}
+    for _ in range(60):
+        open_ = [br for br in brackets if abs(br[3] - br[2]) > tol[br[1]]]
+        if not open_:
+            break
+        mids = [0.5 * (br[2] + br[3]) for br in open_]
+        pts = at(**{k: np.array([m if br[1] == k else c[k] for br, m in zip(open_, mids,
+                                                                            strict=True)])
+                    for k in ("temperature", "steam_to_carbon")})
+        ok_now = [ok_of(pts, lim, value) for lim, value in active]
+        for n, (br, m) in enumerate(zip(open_, mids, strict=True)):
+            if bool(ok_now[br[0]][n]) == br[4]:
+                br[2] = m
+            else:
+                br[3] = m
+    dist: dict[tuple[int, str], float] = {}
+    for li, axis, a, b, o in brackets:
+        d = abs(0.5 * (a + b) - c[axis])
+        d = d if o else -d
+        key = (li, axis)
+        if key not in dist or abs(d) < abs(dist[key]):
+            dist[key] = float(d)
     out: dict[str, LimitMargin] = {}
-    for lim, value in active:
+    for li, (lim, value) in enumerate(active):
         q = float(lim.quantity(here).values[0])
-
-        def ok_of(pts, lim=lim, value=value):
-            return np.asarray(lim.margin(lim.quantity(pts), value) >= 0, dtype=bool)
-
-        def refine(a, b, ok_a, axis, tol, ok_of=ok_of):
-            for _ in range(60):
-                if abs(b - a) <= tol:
-                    break
-                m = 0.5 * (a + b)
-                if bool(ok_of(at(**{axis: np.array([m])}))[0]) == ok_a:
-                    a = m
-                else:
-                    b = m
-            return 0.5 * (a + b)
-
-        dT = _edge_distance(Ts, ok_of(along_T), c["temperature"],
-                            lambda a, b, o, r=refine: r(a, b, o, "temperature",
-                                                        EDGE_TOLERANCE_K))
-        dS = _edge_distance(Ss, ok_of(along_S), c["steam_to_carbon"],
-                            lambda a, b, o, r=refine: r(a, b, o, "steam_to_carbon",
-                                                        EDGE_TOLERANCE_SC)) \
-            if Ss.size > 1 else None
-        out[lim.name] = LimitMargin(lim, q, value, float(lim.margin(q, value)), dT, dS)
+        out[lim.name] = LimitMargin(lim, q, value, float(lim.margin(q, value)),
+                                    dist.get((li, "temperature")),
+                                    dist.get((li, "steam_to_carbon")))
     coords = {k: v for k, v in c.items()
               if k in ("temperature", "pressure", "steam_to_carbon") or k in win.axes()}
     return Margins(coords, out, sens)

@@ -437,7 +437,8 @@ class SweepCache:
             if ds is not None:
                 self._store.move_to_end(k)
                 self.hits += 1
-        if ds is None:
+        fresh = ds is None
+        if fresh:
             ds = sweep(scenario, **kwargs)
             with self._lock:
                 self.misses += 1
@@ -446,4 +447,5 @@ class SweepCache:
                     self._store.popitem(last=False)
         ds = ds.copy()
         ds.attrs = dict(ds.attrs, title=scenario.title, scenario=scenario.to_toml())
-        return apply_limits(scenario, ds)
+        # A fresh sweep already carries this scenario's limits (grid mask and intervals).
+        return ds if fresh else apply_limits(scenario, ds)

@@ -37,7 +37,8 @@ def _click(page, x, y):
 
 
 def _balance_rows(page):
-    html = page.locator("table.rw-table").first.evaluate(
+    # The balance's tables (the summary's margin tables carry a data-table name).
+    html = page.locator("table.rw-table:not([data-table])").first.evaluate(
         "t => t.closest('div').innerHTML")
     return table_cells(html)
 

@@ -1,0 +1,83 @@
+"""Benchmark: the cost of exact edges, the best point and margins against the plain sweep.
+
+Run on its own (not collected by pytest)::
+
+    python tests/benchmarks/bench_edges.py
+
+For the demo window (26 T x 13 P x 17 S/C) and a 40 x 20 x 20 window of the same gas, one
+run each, in this process: the plain sweep (solve and assemble the Dataset, no edges), the
+exact feasible intervals of every row (``thermo.edges.with_edges``), the best point of each
+objective from the best grid nodes (``thermo.best_point``, margins off) and the margins and
+sensitivities at the design point (``thermo.margins``). Each time is also given as a ratio to
+the plain sweep of the same window measured just before it. Figures only: nothing here
+asserts a time.
+"""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[2]
+if str(ROOT) not in sys.path:
+    sys.path.insert(0, str(ROOT))
+
+import os  # noqa: E402
+import platform  # noqa: E402
+import time  # noqa: E402
+from datetime import UTC, datetime  # noqa: E402
+
+import thermo  # noqa: E402
+from tests.benchmarks.common import code_version  # noqa: E402
+from thermo import edges  # noqa: E402
+from thermo.sweep import CHUNK_POINTS, _chunks, assemble, solve_chunk  # noqa: E402
+
+WINDOWS = {
+    "demo 26x13x17": None,
+    "40x20x20": dict(temperature=("650 degC", "950 degC", 40), pressure=("5 bar", "40 bar", 20),
+                     steam_to_carbon=(1.5, 5.0, 20)),
+}
+
+
+def plain_sweep(sc):
+    """The sweep without the exact intervals: solve every chunk and assemble."""
+    n = sc.window.size()
+    row = sc.window.steam_to_carbon.points
+    return assemble(sc, [solve_chunk(sc, a, b)
+                         for a, b in _chunks(n, max(row, CHUNK_POINTS // row * row))])
+
+
+def timed(f):
+    t = time.perf_counter()
+    out = f()
+    return out, time.perf_counter() - t
+
+
+def main() -> None:
+    print(f"bench_edges {datetime.now(UTC):%Y-%m-%d %H:%M} UTC, {platform.node()}, "
+          f"{os.cpu_count()} CPUs, load {os.getloadavg()[0]:.2f}")
+    print(code_version())
+    base = thermo.load_scenario()
+    plain_sweep(base.with_window(temperature=("700 degC", "950 degC", 3)))  # warm the kernel
+    for name, window in WINDOWS.items():
+        sc = base if window is None else base.with_window(**window)
+        ds, t_sweep = timed(lambda sc=sc: plain_sweep(sc))
+        ds["feasible"] = thermo.sweep.__globals__["feasible_mask"](ds, sc.limits)
+        ds, t_edges = timed(lambda sc=sc, ds=ds: edges.with_edges(sc, ds))
+        n_iv = int(ds["feasible_intervals"].sum())
+        print(f"{name}: {sc.window.size():,} points; plain sweep {t_sweep:.2f} s")
+        print(f"  exact intervals of {ds['feasible_intervals'].size} rows ({n_iv} intervals): "
+              f"{t_edges:.2f} s = {t_edges / t_sweep:.2f} x the sweep")
+        for obj in edges.OBJECTIVES:
+            bp, t = timed(lambda sc=sc, ds=ds, obj=obj: thermo.best_point(
+                sc, obj, ds=ds, with_margins=False))
+            print(f"  best point, {obj}: {t:.2f} s = {t / t_sweep:.2f} x the sweep "
+                  f"(value {bp.value:.6g}, grid node {bp.grid_value:.6g})")
+        _, t = timed(lambda sc=sc: thermo.margins(sc))
+        print(f"  margins and sensitivities at the design point: {t:.2f} s = "
+              f"{t / t_sweep:.2f} x the sweep")
+    print(f"load at end {os.getloadavg()[0]:.2f}")
+
+
+if __name__ == "__main__":
+    main()
