@@ -12,6 +12,7 @@ import numpy as np
 
 from explorer import safe
 from thermo.edges import LIMITS, SENSITIVITY_QUANTITIES, BestPoint, Margins
+from thermo.plant import GJ_PER_1000NM3_FROM_J_PER_MOL
 
 #: How each quantity is shown: (display scale per SI, unit, digits).
 _SHOWN = {
@@ -19,6 +20,8 @@ _SHOWN = {
     "h2": (1.0, "mol/mol C", 4),
     "duty": (1e-6, "MW", 3),
     "carbon": (1.0, "ln a", 3),
+    "fired_duty": (1e-6, "MW", 3),
+    "specific_energy": (GJ_PER_1000NM3_FROM_J_PER_MOL, "GJ/1000 Nm3 H2", 3),
 }
 #: Steps of the sensitivities as the tables name them.
 _STEP_WORDS = {"temperature": ("+5 K", 1.0), "pressure": ("+1 bar", 1e-5),

@@ -875,7 +875,10 @@ SENSITIVITY_QUANTITIES: dict[str, tuple[str, str, Callable[[xr.Dataset], xr.Data
     "methane_slip": ("methane slip (dry)", "1", LIMITS["methane_slip"].quantity),
     "duty": ("radiant duty", "W", LIMITS["duty"].quantity),
     "carbon": ("carbon verdict (ln activity)", "1", carbon_quantity),
+    "specific_energy": ("net specific energy", "J mol-1", lambda ds: ds["specific_energy"]),
 }
+#: Sensitivities computed only with a [plant] table.
+PLANT_SENSITIVITIES = ("specific_energy",)
 
 
 @dataclass(frozen=True)
@@ -1021,6 +1024,8 @@ def margins(scenario: Scenario, temperature=None, pressure=None, steam_to_carbon
     along_S = batch.isel(point=slice(1 + n_sh + Ts.size, None))
     sens: dict[str, dict[str, tuple[float, float]]] = {}
     for q, (_label, _unit, getter) in SENSITIVITY_QUANTITIES.items():
+        if q in PLANT_SENSITIVITIES and sc.plant is None:
+            continue
         v = np.asarray(getter(shifted).values, dtype=float)
         sens[q] = {}
         for i, (a, h) in enumerate(steps.items()):
