@@ -191,7 +191,8 @@ def best_case(demo):
     return sc, ds
 
 
-@pytest.mark.parametrize("name", list(edges.OBJECTIVES))
+@pytest.mark.parametrize("name", [k for k in edges.OBJECTIVES
+                                  if k not in edges.PLANT_OBJECTIVES])
 def test_best_point_is_feasible_and_no_worse_than_any_feasible_node(best_case, name):
     sc, ds = best_case
     bp = thermo.best_point(sc, name, ds=ds, with_margins=False)
@@ -241,6 +242,57 @@ def test_best_point_lies_on_an_active_limit_or_a_bound_or_a_flat_spot(best_case)
     sens = bp.margins.sensitivities_dict()["h2"]
     for d in set(c) - at_bound:
         assert abs(sens[d]["change"]) <= 1e-4 * abs(bp.value)
+
+
+@pytest.fixture(scope="module")
+def plant_case():
+    """The shipped hydrogen plant on a small window, with a fired-duty limit that cuts the
+    hot, low-steam corner where the specific energy is least (our choice of numbers)."""
+    from pathlib import Path
+
+    sc = thermo.load_scenario(Path(__file__).resolve().parents[2]
+                              / "scenarios" / "hydrogen-plant.toml")
+    sc = sc.with_window(temperature=("820 degC", "940 degC", 7), pressure=("15 bar", "35 bar", 5),
+                        steam_to_carbon=(2.0, 4.0, 5))
+    ds = thermo.sweep(sc)
+    fired = float(ds["plant_fired_duty"].where(ds["feasible"]).quantile(0.6))
+    sc = dataclasses.replace(sc, limits=dataclasses.replace(sc.limits, max_fired_duty=fired))
+    return sc, thermo.sweep(sc)
+
+
+def test_best_point_by_specific_energy(plant_case):
+    """With a [plant] table the default objective is the least net specific energy: the best
+    point is feasible (thermo.point's verdict at its exact coordinates), its value is the
+    point JSON's plant specific energy, it is no worse than any feasible grid node, and it
+    lies on an active limit (the fired duty's, margin within 1e-4 of the limit), at a window
+    bound, or where the objective is flat along the free axes."""
+    sc, ds = plant_case
+    assert edges.default_objective(sc) == "specific_energy"
+    bp = thermo.best_point(sc, ds=ds)
+    assert bp.objective.name == "specific_energy"
+    c = bp.coordinates
+    assert bp.feasible
+    assert verdict(sc, c["temperature"], c["pressure"], c["steam_to_carbon"])
+    d = bp.point.to_dict()
+    assert bp.value == pytest.approx(d["plant"]["specific_energy_J_per_mol_h2"], rel=1e-9)
+    nodes = ds["specific_energy"].where(ds["feasible"]).values
+    nodes = nodes[np.isfinite(nodes)]
+    assert bp.value <= nodes.min() * (1 + 1e-12)
+    assert "fired_duty" in bp.margins.limits
+    win = {k: (float(ds[k].min()), float(ds[k].max())) for k in c}
+    at_bound = {k for k, (lo, hi) in win.items() if min(c[k] - lo, hi - c[k]) <= 1e-6 * (hi - lo)}
+    on_limit = [k for k, m in bp.margins.limits.items()
+                if abs(m.margin) <= 1e-4 * max(abs(m.limit_value), 1e-3)]
+    if not on_limit:
+        sens = bp.margins.sensitivities_dict()["specific_energy"]
+        for k in set(c) - at_bound:
+            assert abs(sens[k]["change"]) <= 1e-4 * abs(bp.value)
+
+
+def test_plant_objective_needs_a_plant_table(demo):
+    """Least specific energy is refused, by name, for a scenario without [plant]."""
+    with pytest.raises(thermo.InputError, match=r"\[plant\]"):
+        thermo.best_point(demo, "specific_energy")
 
 
 def test_nothing_feasible_names_the_limit_that_excludes_most(demo):
