@@ -159,6 +159,10 @@ DEDUPE_MIN = 64
 #: Distinct temperature sets kept with their NASA values (a sweep chunk uses about 5).
 _CACHE_SIZE = 8
 _cache: OrderedDict = OrderedDict()
+#: Temperature arrays without repeats kept with their values (each 4 x 8 B x records x points:
+#: 23 MB for a 65,536-point chunk).
+_CACHE_ALL_SIZE = 2
+_cache_all: OrderedDict = OrderedDict()
 _cache_lock = threading.Lock()
 
 
@@ -216,31 +220,36 @@ def _evaluate(T: np.ndarray, rows, only: str | None = None) -> dict[str, np.ndar
 
 
 def _distinct(flat: np.ndarray):
-    """(distinct temperatures, inverse index, values of every record there) for a long 1-D
-    temperature array that repeats its values (a window's grid), or None.
+    """(inverse index or None, values of every record) for a long 1-D temperature array.
 
-    Kept in a small cache keyed by the array's bytes, so every variable of a sweep chunk
-    shares one evaluation per distinct temperature.
+    An array that repeats its values (a window's grid) is evaluated once per distinct
+    temperature (values over those, and the inverse index back to the array); any other
+    (an adiabatic stage's iterates) once for all records and functions (inverse None). Both
+    are kept in small caches keyed by the array's bytes, so every variable of a sweep chunk,
+    and every function a solver step needs, shares one evaluation.
     """
     key = flat.tobytes()
     with _cache_lock:
-        hit = _cache.get(key)
-        if hit is not None:
-            _cache.move_to_end(key)
-            return hit
+        for store in (_cache, _cache_all):
+            hit = store.get(key)
+            if hit is not None:
+                store.move_to_end(key)
+                return hit
+    names = _coefficient_table()[0]
+    rows = np.arange(len(names))
     # Cheap test first: a grid's temperature axis repeats in long runs, so a prefix of a
     # repeating array repeats too; an array of all-distinct values skips the sort.
-    if np.unique(flat[:DEDUPE_MIN]).size > DEDUPE_MIN // 2:
-        return None
-    Tu, inv = np.unique(flat, return_inverse=True)
-    if Tu.size * 4 > flat.size:
-        return None
-    names = _coefficient_table()[0]
-    entry = (Tu, inv.reshape(-1), _evaluate(Tu, np.arange(len(names))))
+    entry = None
+    if np.unique(flat[:DEDUPE_MIN]).size <= DEDUPE_MIN // 2:
+        Tu, inv = np.unique(flat, return_inverse=True)
+        if Tu.size * 4 <= flat.size:
+            entry, store, size = (inv.reshape(-1), _evaluate(Tu, rows)), _cache, _CACHE_SIZE
+    if entry is None:
+        entry, store, size = (None, _evaluate(flat, rows)), _cache_all, _CACHE_ALL_SIZE
     with _cache_lock:
-        _cache[key] = entry
-        while len(_cache) > _CACHE_SIZE:
-            _cache.popitem(last=False)
+        store[key] = entry
+        while len(store) > size:
+            store.popitem(last=False)
     return entry
 
 
@@ -266,12 +275,12 @@ def nasa_values(T, names: tuple[str, ...], what: str) -> np.ndarray:
                 record(n)._coeffs(T)  # raises with the usual message
     shape = (len(rows),) + T.shape
     if flat.size >= DEDUPE_MIN:
-        hit = _distinct(flat)
-        if hit is not None:
-            _, inv, vals = hit
-            # np.take keeps C order (as the direct evaluation): sums over species downstream
-            # then add in the same order either way.
-            return np.take(vals[what][rows], inv, axis=1).reshape(shape)
+        inv, vals = _distinct(flat)
+        if inv is None:
+            return vals[what][rows].reshape(shape)
+        # np.take keeps C order (as the direct evaluation): sums over species downstream
+        # then add in the same order either way.
+        return np.take(vals[what][rows], inv, axis=1).reshape(shape)
     return _evaluate(flat, rows, what)[what].reshape(shape)
 
 
