@@ -735,6 +735,11 @@ def equilibrate(
 #: of waiting for the compiler.
 INTERPRETED_POINTS = 64
 
+#: Largest call solved by the interpreted kernel while a background build runs (about
+#: 1-3 ms per point on one core: a demo window of 5,746 points in 10-20 s); a larger one
+#: waits for the build instead.
+INTERPRETED_WHILE_BUILDING = 20_000
+
 _build: dict = {"process": None}
 
 
@@ -765,12 +770,15 @@ def _use_compiled(n: int) -> bool:
     """Whether a call of `n` points runs the compiled kernel (loading or compiling it).
 
     The interpreted kernel serves small calls on a machine whose numba cache lacks the
-    kernel, and every call while a background build (:func:`start_background_build`) runs.
+    kernel, and calls of up to INTERPRETED_WHILE_BUILDING points while a background build
+    (:func:`start_background_build`) runs.
     """
     if kernel_is_loaded():
         return True
     if build_in_progress():
-        return False
+        if n <= INTERPRETED_WHILE_BUILDING:
+            return False
+        _build["process"].wait()  # a big window: the build is the shorter wait
     if kernel_is_cached():
         return True
     return n > INTERPRETED_POINTS

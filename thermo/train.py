@@ -245,9 +245,10 @@ def adiabatic_equilibrium(gas_flow, inlet_enthalpy, pressure, approach=0.0,
     """Outlet temperature and composition of adiabatic equilibrium stages, N at once.
 
     Finds T with H_out(T) = H_in, where the outlet is the Gibbs equilibrium (graphite
-    allowed) at T - approach and its enthalpy is taken at T. From a `guess`, Newton steps
+    allowed) at T - approach and its enthalpy is taken at T. From a `guess`, a Newton step
     with the equilibrium heat capacity as the derivative (:func:`equilibrium_heat_capacity`,
-    analytic) converge most points in three or four equilibrium solves, each warm-started
+    analytic) and secant steps after it converge most points in a few equilibrium solves,
+    each warm-started
     from the last (the first from `warm_start` if given); any point they do not settle, and
     every point
     without a guess, is solved by the Illinois variant of regula falsi inside `bounds`
@@ -371,12 +372,12 @@ def equilibrium_heat_capacity(moles, carbon, T, T_eq, P) -> np.ndarray:
     rhs[has_c, E + 1] = -h_gr_eq[has_c] / T_eq[has_c]
     M[~has_c, E + 1, E + 1] = 1.0
     # Elements absent from a point: their row and column are zero; pin the unknown to 0.
-    for e in range(E):
-        gone = ~present[:, e]
-        M[gone, e, :] = 0.0
-        M[gone, :, e] = 0.0
-        M[gone, e, e] = 1.0
-        rhs[gone, e] = 0.0
+    keep = np.ones((N, E + 2))
+    keep[:, :E] = present
+    M *= keep[:, :, None] * keep[:, None, :]
+    diag = np.arange(E)
+    M[:, diag, diag] += 1.0 - keep[:, :E]
+    rhs *= keep
     # Row scaling by the element rows' magnitude keeps the system well conditioned.
     scale = np.abs(M).max(axis=2)
     scale[scale == 0] = 1.0
@@ -392,14 +393,17 @@ def equilibrium_heat_capacity(moles, carbon, T, T_eq, P) -> np.ndarray:
 
 
 def _newton(residual, slope, T0, lo, hi, tol, T, warm, warm_first, steps: int = 12):
-    """Newton steps on the enthalpy balance from T0, with the equilibrium heat capacity
-    (:func:`equilibrium_heat_capacity`) as the derivative; fills T and warm, returns the
-    settled points (the others are left to the bracketed solve)."""
+    """Steps on the enthalpy balance from T0: Newton with the equilibrium heat capacity
+    (:func:`equilibrium_heat_capacity`) first, then secant steps (each point's last two
+    residuals; Newton again where the secant slope is not positive). Fills T and warm and
+    returns the settled points (the others are left to the bracketed solve)."""
     N = T0.size
     idx = np.arange(N)
     f, eq = residual(T0, idx, warm if warm_first else None)
     warm[:] = eq.element_potentials
     b = T0.copy()
+    prev_T = np.full(N, np.nan)
+    prev_f = np.full(N, np.nan)
     done = np.zeros(N, dtype=bool)
     active = np.isfinite(f) & eq.converged
     for k in range(steps + 1):
@@ -410,11 +414,16 @@ def _newton(residual, slope, T0, lo, hi, tol, T, warm, warm_first, steps: int = 
         if k == steps or not active.any():
             break
         sub = np.flatnonzero(active)
+        at = idx[sub]
         with np.errstate(invalid="ignore", divide="ignore"):
-            d = slope(b[idx[sub]], idx[sub], _subset(eq, sub))
-            new = np.clip(b[idx[sub]] - f[sub] / d, lo[idx[sub]], hi[idx[sub]])
-        ok = np.isfinite(new) & (d > 0) & (new != b[idx[sub]])
-        idx = idx[sub[ok]]
+            d = (f[sub] - prev_f[at]) / (b[at] - prev_T[at])
+            newton = ~(np.isfinite(d) & (d > 0))
+            if newton.any():
+                d[newton] = slope(b[at[newton]], at[newton], _subset(eq, sub[newton]))
+            new = np.clip(b[at] - f[sub] / d, lo[at], hi[at])
+        ok = np.isfinite(new) & (d > 0) & (new != b[at])
+        prev_T[at], prev_f[at] = b[at], f[sub]
+        idx = at[ok]
         b[idx] = new[ok]
         if idx.size == 0:
             break
