@@ -23,17 +23,31 @@ class _Parser(argparse.ArgumentParser):
         raise InputError("command line", " ".join(_Parser.argv), message)
 
 
-def _kernel_notice() -> None:
-    """Tell the user when the equilibrium kernel is about to be compiled (first use only)."""
-    from thermo.equilibrium import kernel_is_cached
+def _kernel_notice(points: int, background: bool = False) -> None:
+    """Say what happens on a machine where the equilibrium kernel is not compiled yet.
 
-    if not kernel_is_cached():
-        print(
-            "explorer: building the equilibrium kernel for this machine (first run only, "
-            "about 20-40 s; it is cached afterwards) ...",
-            file=sys.stderr,
-            flush=True,
-        )
+    A call of up to ``thermo.equilibrium.INTERPRETED_POINTS`` points (a single point, its
+    adiabatic stages) runs the interpreted kernel at once; a window compiles the kernel first
+    (numba, once per machine: about 20 s on an idle 2-core machine, twice that under load), or,
+    with `background`, compiles it in a child process while the interpreted kernel solves.
+    """
+    from thermo import equilibrium as eq
+
+    if eq.kernel_is_loaded() or eq.kernel_is_cached():
+        return
+    if background:
+        eq.start_background_build()
+        msg = ("compiling the equilibrium kernel for this machine in the background (first "
+               "run only, about 20-40 s; cached afterwards); until it is ready, windows are "
+               "solved by the interpreted kernel: the same results, about 1-3 ms per point")
+    elif points <= eq.INTERPRETED_POINTS:
+        msg = ("the compiled equilibrium kernel is not built on this machine yet; solving "
+               "with the interpreted kernel (the same results, a few ms per point). The first "
+               "'explorer grid', 'export' or 'serve' compiles it once (about 20-40 s)")
+    else:
+        msg = ("compiling the equilibrium kernel for this machine (first run only, about "
+               "20-40 s; cached afterwards) ...")
+    print(f"explorer: {msg}", file=sys.stderr, flush=True)
 
 
 def _cmd_point(args: argparse.Namespace) -> int:
@@ -41,7 +55,7 @@ def _cmd_point(args: argparse.Namespace) -> int:
     from explorer.report import point_report
 
     sc = thermo.load_scenario(args.scenario)
-    _kernel_notice()
+    _kernel_notice(1)
     pt = thermo.point(
         sc,
         temperature=args.temperature,
@@ -74,7 +88,7 @@ def _cmd_best(args: argparse.Namespace) -> int:
 
     sc = thermo.load_scenario(args.scenario)
     obj = objective(args.objective, sc)
-    _kernel_notice()
+    _kernel_notice(sc.window.size())
     bar = _progress_bar(sc.window.size(), "solving window")
     try:
         ds = thermo.sweep(sc, progress=lambda done, total: bar.update(done - bar.n))
@@ -101,7 +115,7 @@ def _cmd_grid(args: argparse.Namespace) -> int:
     out = _output_path(args.output, ".nc")
     n = sc.window.size()
     if args.workers is None and args.scheduler is None:
-        _kernel_notice()
+        _kernel_notice(n)
     bar = _progress_bar(n, "solving window")
     try:
         ds = sweep(sc, workers=args.workers, scheduler=args.scheduler,
@@ -140,7 +154,7 @@ def _cmd_export(args: argparse.Namespace) -> int:
     sc = thermo.load_scenario(args.scenario)
     proposal = _load_proposal(args.compare, sc)
     out = _output_path(args.output, ".html")
-    _kernel_notice()
+    _kernel_notice(sc.window.size())
     runs = [("base" if proposal else "window", sc)] + ([("proposal", proposal)]
                                                       if proposal else [])
     grids = []
@@ -202,7 +216,7 @@ def _cmd_serve(args: argparse.Namespace) -> int:
     if not 1 <= args.idle_minutes <= 7 * 24 * 60:
         raise InputError("--idle-minutes", args.idle_minutes,
                          "minutes from 1 to 10080 (one week)")
-    _kernel_notice()
+    _kernel_notice(sc.window.size(), background=True)
     from explorer import server
     from explorer.state import SHARED_CACHE
 

@@ -111,11 +111,14 @@ class ExplorerState(param.Parameterized):
         self.busy = True
         self.progress = 0.0
         self._done, self._total = 0, sc.window.size()
-        from thermo.equilibrium import kernel_is_cached
+        from thermo import equilibrium as eq
 
-        if not kernel_is_cached():
+        if eq.build_in_progress():
+            self.status = (f"Solving {self._total:,} points with the interpreted kernel while "
+                           "the compiled one is built for this machine (first run only) ...")
+        elif not (eq.kernel_is_loaded() or eq.kernel_is_cached()):
             self.status = ("Building the equilibrium kernel for this machine (first run only, "
-                           "about 30 s; cached afterwards), then solving "
+                           "about 20-40 s; cached afterwards), then solving "
                            f"{self._total:,} points ...")
         else:
             self.status = f"Solving {self._total:,} points ..."

@@ -35,6 +35,9 @@ from __future__ import annotations
 
 import itertools
 import math
+import subprocess
+import sys
+import types
 from dataclasses import dataclass
 
 import numba
@@ -593,6 +596,8 @@ def _solve_batch(A, C, B, MU, allow_carbon, LAM0, use_lam0, row, cand, cand_size
             start = rr * row
             stop = min(start + row, P)
             for p in range(start, stop):
+                # `chained` (a run-time bool, not a literal) is passed for the flags, so that
+                # both calls share one compiled specialisation of _solve_point.
                 chained = False
                 if not use_lam0 and p > start and conv_out[p - 1]:
                     chained = True
@@ -601,14 +606,14 @@ def _solve_batch(A, C, B, MU, allow_carbon, LAM0, use_lam0, row, cand, cand_size
                             chained = False
                 if chained:
                     conv, it, carbon, lnac = _solve_point(
-                        A, C[p], B[p], MU[p], allow_carbon, lam_out[p - 1], True, cand,
+                        A, C[p], B[p], MU[p], allow_carbon, lam_out[p - 1], chained, cand,
                         cand_size, tol, max_iter, n_out[p], lam_out[p], work, H, M, free,
                         active, carbon_out[p - 1] > 0.0)
                 else:
                     conv, it, carbon, lnac = _solve_point(
                         A, C[p], B[p], MU[p], allow_carbon, LAM0[p], use_lam0, cand,
                         cand_size, tol, max_iter, n_out[p], lam_out[p], work, H, M, free,
-                        active)
+                        active, chained)
                 conv_out[p] = conv
                 iter_out[p] = it
                 carbon_out[p] = carbon
@@ -718,10 +723,108 @@ def equilibrate(
     lnac = np.empty(n)
     conv = np.empty(n, dtype=np.bool_)
     iters = np.empty(n, dtype=np.int64)
-    _solve_batch(A, C, b, MU, allow_carbon, lam0, use, max(1, int(row)), _CANDIDATES,
-                 _CANDIDATE_SIZES, TOLERANCE, MAX_ITERATIONS, n_out, lam_out, carbon, lnac,
-                 conv, iters)
+    solver = _solve_batch if _use_compiled(n) else _interpreted()["_solve_batch"]
+    solver(A, C, b, MU, bool(allow_carbon), lam0, use, max(1, int(row)), _CANDIDATES,
+           _CANDIDATE_SIZES, TOLERANCE, MAX_ITERATIONS, n_out, lam_out, carbon, lnac, conv,
+           iters)
     return EquilibriumResult(n_out, carbon, lnac, lam_out, conv, iters)
+
+
+#: Largest call solved by the interpreted kernel when the compiled one is neither loaded nor
+#: cached (a single point, an adiabatic stage's steps): a few milliseconds per point instead
+#: of waiting for the compiler.
+INTERPRETED_POINTS = 64
+
+#: Largest call solved by the interpreted kernel while a background build runs (about
+#: 1-3 ms per point on one core: a demo window of 5,746 points in 10-20 s); a larger one
+#: waits for the build instead.
+INTERPRETED_WHILE_BUILDING = 20_000
+
+_build: dict = {"process": None}
+
+
+def _interpreted() -> dict:
+    """The kernel's own functions run by the Python interpreter (no compilation).
+
+    Each numba function's original Python code is rebound to a namespace in which the other
+    kernel functions are their Python versions too, and ``numba.prange`` is ``range``: the
+    same operations in the same order, so results equal the compiled kernel's (checked to
+    1e-12 in tests/thermo/test_equilibrium_interpreted.py), about 100-1000x slower per point.
+    """
+    global _INTERPRETED
+    if _INTERPRETED is None:
+        ns = dict(globals())
+        ns["numba"] = types.SimpleNamespace(prange=range)
+        for name, fn in list(globals().items()):
+            if isinstance(fn, numba.core.registry.CPUDispatcher):
+                py = fn.py_func
+                ns[name] = types.FunctionType(py.__code__, ns, name, py.__defaults__)
+        _INTERPRETED = ns
+    return _INTERPRETED
+
+
+_INTERPRETED: dict | None = None
+
+
+def _use_compiled(n: int) -> bool:
+    """Whether a call of `n` points runs the compiled kernel (loading or compiling it).
+
+    The interpreted kernel serves small calls on a machine whose numba cache lacks the
+    kernel, and calls of up to INTERPRETED_WHILE_BUILDING points while a background build
+    (:func:`start_background_build`) runs.
+    """
+    if kernel_is_loaded():
+        return True
+    if build_in_progress():
+        if n <= INTERPRETED_WHILE_BUILDING:
+            return False
+        _build["process"].wait()  # a big window: the build is the shorter wait
+    if kernel_is_cached():
+        return True
+    return n > INTERPRETED_POINTS
+
+
+def start_background_build() -> bool:
+    """Compile the kernel into numba's on-disk cache in a child process, if it is not there.
+
+    Meanwhile :func:`equilibrate` runs the interpreted kernel in this process (same results),
+    and loads the compiled one from the cache once the child is done. Returns True if a build
+    was started.
+    """
+    if _solve_batch.signatures or kernel_is_cached():
+        return False
+    proc = _build["process"]
+    if proc is not None and proc.poll() is None:
+        return True
+    _build["process"] = subprocess.Popen(
+        [sys.executable, "-c", "import thermo.equilibrium as e; e.build_kernel()"],
+        stdin=subprocess.DEVNULL, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    return True
+
+
+def kernel_is_loaded() -> bool:
+    """Whether this process has the compiled kernel in memory (compiled or loaded)."""
+    return bool(_solve_batch.signatures)
+
+
+def build_in_progress() -> bool:
+    """Whether a background build started by this process is still running."""
+    proc = _build["process"]
+    return proc is not None and proc.poll() is None
+
+
+def build_kernel() -> None:
+    """Compile (or load) the kernel now: one small solve through the compiled path."""
+    b = np.array([[1.0, 4.0, 1.0, 0.0, 0.0]])
+    T = np.array([1000.0])
+    P = np.array([P_REF])
+    C = np.ascontiguousarray((gas_table(T, "g_RT")).T)
+    MU = np.ascontiguousarray(graphite_mu_RT(T, P))
+    S, E = len(GAS_SPECIES), len(ELEMENTS)
+    _solve_batch(np.ascontiguousarray(formula_matrix()), C, b, MU, True, np.zeros((1, E)),
+                 False, 1, _CANDIDATES, _CANDIDATE_SIZES, TOLERANCE, MAX_ITERATIONS,
+                 np.empty((1, S)), np.empty((1, E)), np.empty(1), np.empty(1),
+                 np.empty(1, dtype=np.bool_), np.empty(1, dtype=np.int64))
 
 
 def kernel_is_cached() -> bool:

@@ -29,7 +29,7 @@ import numpy as np
 from scipy.optimize import brentq
 
 from thermo.constants import P_REF, T_REF, R
-from thermo.species import GRAPHITE, g_RT, h_RT
+from thermo.species import GRAPHITE, nasa_values
 
 #: Above this K the extent is set to its upper bound, below its inverse to its lower bound.
 K_LIMIT = 1e10
@@ -72,9 +72,20 @@ CRACKING = Reaction("methane cracking", {"CH4": -1, GRAPHITE: 1, "H2": 2})
 BOUDOUARD = Reaction("Boudouard", {"CO": -2, GRAPHITE: 1, "CO2": 1})
 
 
+def _stoich_sum(reaction: Reaction, T, what: str):
+    """sum of nu_i f_i(T) over the reaction's species, f one NASA function (one evaluation
+    of all its species at once; the terms added in the reaction's order)."""
+    names = tuple(reaction.stoich)
+    values = nasa_values(T, names, what)
+    total = 0
+    for k, v in enumerate(reaction.stoich.values()):
+        total = total + v * values[k]
+    return total
+
+
 def delta_g_RT(reaction: Reaction, T) -> np.ndarray:
     """Standard Gibbs energy change over RT at 1 bar, sum of nu_i g_i/RT [-]."""
-    return sum(v * g_RT(T, s) for s, v in reaction.stoich.items())
+    return _stoich_sum(reaction, T, "g_RT")
 
 
 def delta_h(reaction: Reaction, T=T_REF) -> np.ndarray:
@@ -89,7 +100,7 @@ def delta_h(reaction: Reaction, T=T_REF) -> np.ndarray:
     205.9
     """
     T = np.asarray(T, dtype=float)
-    return R * T * sum(v * h_RT(T, s) for s, v in reaction.stoich.items())
+    return R * T * _stoich_sum(reaction, T, "h_RT")
 
 
 def equilibrium_constant(reaction: Reaction, T) -> np.ndarray:

@@ -13,7 +13,9 @@ used.
 from __future__ import annotations
 
 import math
+import threading
 import tomllib
+from collections import OrderedDict
 from dataclasses import dataclass
 from functools import cache
 from importlib import resources
@@ -152,6 +154,128 @@ def record(name: str) -> SpeciesRecord:
     return table[name]
 
 
+#: Arrays at least this long are evaluated once per distinct temperature (see nasa_values).
+DEDUPE_MIN = 64
+#: Distinct temperature sets kept with their NASA values (a sweep chunk uses about 5).
+_CACHE_SIZE = 8
+_cache: OrderedDict = OrderedDict()
+#: Temperature arrays without repeats kept with their values (each 4 x 8 B x records x points:
+#: 23 MB for a 65,536-point chunk).
+_CACHE_ALL_SIZE = 2
+_cache_all: OrderedDict = OrderedDict()
+_cache_lock = threading.Lock()
+
+
+@cache
+def _coefficient_table() -> tuple:
+    """Coefficients of every record stacked in one table, rows in _ALL order.
+
+    Returns (names, row of each name, low (K, 7), high (K, 7), t_mid, t_low, t_high, s_shift).
+    """
+    table = species_table()
+    names = GAS_SPECIES + (GRAPHITE,) + tuple(n for n in table if n not in GAS_SPECIES
+                                               and n != GRAPHITE)
+    recs = [table[n] for n in names]
+    arrays = (np.array([r.low for r in recs]), np.array([r.high for r in recs]),
+              np.array([r.t_mid for r in recs]), np.array([r.t_low for r in recs]),
+              np.array([r.t_high for r in recs]), np.array([r.s_shift for r in recs]))
+    for a in arrays:
+        a.setflags(write=False)
+    return (names, {n: i for i, n in enumerate(names)}) + arrays
+
+
+def _evaluate(T: np.ndarray, rows, only: str | None = None) -> dict[str, np.ndarray]:
+    """cp/R, h/RT, s/R and g/RT (or `only` that one) of the records `rows` at 1-D
+    temperatures T, each (k, T.size).
+
+    The same arithmetic, operation for operation, as the formulas in the docstrings of
+    :func:`cp_R`, :func:`h_RT` and :func:`s_R` (low range at T <= t_mid).
+    """
+    _, _, low, high, t_mid, _, _, s_shift = _coefficient_table()
+    rows = np.asarray(rows, dtype=np.intp)
+    upper = T[None, :] > t_mid[rows, None]  # (k, n): high range
+    # One contiguous (k, n) array per coefficient: the arithmetic below then runs on
+    # contiguous memory (several times faster than on strided views of a (k, n, 7) gather).
+    lo, hi = low[rows].T[:, :, None], high[rows].T[:, :, None]  # (7, k, 1)
+    a0, a1, a2, a3, a4, a5, a6 = (np.where(upper, hi[i], lo[i]) for i in range(7))
+    out = {}
+    if only in (None, "cp_R"):
+        out["cp_R"] = a0 + T * (a1 + T * (a2 + T * (a3 + T * a4)))
+    if only in (None, "h_RT", "g_RT"):
+        out["h_RT"] = h = a0 + T * (a1 / 2 + T * (a2 / 3 + T * (a3 / 4 + T * a4 / 5))) + a5 / T
+    if only in (None, "s_R", "g_RT"):
+        out["s_R"] = s = (a0 * np.log(T) + T * (a1 + T * (a2 / 2 + T * (a3 / 3 + T * a4 / 4)))
+                          + a6 + s_shift[rows, None])
+    if only in (None, "g_RT"):
+        out["g_RT"] = h - s
+    return out
+
+
+def _distinct(flat: np.ndarray):
+    """(inverse index or None, values of every record) for a long 1-D temperature array.
+
+    An array that repeats its values (a window's grid) is evaluated once per distinct
+    temperature (values over those, and the inverse index back to the array); any other
+    (an adiabatic stage's iterates) once for all records and functions (inverse None). Both
+    are kept in small caches keyed by the array's bytes, so every variable of a sweep chunk,
+    and every function a solver step needs, shares one evaluation.
+    """
+    key = flat.tobytes()
+    with _cache_lock:
+        for store in (_cache, _cache_all):
+            hit = store.get(key)
+            if hit is not None:
+                store.move_to_end(key)
+                return hit
+    names = _coefficient_table()[0]
+    rows = np.arange(len(names))
+    # Cheap test first: a grid's temperature axis repeats in long runs, so a prefix of a
+    # repeating array repeats too; an array of all-distinct values skips the sort.
+    entry = None
+    if np.unique(flat[:DEDUPE_MIN]).size <= DEDUPE_MIN // 2:
+        Tu, inv = np.unique(flat, return_inverse=True)
+        if Tu.size * 4 <= flat.size:
+            entry, store, size = (inv.reshape(-1), _evaluate(Tu, rows)), _cache, _CACHE_SIZE
+    if entry is None:
+        entry, store, size = (None, _evaluate(flat, rows)), _cache_all, _CACHE_ALL_SIZE
+    with _cache_lock:
+        store[key] = entry
+        while len(store) > size:
+            store.popitem(last=False)
+    return entry
+
+
+def nasa_values(T, names: tuple[str, ...], what: str) -> np.ndarray:
+    """One NASA function of the records `names` at T, shape (len(names),) + shape(T).
+
+    Refuses temperatures outside a species' range (TemperatureRangeError). Long arrays with
+    repeated temperatures are evaluated once per distinct value (:func:`_distinct`); the
+    numbers are the same either way.
+    """
+    T = np.asarray(T, dtype=float)
+    _, row_of, _, _, _, t_low, t_high, _ = _coefficient_table()
+    rows = []
+    for n in names:
+        if n not in row_of:
+            record(n)  # the clear error for an unknown name
+        rows.append(row_of[n])
+    flat = T.reshape(-1)
+    if flat.size:
+        lo_T, hi_T = flat.min(), flat.max()
+        for n, r in zip(names, rows, strict=True):
+            if not (lo_T >= t_low[r] and hi_T <= t_high[r]):
+                record(n)._coeffs(T)  # raises with the usual message
+    shape = (len(rows),) + T.shape
+    if flat.size >= DEDUPE_MIN:
+        inv, vals = _distinct(flat)
+        if inv is None:
+            return vals[what][rows].reshape(shape)
+        # np.take keeps C order (as the direct evaluation): sums over species downstream
+        # then add in the same order either way.
+        return np.take(vals[what][rows], inv, axis=1).reshape(shape)
+    return _evaluate(flat, rows, what)[what].reshape(shape)
+
+
 def cp_R(T, name: str) -> np.ndarray:
     r"""Dimensionless heat capacity cp/R of one species.
 
@@ -178,9 +302,7 @@ def cp_R(T, name: str) -> np.ndarray:
     >>> round(float(cp_R(1000.0, "CO2") * 8.314462618), 1)
     54.3
     """
-    T = np.asarray(T, dtype=float)
-    a = record(name)._coeffs(T)
-    return a[..., 0] + T * (a[..., 1] + T * (a[..., 2] + T * (a[..., 3] + T * a[..., 4])))
+    return nasa_values(T, (name,), "cp_R")[0]
 
 
 def h_RT(T, name: str) -> np.ndarray:
@@ -198,13 +320,7 @@ def h_RT(T, name: str) -> np.ndarray:
     >>> round(float(h_RT(298.15, "CO2") * 8.314462618 * 298.15 / 1000), 1)
     -393.5
     """
-    T = np.asarray(T, dtype=float)
-    a = record(name)._coeffs(T)
-    return (
-        a[..., 0]
-        + T * (a[..., 1] / 2 + T * (a[..., 2] / 3 + T * (a[..., 3] / 4 + T * a[..., 4] / 5)))
-        + a[..., 5] / T
-    )
+    return nasa_values(T, (name,), "h_RT")[0]
 
 
 def s_R(T, name: str) -> np.ndarray:
@@ -222,20 +338,12 @@ def s_R(T, name: str) -> np.ndarray:
     >>> round(float(s_R(298.15, "CO2") * 8.314462618), 2)
     213.79
     """
-    T = np.asarray(T, dtype=float)
-    rec = record(name)
-    a = rec._coeffs(T)
-    return (
-        a[..., 0] * np.log(T)
-        + T * (a[..., 1] + T * (a[..., 2] / 2 + T * (a[..., 3] / 3 + T * a[..., 4] / 4)))
-        + a[..., 6]
-        + rec.s_shift
-    )
+    return nasa_values(T, (name,), "s_R")[0]
 
 
 def g_RT(T, name: str) -> np.ndarray:
     """Dimensionless standard Gibbs energy g°/(RT) = h/(RT) - s°/R at P_REF (1 bar) [-]."""
-    return h_RT(T, name) - s_R(T, name)
+    return nasa_values(T, (name,), "g_RT")[0]
 
 
 def molar_mass(name: str) -> float:
@@ -272,8 +380,9 @@ def gas_table(T, what: str = "g_RT") -> np.ndarray:
     what : {"g_RT", "h_RT", "s_R", "cp_R"}
         Which function.
     """
-    fn = {"g_RT": g_RT, "h_RT": h_RT, "s_R": s_R, "cp_R": cp_R}[what]
-    return np.stack([fn(T, n) for n in GAS_SPECIES])
+    if what not in ("g_RT", "h_RT", "s_R", "cp_R"):
+        raise KeyError(f"unknown NASA function {what!r}; known: g_RT, h_RT, s_R, cp_R")
+    return nasa_values(T, GAS_SPECIES, what)
 
 
 def graphite_mu_RT(T, P) -> np.ndarray:

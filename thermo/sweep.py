@@ -230,17 +230,30 @@ def feasible_mask(ds: xr.Dataset, limits) -> xr.DataArray:
     """Points meeting every review limit of `limits` (a thermo.scenario.Limits), checked on
     the variables of :data:`LIMIT_VARIABLES`."""
     v = LIMIT_VARIABLES
-    ok = ds["converged"].astype(bool)
+    conv = ds["converged"]
+    checks = []
     if limits.max_methane_slip_dry is not None:
-        ok = ok & (ds[v["max_methane_slip_dry"]] <= limits.max_methane_slip_dry)
+        checks.append((v["max_methane_slip_dry"], np.less_equal, limits.max_methane_slip_dry))
     if limits.carbon_free:
-        ok = ok & ds[v["carbon_free"]].astype(bool)
+        checks.append((v["carbon_free"], lambda a, _limit: np.asarray(a, dtype=bool), None))
     if limits.min_h2_yield is not None:
-        ok = ok & (ds[v["min_h2_yield"]] >= limits.min_h2_yield)
+        checks.append((v["min_h2_yield"], np.greater_equal, limits.min_h2_yield))
     if limits.max_duty is not None:
-        ok = ok & (ds[v["max_duty"]] <= limits.max_duty)
+        checks.append((v["max_duty"], np.less_equal, limits.max_duty))
     if getattr(limits, "max_fired_duty", None) is not None and v["max_fired_duty"] in ds:
-        ok = ok & (ds[v["max_fired_duty"]] <= limits.max_fired_duty)
+        checks.append((v["max_fired_duty"], np.less_equal, limits.max_fired_duty))
+    if all(set(ds[name].dims) == set(conv.dims) for name, _, _ in checks):
+        # On the numpy arrays where every variable has the same dims (as in a sweep):
+        # xarray's aligned operators cost more than the comparisons themselves.
+        ok = conv.values.astype(bool)
+        with np.errstate(invalid="ignore"):
+            for name, op, limit in checks:
+                ok = ok & op(ds[name].transpose(*conv.dims).values, limit)
+        ok = xr.DataArray(ok, dims=conv.dims, coords=conv.coords)
+    else:
+        ok = conv.astype(bool)
+        for name, op, limit in checks:
+            ok = ok & op(ds[name], limit)
     ok.attrs = {"units": "1", "long_name": "all review limits met"}
     return ok
 
@@ -338,7 +351,9 @@ def assemble(scenario: Scenario, results: list[dict[str, np.ndarray]]) -> xr.Dat
     axes = window_axes(scenario)
     dims = list(axes)
     shape = tuple(len(v) for v in axes.values())
-    flat = {k: np.concatenate([r[k] for r in results]) for k in results[0]}
+    flat = {k: (np.concatenate([r[k] for r in results]) if len(results) > 1 else results[0][k])
+            for k in results[0]}
+    flat["converged"] = flat["converged"].astype(bool)
     local = {k[len(_CARBON_LOCAL):]: flat.pop(k) for k in list(flat)
              if k.startswith(_CARBON_LOCAL)}
     flat.update(carbon.window_check(scenario, local, axes))
@@ -361,7 +376,6 @@ def assemble(scenario: Scenario, results: list[dict[str, np.ndarray]]) -> xr.Dat
     for k, (_, u, ln) in PLANT_VARIABLES.items():
         if k in ds:
             ds[k].attrs = {"units": u, "long_name": ln}
-    ds["converged"] = ds["converged"].astype(bool)
     ds["converged"].attrs = {"units": "1", "long_name": _VARIABLES["converged"][1]}
     ds["carbon_verdict_ln_activity"].attrs["reference"] = scenario.carbon.reference
     ds["carbon_binding"].attrs.update(

@@ -51,11 +51,11 @@ from thermo.balances import (
     per_point,
     reformer_balance,
 )
-from thermo.constants import R
+from thermo.constants import P_REF, R
 from thermo.equilibrium import equilibrate
 from thermo.extent import SHIFT, delta_g_RT
 from thermo.scenario import STAGE_NAMES, SecondaryReformer, Train
-from thermo.species import GAS_SPECIES, formula_matrix, gas_table
+from thermo.species import GAS_SPECIES, GRAPHITE, cp_R, formula_matrix, gas_table, h_RT, record
 
 _I = {s: i for i, s in enumerate(GAS_SPECIES)}
 
@@ -240,13 +240,17 @@ def shift_equilibrium(gas_flow, temperature) -> np.ndarray:
 
 
 def adiabatic_equilibrium(gas_flow, inlet_enthalpy, pressure, approach=0.0,
-                          bounds=(350.0, 2800.0), guess=None, max_iterations: int = 200):
+                          bounds=(350.0, 2800.0), guess=None, max_iterations: int = 200,
+                          warm_start=None):
     """Outlet temperature and composition of adiabatic equilibrium stages, N at once.
 
     Finds T with H_out(T) = H_in, where the outlet is the Gibbs equilibrium (graphite
-    allowed) at T - approach and its enthalpy is taken at T. From a `guess`, secant steps
-    (the first with the frozen heat capacity) converge most points in a few equilibrium
-    solves, each warm-started from the last; any point they do not settle, and every point
+    allowed) at T - approach and its enthalpy is taken at T. From a `guess`, a Newton step
+    with the equilibrium heat capacity as the derivative (:func:`equilibrium_heat_capacity`,
+    analytic) and secant steps after it converge most points in a few equilibrium solves,
+    each warm-started
+    from the last (the first from `warm_start` if given); any point they do not settle, and
+    every point
     without a guess, is solved by the Illinois variant of regula falsi inside `bounds`
     (bisection where it stalls). H_out rises with T (the equilibrium heat capacity is
     positive), so the root in the bracket is unique.
@@ -265,6 +269,9 @@ def adiabatic_equilibrium(gas_flow, inlet_enthalpy, pressure, approach=0.0,
         Bracket of the outlet temperature [K].
     guess : array_like (N,), optional
         A first estimate of the outlet temperature [K].
+    warm_start : array_like (N, E), optional
+        Element potentials to start the first equilibrium solve from (see
+        :func:`~thermo.equilibrium.equilibrate`; NaN entries: elements the start lacks).
 
     Returns
     -------
@@ -288,12 +295,17 @@ def adiabatic_equilibrium(gas_flow, inlet_enthalpy, pressure, approach=0.0,
         eq = equilibrate(T - dT[idx], P[idx], b_el[idx], warm_start=warm)
         return outlet_enthalpy(eq.moles, eq.carbon, T, P[idx]) - H_in[idx], eq
 
+    def slope(T, idx, eq):
+        return equilibrium_heat_capacity(eq.moles, eq.carbon, T, T - dT[idx], P[idx])
+
     T = np.full(N, np.nan)
     warm = np.zeros_like(b_el)
+    if warm_start is not None:
+        warm[:] = warm_start
     done = np.zeros(N, dtype=bool)
     if guess is not None:
-        done = _secant(residual, np.clip(per_point(guess, N), lo, hi), lo, hi, tol,
-                       T, warm)
+        done = _newton(residual, slope, np.clip(per_point(guess, N), lo, hi), lo, hi, tol,
+                       T, warm, warm_start is not None)
     rest = np.flatnonzero(~done)
     ok = done.copy()
     if rest.size:
@@ -307,39 +319,126 @@ def adiabatic_equilibrium(gas_flow, inlet_enthalpy, pressure, approach=0.0,
     return np.where(ok, Tf, np.nan), eq, ok
 
 
-def _secant(residual, T0, lo, hi, tol, T, warm, steps: int = 12) -> np.ndarray:
-    """Secant steps from T0 on every point; fills T and warm, returns the settled points."""
+def equilibrium_heat_capacity(moles, carbon, T, T_eq, P) -> np.ndarray:
+    r"""d H_out / d T of gas (and graphite) kept at equilibrium at fixed P and elements [W K-1].
+
+    The outlet is the equilibrium at T_eq = T - approach (the approach fixed) and its
+    enthalpy is taken at T. With :math:`\ln x_j = a_j\cdot\lambda - c_j`,
+    :math:`c_j = g_j/RT + \ln(P/P^\circ)` and :math:`dc_j/dT = -h_j/(RT^2)` (Gibbs-Helmholtz),
+    the element balances :math:`\sum_j a_{je} n_j = b_e` and :math:`\sum_j x_j = 1` give a
+    linear system in :math:`d\lambda/dT` and :math:`d\ln N/dT` (with graphite, its carbon
+    potential fixes :math:`d\lambda_C/dT = -\tilde h_{gr}/(RT^2)`, :math:`\tilde h_{gr}`
+    including :math:`v(P - P^\circ)`, and the graphite's rate of change is the extra unknown);
+    then :math:`dH/dT = \sum_j n_j c_{p,j} + \sum_j h_j\,dn_j/dT + c_{p,gr} n_{gr} +
+    \tilde h_{gr}\,dn_{gr}/dT` (Smith & Missen 1982 [SMITH-MISSEN1982], ch. 2, for the
+    element-potential form).
+
+    Parameters
+    ----------
+    moles : ndarray (N, S)
+        Equilibrium gas [mol s-1].
+    carbon : ndarray (N,)
+        Graphite [mol s-1].
+    T, T_eq, P : ndarray (N,)
+        Enthalpy temperature, equilibrium temperature [K], pressure [Pa].
+    """
+    n = np.asarray(moles, dtype=float)
+    N, S = n.shape
+    A = formula_matrix()  # (S, E)
+    E = A.shape[1]
+    iC = 0
+    gr = record(GRAPHITE)
+    # Per-point quantities over RT at T_eq (derivative of the composition) and at T (enthalpy).
+    h_eq = gas_table(T_eq, "h_RT").T  # (N, S), h/RT at T_eq
+    dc = -h_eq / T_eq[:, None]  # dc_j/dT
+    h_gr_eq = h_RT(T_eq, GRAPHITE) + gr.molar_volume * (P - gr.standard_pressure) / (R * T_eq)
+    total = n.sum(axis=1)
+    x = n / total[:, None]
+    has_c = np.asarray(carbon) > 0.0
+    present = (n @ A) > 0.0  # (N, E): elements of the gas
+    present[:, iC] |= has_c
+    # Unknowns: dlambda_e/dT (E), dlnN/dT, dn_gr/dT.
+    M = np.zeros((N, E + 2, E + 2))
+    rhs = np.zeros((N, E + 2))
+    AA = (A[:, :, None] * A[:, None, :]).reshape(S, E * E)  # a_je a_jf per species
+    M[:, :E, :E] = (n @ AA).reshape(N, E, E)
+    M[:, :E, E] = n @ A
+    M[:, iC, E + 1] = 1.0
+    rhs[:, :E] = (n * dc) @ A
+    M[:, E, :E] = x @ A
+    rhs[:, E] = (x * dc).sum(axis=1)
+    # Last row: graphite present -> its potential fixes dlambda_C; absent -> dn_gr = 0.
+    M[has_c, E + 1, iC] = 1.0
+    rhs[has_c, E + 1] = -h_gr_eq[has_c] / T_eq[has_c]
+    M[~has_c, E + 1, E + 1] = 1.0
+    # Elements absent from a point: their row and column are zero; pin the unknown to 0.
+    keep = np.ones((N, E + 2))
+    keep[:, :E] = present
+    M *= keep[:, :, None] * keep[:, None, :]
+    diag = np.arange(E)
+    M[:, diag, diag] += 1.0 - keep[:, :E]
+    rhs *= keep
+    # Row scaling by the element rows' magnitude keeps the system well conditioned.
+    scale = np.abs(M).max(axis=2)
+    scale[scale == 0] = 1.0
+    y = np.linalg.solve(M / scale[:, :, None], (rhs / scale)[..., None])[..., 0]
+    dlnn = A @ y[:, :E].T  # (S, N)
+    dn = n * (dlnn.T - dc + y[:, E:E + 1])  # (N, S)
+    h_T = gas_table(T, "h_RT").T * (R * T)[:, None]  # J mol-1 at T
+    cp_T = gas_table(T, "cp_R").T * R
+    h_gr_T = h_RT(T, GRAPHITE) * R * T + gr.molar_volume * (P - gr.standard_pressure)
+    cp_gr = cp_R(T, GRAPHITE) * R
+    return (np.einsum("ns,ns->n", n, cp_T) + np.einsum("ns,ns->n", h_T, dn)
+            + np.asarray(carbon) * cp_gr + h_gr_T * y[:, E + 1])
+
+
+def _newton(residual, slope, T0, lo, hi, tol, T, warm, warm_first, steps: int = 12):
+    """Steps on the enthalpy balance from T0: Newton with the equilibrium heat capacity
+    (:func:`equilibrium_heat_capacity`) first, then secant steps (each point's last two
+    residuals; Newton again where the secant slope is not positive). Fills T and warm and
+    returns the settled points (the others are left to the bracketed solve)."""
     N = T0.size
     idx = np.arange(N)
-    f0, eq = residual(T0, idx)
+    f, eq = residual(T0, idx, warm if warm_first else None)
     warm[:] = eq.element_potentials
-    # First step: Newton with the frozen heat capacity of the equilibrium gas at T0.
-    cp = np.einsum("ns,sn->n", eq.moles, gas_table(T0, "cp_R")) * R
-    T1 = np.clip(T0 - f0 / np.maximum(cp, 1e-30), lo, hi)
-    done = np.abs(f0) <= tol
-    T[done] = T0[done]
-    a, fa, b = T0.copy(), f0.copy(), T1.copy()
-    # Points still iterated: not settled, and neither stalled nor failed (those are left to
-    # the bracketed solve).
-    active = ~done & np.isfinite(f0)
-    for _ in range(steps):
-        idx = np.flatnonzero(active)
-        if idx.size == 0:
-            break
-        fb, eq = residual(b[idx], idx, warm[idx])
-        warm[idx] = eq.element_potentials
-        settled = np.abs(fb) <= tol[idx]
+    b = T0.copy()
+    prev_T = np.full(N, np.nan)
+    prev_f = np.full(N, np.nan)
+    done = np.zeros(N, dtype=bool)
+    active = np.isfinite(f) & eq.converged
+    for k in range(steps + 1):
+        settled = active & (np.abs(f) <= tol[idx])
         T[idx[settled]] = b[idx[settled]]
         done[idx[settled]] = True
-        den = fb - fa[idx]
+        active &= ~settled
+        if k == steps or not active.any():
+            break
+        sub = np.flatnonzero(active)
+        at = idx[sub]
         with np.errstate(invalid="ignore", divide="ignore"):
-            step = np.where(den != 0, fb * (b[idx] - a[idx]) / den, 0.0)
-        new = np.clip(b[idx] - step, lo[idx], hi[idx])
-        stalled = (new == b[idx]) | ~np.isfinite(new) | ~np.isfinite(fb)
-        a[idx], fa[idx] = b[idx], fb
-        b[idx] = new
-        active[idx] = ~settled & ~stalled
+            d = (f[sub] - prev_f[at]) / (b[at] - prev_T[at])
+            newton = ~(np.isfinite(d) & (d > 0))
+            if newton.any():
+                d[newton] = slope(b[at[newton]], at[newton], _subset(eq, sub[newton]))
+            new = np.clip(b[at] - f[sub] / d, lo[at], hi[at])
+        ok = np.isfinite(new) & (d > 0) & (new != b[at])
+        prev_T[at], prev_f[at] = b[at], f[sub]
+        idx = at[ok]
+        b[idx] = new[ok]
+        if idx.size == 0:
+            break
+        f, eq = residual(b[idx], idx, warm[idx])
+        warm[idx] = eq.element_potentials
+        active = np.isfinite(f) & eq.converged
     return done
+
+
+def _subset(eq, k):
+    """The EquilibriumResult `eq` at the points `k`."""
+    return dataclasses.replace(eq, moles=eq.moles[k], carbon=eq.carbon[k],
+                               ln_carbon_activity=eq.ln_carbon_activity[k],
+                               element_potentials=eq.element_potentials[k],
+                               converged=eq.converged[k], iterations=eq.iterations[k])
 
 
 def _illinois(residual, idx, lo, hi, tol, T, warm, max_iterations) -> np.ndarray:
@@ -405,7 +504,7 @@ def _pre_reformer(feed, P, T_in, N):
     return (Tout[inv], eq.moles[inv], eq.carbon[inv], ok[inv], H_u[inv])
 
 
-def _secondary(sec: SecondaryReformer, gas, T_gas, P, hc_carbon):
+def _secondary(sec: SecondaryReformer, gas, T_gas, P, hc_carbon, warm_start=None):
     """Adiabatic secondary reformer: the primary's gas at T plus the oxidant."""
     N = gas.shape[0]
     ox = sec.oxidant_flows(hc_carbon).T  # (N, S)
@@ -414,9 +513,40 @@ def _secondary(sec: SecondaryReformer, gas, T_gas, P, hc_carbon):
     mixed = gas + ox
     dT = np.full(N, sec.approach)
     lo = np.maximum(np.minimum(T_gas, T_ox) - 400.0, 350.0)
-    T, eq, ok = adiabatic_equilibrium(mixed, H_in, P, dT, bounds=(lo, T_MAX),
-                                      guess=np.maximum(T_gas, lo))
+    T0 = np.maximum(T_gas, lo)
+    warm = _complete_potentials(warm_start, mixed, T0 - dT, P) if warm_start is not None \
+        else None
+    T, eq, ok = adiabatic_equilibrium(mixed, H_in, P, dT, bounds=(lo, T_MAX), guess=T0,
+                                      warm_start=warm)
     return T, eq, ok, ox, H_in
+
+
+def _complete_potentials(lam, gas, T, P):
+    """Element potentials of a neighbouring state, with those of elements it lacked (NaN)
+    estimated from the gas's most abundant species holding them, as if that species were at
+    equilibrium with the rest: lambda_e = (ln x_j + c_j - sum_f a_jf lambda_f) / a_je.
+
+    A start for :func:`~thermo.equilibrium.equilibrate`; elements with no such species stay
+    NaN (the solver then starts those points from its basis guesses)."""
+    lam = np.array(lam, dtype=float)
+    A = formula_matrix()
+    x = gas / gas.sum(axis=1, keepdims=True)
+    with np.errstate(divide="ignore"):
+        c = gas_table(T, "g_RT").T + np.log(P / P_REF)[:, None] + np.log(x)  # (N, S)
+    for e in range(A.shape[1]):
+        miss = np.flatnonzero(np.isnan(lam[:, e]))
+        if miss.size == 0:
+            continue
+        holders = np.flatnonzero(A[:, e] > 0)
+        j = holders[np.argmax(gas[np.ix_(miss, holders)], axis=1)]
+        others = A[j].copy()
+        others[:, e] = 0.0
+        with np.errstate(invalid="ignore"):
+            rest = np.nansum(others * lam[miss], axis=1)
+            est = (c[miss, j] - rest) / A[j, e]
+        good = np.isfinite(est) & (gas[miss, j] > 0)
+        lam[miss[good], e] = est[good]
+    return lam
 
 
 def train_balance(
@@ -484,7 +614,7 @@ def train_balance(
     slip = bal.methane_slip_dry
     sec = train.secondary_reformer
     if sec is not None:
-        T_sec, eq, ok, ox, H_in = _secondary(sec, gas, T_gas, P, hc)
+        T_sec, eq, ok, ox, H_in = _secondary(sec, gas, T_gas, P, hc, bal.element_potentials)
         T_eval = np.where(ok, T_sec, T_gas)
         h_out = outlet_enthalpy(eq.moles, eq.carbon, T_eval, P)
         stages.append(StageResult("secondary_reformer", gas + ox, ox, T_gas, T_sec,

@@ -20,6 +20,17 @@ Run on its own (not collected by pytest)::
     thermo.load_scenario()); print(time.time()-t)"`` (one untimed run first, then the median
     of 3), against the time a Cantera gas + graphite loop over the same points takes here.
 
+(d) The reference loop of the README's headline: on the 40 x 20 x 20 window of issue 17
+    (500-1000 degC, 1-40 bar, S/C 0.5-5, demo feed: 16,000 points), every point through
+    Cantera's gas-phase ``equilibrate('TP')`` first, and the multiphase (gas + graphite, VCS)
+    solver only where the gas's carbon activity says graphite is stable (ln a_C > 0, with
+    mu_C of the gas from mu_CH4 - 2 mu_H2 and graphite's mu at T, P); as a careful Cantera
+    user would write it. Same points (T minus the approach) and the same species data. Timed
+    on all 16,000 points, interleaved with ``thermo.sweep`` of the same window (medians of
+    the passes); also the equilibrium kernel alone on the same points (rows of S/C, both
+    cores) as a fraction of the estimated physical limit (1e6 points/s on two cores, issue
+    17), and a cProfile of one sweep: where the rest of the time goes.
+
 Figures only: nothing here asserts a time.
 """
 
@@ -33,9 +44,11 @@ if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
 import argparse  # noqa: E402
+import cProfile  # noqa: E402
 import json  # noqa: E402
 import os  # noqa: E402
 import platform  # noqa: E402
+import pstats  # noqa: E402
 import resource  # noqa: E402
 import statistics  # noqa: E402
 import subprocess  # noqa: E402
@@ -45,12 +58,25 @@ import numba  # noqa: E402
 import numpy as np  # noqa: E402
 
 import thermo  # noqa: E402
-from tests.benchmarks.bench_solver import CanteraLoop, Window, code_version  # noqa: E402
-from thermo.equilibrium import kernel_is_cached  # noqa: E402
+from tests.benchmarks.bench_solver import (  # noqa: E402
+    CanteraLoop,
+    Window,
+    code_version,
+    quiet_stdout,
+)
+from thermo.constants import R  # noqa: E402
+from thermo.equilibrium import equilibrate, kernel_is_cached  # noqa: E402
+from thermo.species import GAS_SPECIES, formula_matrix  # noqa: E402
 
 SEED = 2468
 WINDOW = dict(temperature=("650 degC", "950 degC", 40), pressure=("5 bar", "40 bar", 20),
               steam_to_carbon=(1.5, 5.0, 20))
+#: The window of issue 17 and of the headline ratio (demo feed; 1,711 carbon points there).
+REFERENCE_WINDOW = dict(temperature=("500 degC", "1000 degC", 40), pressure=("1 bar", "40 bar", 20),
+                        steam_to_carbon=(0.5, 5.0, 20))
+#: Estimated physical limit of the equilibrium on two cores [points/s] (issue 17: 10 species,
+#: 5 elements, about 5 warm Newton iterations of a 5 x 5 solve and 10 exp() each).
+PHYSICAL_LIMIT = 1e6
 CARBON_CALL = 1e-9  # graphite above this fraction of the carbon fed counts as "carbon forms"
 
 BIG_CHILD = """
@@ -175,11 +201,90 @@ def part_c(runs: int = 3) -> dict:
                 carbon_pts=carbon_pts, failures=loop.failures)
 
 
+class CarefulLoop:
+    """Cantera as a careful user would loop it: gas-phase equilibrium first, then the
+    multiphase solver only where the equilibrated gas is supersaturated in carbon."""
+
+    def __init__(self):
+        self.mix = CanteraLoop(carbon=True)
+        self.gas = self.mix.gas
+        self.graphite = self.mix.graphite
+        self.iCH4 = GAS_SPECIES.index("CH4")
+        self.iH2 = GAS_SPECIES.index("H2")
+
+    def run(self, w: Window, idx: np.ndarray):
+        """x (M, S), graphite per mol fed (M,), time [s], graphite-stable mask (M,)."""
+        gas, gr, ct = self.gas, self.graphite, self.mix.ct
+        x = np.empty((idx.size, len(GAS_SPECIES)))
+        c = np.zeros(idx.size)
+        stable = np.zeros(idx.size, dtype=bool)
+        t0 = time.perf_counter()
+        for k, i in enumerate(idx):
+            T, P, inlet = w.T[i], w.P[i], w.inlet[i]
+            gas.TPX = T, P, inlet / inlet.sum()
+            try:
+                gas.equilibrate("TP")
+            except ct.CanteraError:
+                self.mix.failures += 1
+                x[k] = np.nan
+                continue
+            mu = gas.chemical_potentials  # J kmol-1, at T, P and the composition
+            gr.TP = T, P
+            ln_ac = (mu[self.iCH4] - 2.0 * mu[self.iH2] - gr.chemical_potentials[0]) / (
+                R * 1000.0 * T)
+            if ln_ac > 0.0:
+                stable[k] = True
+                x[k], c[k], _ = self.mix.solve(T, P, inlet)
+            else:
+                x[k] = gas.X
+        return x, c, time.perf_counter() - t0, stable
+
+
+def part_d(passes: int = 3) -> dict:
+    sc = thermo.load_scenario().with_window(**REFERENCE_WINDOW)
+    ds = thermo.sweep(sc)
+    n = int(ds.converged.size)
+    w = window_points(ds)
+    idx = np.arange(n)
+    loop = CarefulLoop()
+    b = w.inlet @ formula_matrix()
+    t_ours, t_ref, t_kern = [], [], []
+    for _ in range(passes):
+        t0 = time.perf_counter()
+        ds = thermo.sweep(sc)
+        t_ours.append(time.perf_counter() - t0)
+        t0 = time.perf_counter()
+        res = equilibrate(w.T, w.P, b, row=ds.sizes["steam_to_carbon"])
+        t_kern.append(time.perf_counter() - t0)
+        loop.mix.failures = 0
+        with quiet_stdout():
+            x_ct, c_ct, t, stable = loop.run(w, idx)
+        t_ref.append(t)
+    dx, compared, agree, carbon_pts = compare(ds, w, idx, x_ct, c_ct)
+    prof = cProfile.Profile()
+    prof.enable()
+    thermo.sweep(sc)
+    prof.disable()
+    st = pstats.Stats(prof)
+    total = st.total_tt
+    rows = []
+    for (file, line, fn), (_, _, tt, ct_, _) in st.stats.items():
+        rows.append((ct_, tt, f"{Path(file).name}:{line}({fn})"))
+    rows.sort(reverse=True)
+    t_ours, t_ref, t_kern = (statistics.median(v) for v in (t_ours, t_ref, t_kern))
+    return dict(n=n, t_ours=t_ours, t_ref=t_ref, t_kern=t_kern, passes=passes,
+                kern_conv=int(res.converged.sum()), stable=int(stable.sum()), dx=dx,
+                compared=compared, agree=agree, carbon_pts=carbon_pts,
+                failures=loop.mix.failures, profile_total=total, profile=rows[:40])
+
+
 def main(argv=None) -> None:
     ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     ap.add_argument("--sample", type=int, default=2000, help="Cantera points in (a)")
     ap.add_argument("--big", type=int, default=100, help="points per axis in (b)")
     ap.add_argument("--skip-big", action="store_true", help="leave out (b)")
+    ap.add_argument("--only-reference", action="store_true",
+                    help="run only (d): the careful Cantera loop, kernel and profile")
     args = ap.parse_args(argv)
     import cantera
 
@@ -190,6 +295,34 @@ def main(argv=None) -> None:
           f"{cantera.__version__}; numba kernel cached at start: {kernel_is_cached()}")
     print(f"  code: {code_version()}; load average at start {os.getloadavg()[0]:.2f}")
     rng = np.random.default_rng(SEED)
+    thermo.sweep(thermo.load_scenario())  # kernel load, untimed
+
+    print("\n(d) reference: careful Cantera loop (gas TP first, multiphase only where graphite "
+          "is stable),\n    500-1000 degC x 1-40 bar x S/C 0.5-5 (40 x 20 x 20), demo feed ...",
+          flush=True)
+    d = part_d()
+    print(f"  medians of {d['passes']} interleaved passes over all {d['n']:,} points")
+    for name, t in (("thermo.sweep (every Dataset variable), all cores", d["t_ours"]),
+                    ("equilibrium kernel alone (equilibrate, rows of S/C), all cores",
+                     d["t_kern"]),
+                    ("Cantera careful loop (gas TP, then Mixture/VCS where a_C > 1)",
+                     d["t_ref"])):
+        print(f"  {name:<66} {t:>7.3f} s {d['n'] / t:>10,.0f} points/s "
+              f"{d['t_ref'] / t:>6.1f}x")
+    print(f"  headline: sweep / careful loop = {d['t_ref'] / d['t_ours']:.1f}x; kernel alone "
+          f"{d['n'] / d['t_kern']:,.0f} points/s = {d['n'] / d['t_kern'] / PHYSICAL_LIMIT:.2f} "
+          f"of the estimated limit ({PHYSICAL_LIMIT:,.0f} points/s); kernel share of the sweep "
+          f"{d['t_kern'] / d['t_ours']:.0%}")
+    print(f"  Cantera: graphite stable at {d['stable']:,} points (multiphase solved there); "
+          f"unsolved {d['failures']}; max |dx| vs sweep {d['dx']:.1e} over "
+          f"{d['compared']:,} points; carbon call agrees at {d['agree']:,} "
+          f"({d['carbon_pts']} carbon points)")
+    print(f"  profile of one sweep ({d['profile_total']:.3f} s under cProfile), cumulative "
+          "time of the largest entries:")
+    for cum, tt, name in d["profile"][:25]:
+        print(f"    {cum:>7.3f} s cum {tt:>7.3f} s own  {name}")
+    if args.only_reference:
+        return
 
     print("\n(a) sweep throughput, demo feed, 650-950 degC x 5-40 bar x S/C 1.5-5 "
           "(40 x 20 x 20) ...", flush=True)
