@@ -1,6 +1,7 @@
 """The plant around the reformer in real headless Chromium: the served app and the offline
-review file show the specific-energy map and, for a clicked point, the plant table with the
-core's numbers (thermo.point; tables rendered by explorer.tables)."""
+review file show the specific-energy map, the best point by least net specific energy (the
+default objective with a [plant] table; thermo.best_point) and, for a clicked point, the plant
+table with the core's numbers (thermo.point; tables rendered by explorer.tables)."""
 
 from __future__ import annotations
 
@@ -11,6 +12,7 @@ from pathlib import Path
 import pytest
 
 import thermo
+from explorer.limits_report import best_summary
 from explorer.tables import balance_html, plant_html
 from tests.explorer.helpers import FIND_PIXEL, offline, served_app, table_cells
 
@@ -28,6 +30,13 @@ def plant_scenario():
 
 def _core(sc):
     return thermo.point(sc, temperature="880 degC", pressure="25 bar", steam_to_carbon=3.0)
+
+
+def _best_words(sc):
+    """The sentence the page states for the best point: least specific energy, core's value."""
+    bp = thermo.best_point(sc, with_margins=False)
+    assert bp.objective.name == "specific_energy" and bp.feasible
+    return best_summary(bp)
 
 
 def _title(page, name):
@@ -50,6 +59,9 @@ def test_app_shows_the_specific_energy_map_and_the_plant_table(page, artifacts):
         page.wait_for_function(f"() => ({FIND_PIXEL})(['map-0', 880, 25]) !== null",
                                timeout=30000)
         assert "Net specific energy" in _title(page, "map-1")
+        best = page.locator('[data-role="best-point"]', has_text="Best point for").first
+        best.wait_for(timeout=60000)
+        assert best.text_content().strip() == _best_words(sc)
         _click(page, "map-0", 880.0, 25.0)
         page.get_by_text("880.0 degC, 25.000 bar abs, S/C 3").wait_for(timeout=20000)
         page.get_by_text("Plant: furnace, purification and steam").first.wait_for(
@@ -93,6 +105,8 @@ def test_review_file_shows_the_specific_energy_map_and_the_plant_table(page, rev
     # The sheet states the assumptions and the plant table at the design point.
     body = page.content()
     assert "Plant around the reformer: assumptions" in body
+    assert page.locator('[data-role="best-point"]').first.text_content().strip() == \
+        _best_words(sc)
     assert "(default, common practice)" in body
     _click(page, "map-0", 880.0, 25.0)
     page.wait_for_function("() => Bokeh.documents[0].get_model_by_name('balance-div')"
