@@ -112,6 +112,7 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
             state.set_proposal(proposal, background=False)
     else:
         def start():
+            state.background_best = True
             state.solve_in_background()
             if proposal is not None:
                 state.set_proposal(proposal)

@@ -96,7 +96,7 @@ class MapsView:
         self.left.param.watch(lambda e: setattr(state, "left", e.new), "value")
         self.right.param.watch(lambda e: setattr(state, "right", e.new), "value")
         state.param.watch(self._rebuild, ["dataset", "mode", "left", "right"])
-        state.param.watch(self._redraw_slices, ["fixed", "objective"])
+        state.param.watch(self._redraw_slices, ["fixed", "objective", "best_version"])
         state.param.watch(self._mark_selected, ["selected"])
         state.param.watch(self._progress, ["busy", "progress", "status"])
         self._progress()
@@ -614,7 +614,8 @@ class SummaryView:
                                  "margins (open)", collapsed=True,
                                  sizing_mode="stretch_width")
         state.param.watch(self._update, ["dataset", "scenario"])
-        state.param.watch(self._update_best, ["dataset", "scenario", "objective"])
+        state.param.watch(self._update_best, ["dataset", "scenario", "objective",
+                                              "best_version"])
         self._update()
         self._update_best()
 
@@ -657,16 +658,17 @@ class SummaryView:
         s = self.state
         bp = s.best_point()
         if bp is None:
-            self.best.object = "<p>Solving the window ...</p>"
+            self.best.object = "<p>Finding the best point ...</p>"
             self.best_balance.object = ""
             return
         self.best.object = str(html('<p class="rw-summary" data-role="best-point">{}</p>',
                                     best_summary(bp)))
         if bp.feasible:
             d = bp.point.to_dict()
-            self.best_balance.object = (str(margins_html(bp.margins))
+            self.best_balance.object = ('<div data-role="best-balance">'
+                                        + str(margins_html(bp.margins))
                                         + verdict_html(d, s.scenario.limits)
-                                        + balance_html(d))
+                                        + balance_html(d) + "</div>")
         else:
             self.best_balance.object = ""
 

@@ -37,8 +37,10 @@ def _click(page, x, y):
 
 
 def _balance_rows(page):
-    # The balance's tables (the summary's margin tables carry a data-table name).
-    html = page.locator("table.rw-table:not([data-table])").first.evaluate(
+    # The selected point's balance tables: not the summary's margin tables (named by
+    # data-table) nor the best point's balance (inside data-role="best-balance").
+    html = page.locator('table.rw-table:not([data-table]):not([data-role="best-balance"] '
+                        'table)').first.evaluate(
         "t => t.closest('div').innerHTML")
     return table_cells(html)
 
