@@ -139,6 +139,7 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
             state.set_proposal(proposal, background=False)
     else:
         def start():
+            state.background_best = True
             poll_while_working(state)
             if state.dataset is None:
                 state.solve_in_background()

@@ -69,6 +69,7 @@ class ExplorerState(param.Parameterized):
     compare_status = param.String(default="")
     objective = param.Selector(default=DEFAULT_OBJECTIVE, objects=list(OBJECTIVES),
                                doc="what the best point makes best (thermo.edges.OBJECTIVES)")
+    best_version = param.Integer(default=0, doc="changes when a best point is published")
     typed = param.Boolean(default=False,
                           doc="the selected point was typed (exact), not clicked (grid node)")
 
@@ -96,6 +97,10 @@ class ExplorerState(param.Parameterized):
         self._best: tuple = (None, None)
         self._margins: tuple = (None, None)
         self._dataset_key = None
+        #: Find the best point in a worker thread (served app) instead of in the caller.
+        self.background_best = False
+        self._best_thread: threading.Thread | None = None
+        self._best_pending: tuple | None = None
 
     # -- solving -----------------------------------------------------------------------
     def solve_now(self) -> None:
@@ -140,7 +145,9 @@ class ExplorerState(param.Parameterized):
     def working(self) -> bool:
         """Whether poll() still has something to publish (a solve or a comparison)."""
         return (self.busy or self._pending is not None or self._cmp_pending is not None
-                or (self._cmp_thread is not None and self._cmp_thread.is_alive()))
+                or (self._cmp_thread is not None and self._cmp_thread.is_alive())
+                or self._best_pending is not None
+                or (self._best_thread is not None and self._best_thread.is_alive()))
 
     def _on_progress(self, done: int, total: int) -> None:
         self._done, self._total = done, total
@@ -148,6 +155,7 @@ class ExplorerState(param.Parameterized):
     def poll(self) -> bool:
         """Publish progress and, when the worker is done, its result. True once finished."""
         self._poll_proposal()
+        self._poll_best()
         if self._pending is None:
             if self.busy:
                 self.progress = min(1.0, self._done / max(self._total, 1))
@@ -345,14 +353,38 @@ class ExplorerState(param.Parameterized):
 
     def best_point(self):
         """thermo.best_point of the current objective over the solved window (None while
-        solving); computed once per scenario content, limits and objective."""
+        solving, or while it is being found in the background); computed once per scenario
+        content, limits and objective."""
         if self.dataset is None or self._dataset_key != SHARED_CACHE.key(self.scenario):
             return None  # the dataset is of other numbers (a new scenario is solving)
         key = (*self._limits_key(), self.objective, id(self.dataset))
-        if self._best[0] != key:
-            self._best = (key, thermo.best_point(self.scenario, self.objective,
-                                                 ds=self.dataset))
-        return self._best[1]
+        if self._best[0] == key:
+            return self._best[1]
+        sc, ds, objective = self.scenario, self.dataset, self.objective
+        if not self.background_best:
+            self._best = (key, thermo.best_point(sc, objective, ds=ds))
+            return self._best[1]
+        if self._best_thread is None or not self._best_thread.is_alive():
+            def work():
+                try:
+                    self._best_pending = (key, thermo.best_point(sc, objective, ds=ds))
+                except Exception as err:  # shown as no best point; the maps stay
+                    self._best_pending = (key, None)
+                    self.status = f"Finding the best point failed: {err}"
+
+            self._best_thread = threading.Thread(target=work, daemon=True)
+            self._best_thread.start()
+            self.wake()  # the served page polls while the best point is being found
+        return None
+
+    def _poll_best(self) -> None:
+        """Publish a best point found in the background (``best_version`` changes)."""
+        pending = self._best_pending
+        if pending is None:
+            return
+        self._best_pending = None
+        self._best = pending
+        self.best_version += 1
 
     def design_margins(self):
         """thermo.margins at the exact design point."""

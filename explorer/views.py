@@ -102,7 +102,7 @@ class MapsView:
         self.right.param.watch(lambda e: setattr(state, "right", e.new), "value")
         # One watcher: a new window moves `dataset` and `fixed` together, drawn once.
         state.param.watch(self._changed, ["dataset", "mode", "left", "right", "fixed",
-                                          "objective"])
+                                          "objective", "best_version"])
         state.param.watch(self._mark_selected, ["selected"])
         state.param.watch(self._progress, ["busy", "progress", "status"])
         self._progress()
@@ -130,7 +130,7 @@ class MapsView:
         return (float(x.min()), float(x.max())), (float(y.min()), float(y.max()))
 
     def _changed(self, *events):
-        if any(e.name not in ("fixed", "objective") for e in events):
+        if any(e.name not in ("fixed", "objective", "best_version") for e in events):
             self._rebuild()
         else:
             self._redraw_slices()
@@ -658,7 +658,8 @@ class SummaryView:
                                  "margins (open)", collapsed=True,
                                  sizing_mode="stretch_width")
         state.param.watch(self._update, ["dataset", "scenario"])
-        state.param.watch(self._update_best, ["dataset", "scenario", "objective"])
+        state.param.watch(self._update_best, ["dataset", "scenario", "objective",
+                                              "best_version"])
         self._update()
         self._update_best()
 
@@ -706,16 +707,17 @@ class SummaryView:
             self.objective.value = s.objective
         bp = s.best_point()
         if bp is None:
-            self.best.object = "<p>Solving the window ...</p>"
+            self.best.object = "<p>Finding the best point ...</p>"
             self.best_balance.object = ""
             return
         self.best.object = str(html('<p class="rw-summary" data-role="best-point">{}</p>',
                                     best_summary(bp)))
         if bp.feasible:
             d = bp.point.to_dict()
-            self.best_balance.object = (str(margins_html(bp.margins))
+            self.best_balance.object = ('<div data-role="best-balance">'
+                                        + str(margins_html(bp.margins))
                                         + verdict_html(d, s.scenario.limits)
-                                        + balance_html(d))
+                                        + balance_html(d) + "</div>")
         else:
             self.best_balance.object = ""
 

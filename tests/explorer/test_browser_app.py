@@ -28,6 +28,9 @@ def server():
 def _ready(page, url):
     page.goto(url)
     page.get_by_text("points solved").wait_for(timeout=60000)
+    # The best point arrives from a worker thread and lengthens the summary: wait for it, so
+    # that the page does not move under a click.
+    page.locator('[data-role="best-point"]').first.wait_for(timeout=60000)
     page.wait_for_function(f"() => ({FIND_PIXEL})(['map-0', 850, 20]) !== null", timeout=30000)
 
 
@@ -37,8 +40,10 @@ def _click(page, x, y):
 
 
 def _balance_rows(page):
-    # The balance's tables (the summary's margin tables carry a data-table name).
-    html = page.locator("table.rw-table:not([data-table])").first.evaluate(
+    # The selected point's balance tables: not the summary's margin tables (named by
+    # data-table) nor the best point's balance (inside data-role="best-balance").
+    html = page.locator('table.rw-table:not([data-table]):not([data-role="best-balance"] '
+                        'table)').first.evaluate(
         "t => t.closest('div').innerHTML")
     return table_cells(html)
 
@@ -106,6 +111,7 @@ def test_comparison_maps_and_click_show_both_points(page, artifacts):
     with served_app(base, proposal=proposal) as url:
         page.goto(url)
         page.get_by_text("solved over this window").wait_for(timeout=90000)
+        page.locator('[data-role="best-point"]').first.wait_for(timeout=60000)
         page.wait_for_function(f"() => ({FIND_PIXEL})(['cmp-2', 800, 30]) !== null",
                                timeout=30000)
         pos = page.evaluate(FIND_PIXEL, ["cmp-2", 800.0, 30.0])
