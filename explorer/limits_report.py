@@ -132,6 +132,19 @@ def table_html(head: list[str], rows: list[list[str]], kind: str,
                      "<tbody>{}</tbody></table>", cls, kind, h, b)
 
 
+def margins_line(m: Margins) -> str:
+    """The margins in one sentence: each active limit's margin in its own unit and, where
+    the window has one, the distance to its edge along temperature (positive inside)."""
+    parts = []
+    for name, lm in m.limits.items():
+        scale, unit, digits = _SHOWN[name]
+        edge = ("" if lm.temperature_margin is None
+                else f" ({_num(lm.temperature_margin, 1, signed=True)} K to its edge along T)")
+        parts.append(f"{LIMITS[name].label} {_num(lm.margin * scale, digits, signed=True)} "
+                     f"{unit}{edge}")
+    return "; ".join(parts) if parts else "no review limit is set"
+
+
 def margins_html(m: Margins, cls: str = "rw-table") -> safe.SafeHTML:
     """The margins and sensitivities tables as HTML (cells escaped)."""
     return (table_html(MARGIN_HEAD, margin_rows(m), "margins", cls)

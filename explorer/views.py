@@ -21,7 +21,12 @@ from bokeh.models import Legend
 
 import thermo
 from explorer.form import _message_pane, read_upload, scenario_files
-from explorer.limits_report import best_summary, grid_warning_text, margins_html
+from explorer.limits_report import (
+    best_summary,
+    grid_warning_text,
+    margins_html,
+    margins_line,
+)
 from explorer.maps import (
     CHANGE_TOLERANCE,
     COMPARE_ORDER,
@@ -654,9 +659,13 @@ class SummaryView:
                                  margin=(0, 10))
         self.best_balance = pn.pane.HTML("", stylesheets=[PAGE_CSS],
                                          sizing_mode="stretch_width")
-        self.best_card = pn.Card(self.best_balance, title="Best point: full balance and "
-                                 "margins (open)", collapsed=True,
-                                 sizing_mode="stretch_width")
+        self.design_margins = pn.pane.HTML("", stylesheets=[PAGE_CSS],
+                                           sizing_mode="stretch_width")
+        # The tables fold away so that the answer and both maps fit the first screen.
+        self.best_card = pn.Card(self.design_margins, self.objective, self.best_balance,
+                                 title="Margins and sensitivities of the design point; the best "
+                                 "point's objective, margins and full balance (open)",
+                                 collapsed=True, sizing_mode="stretch_width")
         state.param.watch(self._update, ["dataset", "scenario"])
         state.param.watch(self._update_best, ["dataset", "scenario", "objective",
                                               "best_version"])
@@ -693,10 +702,13 @@ class SummaryView:
                 parts.append(str(html('<p class="rw-warn" data-role="grid-warning">{}</p>',
                                       warn)))
         m = s.design_margins()
-        parts.append("<p><b>Margins of the design point</b> (positive inside the window) and "
-                     "what moves if T, P or S/C drift (central differences through the core):"
-                     "</p>" + str(margins_html(m)))
+        parts.append(str(html("<p><b>Margins of the design point</b> (positive inside the "
+                              "window): {}.</p>", margins_line(m))))
         self.pane.object = '<div class="rw-summary">' + "\n".join(parts) + "</div>"
+        self.design_margins.object = (
+            "<p><b>Margins of the design point</b> (positive inside the window) and what moves "
+            "if T, P or S/C drift (central differences through the core):</p>"
+            + str(margins_html(m)))
 
     def _update_best(self, *_):
         s = self.state
@@ -722,6 +734,4 @@ class SummaryView:
             self.best_balance.object = ""
 
     def __panel__(self):
-        return pn.Column(self.pane, pn.Row(self.objective, self.best,
-                                           sizing_mode="stretch_width"),
-                         self.best_card, sizing_mode="stretch_width")
+        return pn.Column(self.pane, self.best, self.best_card, sizing_mode="stretch_width")

@@ -64,10 +64,12 @@ def test_app_shows_the_specific_energy_map_and_the_plant_table(page, artifacts):
         assert best.text_content().strip() == _best_words(sc)
         _click(page, "map-0", 880.0, 25.0)
         page.get_by_text("880.0 degC, 25.000 bar abs, S/C 3").wait_for(timeout=20000)
-        page.get_by_text("Plant: furnace, purification and steam").first.wait_for(
-            timeout=20000)
-        html = page.locator("table.rw-table").first.evaluate(
-            "t => t.closest('div').innerHTML")
+        # The clicked point's balance: not the best point's (inside data-role="best-balance",
+        # folded) nor the summary's margin tables (named by data-table).
+        page.get_by_text("Plant: furnace, purification and steam").filter(
+            visible=True).first.wait_for(timeout=20000)
+        html = page.locator('table.rw-table:not([data-table]):not([data-role="best-balance"] '
+                            'table)').first.evaluate("t => t.closest('div').innerHTML")
         shown = table_cells(html)
         want = table_cells(plant_html(_core(sc).to_dict()))
         assert all(row in shown for row in want), [r for r in want if r not in shown][:3]

@@ -51,8 +51,10 @@ def test_grid_writes_a_loadable_file(capsys, tmp_path, scenario_file):
     assert code == 0, err
     assert out_path.is_file()
     ds = io.load(out_path)
+    # `interval`: the exact feasible intervals of each row (feasible_t_low / feasible_t_high).
     assert dict(ds.sizes) == {"temperature": 5, "pressure": 3, "steam_to_carbon": 4,
-                              "species": 10}
+                              "species": 10, "interval": ds.sizes["interval"]}
+    assert ds.sizes["interval"] >= 1
     assert thermo.parse_scenario(ds.attrs["scenario"]) == thermo.load_scenario(scenario_file)
     assert f"{POINTS} points" in out
     assert str(out_path) in out
