@@ -13,8 +13,9 @@ import numpy as np
 import pytest
 
 import thermo
+from explorer import safe
 from explorer.app import build_app
-from explorer.limits_report import margins_html
+from explorer.limits_report import margins_html, margins_line
 from explorer.maps import VARIABLES, exact_window_polygons, slice_fields, slice_layers
 from explorer.views import BalanceView
 from tests.explorer.helpers import small_scenario, table_cells
@@ -58,7 +59,9 @@ def test_summary_states_margins_and_best_point_equal_to_the_core(app):
     page, s = app
     summary = page.explorer_parts["summary"]
     ref = thermo.margins(s.scenario)
-    assert str(margins_html(ref)) in summary.pane.object
+    # In words in the summary, as tables in the folded card.
+    assert str(safe.text(margins_line(ref))) in summary.pane.object
+    assert str(margins_html(ref)) in summary.design_margins.object
     bp = thermo.best_point(s.scenario, "h2", ds=s.dataset)
     c = bp.coordinates
     assert f"{c['temperature'] - 273.15:.1f} degC" in summary.best.object

@@ -68,8 +68,8 @@ def test_answer_and_both_maps_on_the_first_screen_at_1600_by_1000(browser):
                 box = page.evaluate(f"() => ({CANVAS_BOX})('{name}')")
                 assert box["top"] >= 0 and box["left"] >= 0, (name, box)
                 assert box["bottom"] <= 1000 and box["right"] <= 1600, (name, box)
-            summary = page.locator(".rw-summary").inner_text()
-            box = page.locator(".rw-summary").bounding_box()
+            summary = page.locator("div.rw-summary").inner_text()
+            box = page.locator("div.rw-summary").bounding_box()
             assert box["y"] + box["height"] <= 1000
     finally:
         ctx.close()
