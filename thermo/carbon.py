@@ -584,6 +584,15 @@ def points_check(loc: dict, temperature, pressure, approach, start, check: Carbo
     """
     N = loc["elements"].shape[0]
     T = np.broadcast_to(np.asarray(temperature, dtype=float), (N,))
+    return finish(loc, own_paths(loc, T, pressure, approach, start, check), T, check)
+
+
+def own_paths(loc: dict, temperature, pressure, approach, start,
+              check: CarbonCheck) -> list[PathMaximum]:
+    """Path maxima of N points (from their :func:`local_terms`), each solved on its own
+    path (flat (N,) arrays, one PathMaximum per carbon of :func:`offsets`)."""
+    N = loc["elements"].shape[0]
+    T = np.broadcast_to(np.asarray(temperature, dtype=float), (N,))
     P = np.broadcast_to(np.asarray(pressure, dtype=float), (N,))
     per = [[] for _ in offsets(check)]
     for i in range(N):
@@ -591,9 +600,10 @@ def points_check(loc: dict, temperature, pressure, approach, start, check: Carbo
                           check.path_temperatures, T[i:i + 1], offsets(check))
         for j, r in enumerate(res):
             per[j].append(r)
-    path = [PathMaximum(np.concatenate([r.ln_activity[:, 0] for r in rs]),
+    if N == 0:
+        return [PathMaximum(np.empty(0), np.empty(0)) for _ in per]
+    return [PathMaximum(np.concatenate([r.ln_activity[:, 0] for r in rs]),
                         np.concatenate([r.temperature[:, 0] for r in rs])) for rs in per]
-    return finish(loc, path, T, check)
 
 
 def path_from_nodes(loc: dict, T, approach: float, check: CarbonCheck, T_below,

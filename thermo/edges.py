@@ -167,11 +167,12 @@ def evaluate(scenario: Scenario, temperature, pressure, steam_to_carbon=None,
         Outlet temperature [K] and absolute pressure [Pa], broadcast together.
     steam_to_carbon, oxygen_to_carbon, co2_to_carbon : array_like, optional
         Ratios [mol per mol hydrocarbon carbon].
-    path_nodes : (ndarray, list of PathMaximum, list of PathMaximum), optional
+    path_nodes : (ndarray, list of PathMaximum, list of PathMaximum, ndarray), optional
         For points that lie between two solved outlets of their row: the lower outlet
-        temperature [K] and the path maxima there and at the upper one
-        (:func:`thermo.carbon.path_from_nodes`). Without it every point's carbon path is
-        solved on its own (:func:`thermo.carbon.points_check`).
+        temperature [K], the path maxima there and at the upper one
+        (:func:`thermo.carbon.path_from_nodes`), and where that applies (bool; elsewhere the
+        point's path is solved on its own). Without it every point's carbon path is solved on
+        its own (:func:`thermo.carbon.points_check`).
 
     Returns
     -------
@@ -199,9 +200,17 @@ def evaluate(scenario: Scenario, temperature, pressure, steam_to_carbon=None,
         res.update(carbon.points_check(local, T, P, scenario.approach,
                                        scenario.feed.inlet_temperature, scenario.carbon))
     else:
-        T_below, below, above = path_nodes
+        T_below, below, above, extend = path_nodes
         path = carbon.path_from_nodes(local, T, scenario.approach, scenario.carbon, T_below,
                                       below, above)
+        own = np.flatnonzero(~extend)
+        if own.size:  # brackets below the path's fixed part: each point on its own path
+            sub = {k: v[own] for k, v in local.items()}
+            for full, part in zip(path, carbon.own_paths(
+                    sub, T[own], P[own], scenario.approach, scenario.feed.inlet_temperature,
+                    scenario.carbon), strict=True):
+                full.ln_activity[own] = part.ln_activity
+                full.temperature[own] = part.temperature
         res.update(carbon.finish(local, path, T, scenario.carbon))
     data = {k: ("point", v) for k, v in res.items() if np.ndim(v) == 1}
     ds = xr.Dataset(data, coords={"temperature": ("point", T), "pressure": ("point", P)})
@@ -270,14 +279,15 @@ _PATH_VARIABLES = (("carbon_activity_path_max", "carbon_path_max_temperature"),
 
 
 def _path_nodes(scenario: Scenario, ds: xr.Dataset, row_dims, rows, steps, T):
-    """Path maxima of the grid outlets around each bracket (see :func:`evaluate`), or None
-    where the path's fixed part reaches above a bracket's lower node (then each point's path
-    is solved on its own)."""
+    """Path maxima of the grid outlets around each bracket (see :func:`evaluate`) and, per
+    bracket, whether its points extend the lower outlet's path (False where the path's fixed
+    part, inlet or stations, reaches above the bracket's lower node: those points solve their
+    own paths); None where the window's temperatures do not ascend."""
     check = scenario.carbon
     fixed_top = max([scenario.feed.inlet_temperature, *check.path_temperatures])
-    if (rows.size == 0 or np.any(np.diff(T) <= 0)
-            or fixed_top > float(T[steps].min()) + 1e-9):
+    if rows.size == 0 or np.any(np.diff(T) <= 0):
         return None
+    extend = T[steps] >= fixed_top - 1e-9  # the others solve their own paths
     below, above = [], []
     for (a_var, t_var), _off in zip(_PATH_VARIABLES, carbon.offsets(check), strict=False):
         if a_var not in ds or t_var not in ds:
@@ -289,7 +299,7 @@ def _path_nodes(scenario: Scenario, ds: xr.Dataset, row_dims, rows, steps, T):
                         dtype=float).reshape(-1, T.size)
         below.append(carbon.PathMaximum(ln[rows, steps], tp[rows, steps]))
         above.append(carbon.PathMaximum(ln[rows, steps + 1], tp[rows, steps + 1]))
-    return T[steps], below, above
+    return T[steps], below, above, extend
 
 
 def _curvature_warning(g: np.ndarray, T: np.ndarray) -> np.ndarray:
