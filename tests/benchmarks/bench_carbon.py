@@ -53,13 +53,14 @@ CASES = {
 @contextmanager
 def without_check():
     """The sweep with the carbon check's work replaced by zero-filled stubs."""
-    saved = carbon.local_terms, carbon.window_check
+    names = ("local_terms", "window_check", "finish", "path_from_nodes", "own_paths",
+             "points_check")
+    saved = {k: getattr(carbon, k) for k in names}
 
     def local(tr, T, P, approach, check):
         return {}
 
-    def window(scenario, flat, axes):
-        n = int(np.prod([len(v) for v in axes.values()]))
+    def zeros(n):
         out = {k: np.zeros(n) for k in carbon.VARIABLES
                if not k.endswith(("_catalyst", "_graphite"))}
         for k in ("carbon_free", "carbon_higher_hydrocarbons", "carbon_other_stage"):
@@ -67,11 +68,29 @@ def without_check():
         out["carbon_binding"] = np.zeros(n, dtype=np.int8)
         return out
 
-    carbon.local_terms, carbon.window_check = local, window
+    def window(scenario, flat, axes):
+        return zeros(int(np.prod([len(v) for v in axes.values()])))
+
+    # The exact edges' points (thermo.edges.evaluate) go through these.
+    def paths(loc, T, *args, **kw):
+        n = np.size(T)
+        return [carbon.PathMaximum(np.zeros(n), np.zeros(n))]
+
+    def finish(loc, path, T, check):
+        return zeros(np.size(T))
+
+    def points(loc, T, *args, **kw):
+        return zeros(np.size(T))
+
+    stubs = dict(local_terms=local, window_check=window, finish=finish,
+                 path_from_nodes=paths, own_paths=paths, points_check=points)
+    for k, f in stubs.items():
+        setattr(carbon, k, f)
     try:
         yield
     finally:
-        carbon.local_terms, carbon.window_check = saved
+        for k, f in saved.items():
+            setattr(carbon, k, f)
 
 
 def timed(sc) -> tuple[float, float]:
