@@ -76,6 +76,11 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
     if not isinstance(scenario, Scenario):
         scenario = thermo.load_scenario(scenario)
     state = ExplorerState(check_window_size(scenario))
+    served = (solve != "now" and pn.state.curdoc is not None
+              and pn.state.curdoc.session_context is not None)
+    # A served page finds its best point in a worker thread from the start (published by
+    # the page's poll), so that building the page does not wait for it.
+    state.background_best = served
     if solve == "now" or scenario in SHARED_CACHE:
         # Solved already (by another session, or by `explorer serve` at start): adopt it
         # before the views exist, so that each draws the window once.
@@ -146,7 +151,7 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
             if proposal is not None:
                 state.set_proposal(proposal)
 
-        if pn.state.curdoc is not None and pn.state.curdoc.session_context is not None:
+        if served:
             pn.state.onload(start)
         else:
             if state.dataset is None:

@@ -123,7 +123,8 @@ class MapsView:
         var = VARIABLES[key]
         self.levels[key] = variable_levels(s.dataset, var)
         return self.levels[key], slice_layers(s.dataset, var, s.mode, s.fixed,
-                                              s.scenario.limits, self.levels[key])
+                                              s.scenario.limits, self.levels[key],
+                                              markers=s.markers())
 
     def _ranges(self):
         """x and y ranges of the maps: the window's, in display units."""
