@@ -60,7 +60,8 @@ def poll_while_working(state: ExplorerState, period_ms: int = 200) -> None:
 
 
 def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
-              solve: str = "background", proposal: Scenario | None = None) -> pn.Column:
+              solve: str = "background", proposal: Scenario | None = None,
+              units: str | None = None) -> pn.Column:
     """The explorer page for one session.
 
     Parameters
@@ -72,10 +73,12 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
         (notebooks, tests).
     proposal : Scenario, optional
         A proposal to compare with the scenario from the start.
+    units : {"metric", "us"}, optional
+        Display unit system at start (explorer.display); the scenario's if None.
     """
     if not isinstance(scenario, Scenario):
         scenario = thermo.load_scenario(scenario)
-    state = ExplorerState(check_window_size(scenario))
+    state = ExplorerState(check_window_size(scenario), **({"units": units} if units else {}))
     served = (solve != "now" and pn.state.curdoc is not None
               and pn.state.curdoc.session_context is not None)
     # A served page finds its best point in a worker thread from the start (published by

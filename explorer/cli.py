@@ -77,7 +77,8 @@ def _cmd_point(args: argparse.Namespace) -> int:
     else:
         from explorer.limits_report import margins_text
 
-        print(point_report(pt) + "\n\n" + margins_text(m))
+        units = _units(args, sc)
+        print(point_report(pt, units) + "\n\n" + margins_text(m, units))
     return 0
 
 
@@ -98,7 +99,7 @@ def _cmd_best(args: argparse.Namespace) -> int:
     if args.json:
         print(json.dumps(bp.to_dict(), indent=2, allow_nan=False))
     else:
-        print(best_text(bp))
+        print(best_text(bp, _units(args, sc)))
     return 0
 
 
@@ -165,12 +166,25 @@ def _cmd_export(args: argparse.Namespace) -> int:
         finally:
             bar.close()
     write_review(sc, out, grids[0], proposal=proposal,
-                 proposal_ds=grids[1] if proposal else None)
+                 proposal_ds=grids[1] if proposal else None, units=_units(args, sc))
     size = out.stat().st_size / 1e6
     what = f"comparison with {args.compare}" if proposal else "review file"
     print(f"wrote {out}: {what} for {sc.window.size()} grid points, {size:.1f} MB, "
           "works offline")
     return 0
+
+
+def _units(args: argparse.Namespace, sc) -> str:
+    """The display unit system: --units, else the scenario's [display] units, else metric
+    (explorer.display; --json output stays SI whatever the system)."""
+    return args.units or getattr(sc, "display_units", "metric")
+
+
+def _add_units_option(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("--units", choices=("metric", "us"), default=None,
+                        help="display units: metric (degC, bar, kmol/h, Nm3/h, MW) or us "
+                             "(degF, psia, lbmol/h, MMSCFD at 60 degF and 14.696 psia, "
+                             "MMBtu/h); default: the scenario's, else metric")
 
 
 def _output_path(text: str, suffix: str):
@@ -233,7 +247,8 @@ def _cmd_serve(args: argparse.Namespace) -> int:
           f"(at most {args.max_sessions} pages at once; idle pages released after "
           f"{args.idle_minutes:g} min; Ctrl+C to stop)", file=sys.stderr, flush=True)
     server.serve(sc, proposal, port=args.port, address=args.address, websocket_origin=origin,
-                 max_sessions=args.max_sessions, idle_minutes=args.idle_minutes)
+                 max_sessions=args.max_sessions, idle_minutes=args.idle_minutes,
+                 units=_units(args, sc))
     return 0
 
 
@@ -274,6 +289,7 @@ def build_parser() -> argparse.ArgumentParser:
     pt.add_argument("--adiabatic", action="store_true",
                     help="solve the outlet temperature at zero duty")
     pt.add_argument("--json", action="store_true", help="print one strict JSON object (SI)")
+    _add_units_option(pt)
     pt.set_defaults(func=_cmd_point)
 
     from thermo.edges import DEFAULT_OBJECTIVE, OBJECTIVES
@@ -287,6 +303,7 @@ def build_parser() -> argparse.ArgumentParser:
                         f"{k} ({o.label})" for k, o in OBJECTIVES.items())
                     + f" (default {DEFAULT_OBJECTIVE}; specific_energy with a [plant] table)")
     bs.add_argument("--json", action="store_true", help="print one strict JSON object (SI)")
+    _add_units_option(bs)
     bs.set_defaults(func=_cmd_best)
 
     gr = sub.add_parser("grid", help="solve the whole window and write a NetCDF grid file")
@@ -303,6 +320,7 @@ def build_parser() -> argparse.ArgumentParser:
     ex.add_argument("scenario", nargs="?", default=None,
                     help="scenario TOML file (default: the shipped demo)")
     ex.add_argument("-o", "--output", required=True, help="HTML file to write, e.g. review.html")
+    _add_units_option(ex)
     ex.add_argument("--compare", default=None, metavar="PROPOSAL",
                     help="a proposal scenario to compare with SCENARIO (the base): maps of "
                          "both and of the change, over the base's window")
@@ -312,6 +330,7 @@ def build_parser() -> argparse.ArgumentParser:
     sv.add_argument("scenario", nargs="?", default=None,
                     help="scenario TOML file (default: the shipped demo)")
     sv.add_argument("--port", type=int, default=5006, help="port (default 5006)")
+    _add_units_option(sv)
     sv.add_argument("--address", default="127.0.0.1",
                     help="address to bind (default 127.0.0.1: this machine only)")
     sv.add_argument("--compare", default=None, metavar="PROPOSAL",

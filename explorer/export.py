@@ -45,11 +45,10 @@ from bokeh.resources import INLINE
 from markupsafe import Markup
 
 import thermo
-from explorer import CAUTION
+from explorer import CAUTION, display
 from explorer.maps import (
     COMPARE_ORDER,
     MODES,
-    VARIABLES,
     axis_label,
     change_levels,
     change_tolerance,
@@ -63,6 +62,7 @@ from explorer.maps import (
     slice_fields,
     variable_layers,
     variable_levels,
+    variables_in,
     window_layers,
 )
 from explorer.safe import paragraphs
@@ -74,19 +74,8 @@ from explorer.sheet import (
     summary_html,
     window_facts,
 )
-from explorer.tables import (
-    CONVERSIONS,
-    ENERGY_ROWS,
-    PLANT_NOTE,
-    PLANT_ROWS,
-    REACTION_COLUMNS,
-    SPECIES_COLUMNS,
-    STAGE_COLUMNS,
-    SUMMARY_ROWS,
-    TRAIN_NOTE,
-    TRAIN_ROWS,
-    compare_rows,
-)
+from explorer.tables import PLANT_NOTE, PLANT_ROWS, rows_for
+from explorer.tables import spec as table_spec
 from thermo.balances import enthalpy_flow
 from thermo.constants import ELEMENTS, P_REF, T_REF
 from thermo.errors import InputError
@@ -139,7 +128,7 @@ def _key_text(fixed: dict[str, int]) -> str:
 
 
 def all_layers(ds: xr.Dataset, limits, variables=EXPORT_VARIABLES,
-               markers: dict | None = None) -> tuple[dict, dict]:
+               markers: dict | None = None, units: str = display.DEFAULT) -> tuple[dict, dict]:
     """Layers of every slice, split into what depends on the variable and what does not.
 
     Returns
@@ -148,23 +137,24 @@ def all_layers(ds: xr.Dataset, limits, variables=EXPORT_VARIABLES,
         ``per_variable[var][mode][key]`` holds bands, lines, labels and the node values;
         ``common[mode][key]`` the carbon boundary, the infeasible region and its edge, and
         the grid nodes (:func:`explorer.maps.combine` joins them). Coordinates are rounded to
-        1e-4 (degC, bar, S/C), invisible on a map.
+        1e-4 (display units of `units`: degC, bar, S/C), invisible on a map.
     """
-    levels = {v: variable_levels(ds, VARIABLES[v]) for v in variables}
+    shown = variables_in(units)  # the map variables as shown in these units
+    levels = {v: variable_levels(ds, shown[v]) for v in variables}
     per_var: dict = {v: {m: {} for m in MODES} for v in variables}
     common: dict = {m: {} for m in MODES}
     for mode in MODES:
         for fixed in _slice_keys(ds, mode):
             key = _key_text(fixed)
             s = slice_fields(ds, mode, fixed)
-            common[mode][key] = _round(window_layers(s, mode, limits, markers), 4)
+            common[mode][key] = _round(window_layers(s, mode, limits, markers, units=units), 4)
             for v in variables:
-                per_var[v][mode][key] = _round(variable_layers(s, VARIABLES[v], mode, levels[v]),
-                                               4)
+                per_var[v][mode][key] = _round(variable_layers(s, shown[v], mode, levels[v],
+                                                               units), 4)
     return per_var, common
 
 
-def _page_data(sc: Scenario, ds: xr.Dataset) -> dict:
+def _page_data(sc: Scenario, ds: xr.Dataset, units: str = display.DEFAULT) -> dict:
     dims = list(ds["h2_yield"].dims)
     ratio_dims = [d for d in dims if d in RATIO_AXES]
     inlet = ds["inlet_flow"].transpose(*ratio_dims, "species").values
@@ -195,16 +185,17 @@ def _page_data(sc: Scenario, ds: xr.Dataset) -> dict:
         "heat_T": {"reforming": delta_h(REFORMING, Tk).tolist(),
                    "shift": delta_h(SHIFT, Tk).tolist()},
         "equations": {"reforming": REFORMING.equation(), "shift": SHIFT.equation()},
-        "conversions": {k: list(v) for k, v in CONVERSIONS.items()},
-        "spec": {"summary": SUMMARY_ROWS, "energy": ENERGY_ROWS, "species": SPECIES_COLUMNS,
-                 "reactions": REACTION_COLUMNS, "train": TRAIN_ROWS, "stage": STAGE_COLUMNS,
-                 "train_note": TRAIN_NOTE, "compare": compare_rows()},
+        # The display layer's factors and table layout in the file's unit system.
+        "units": units,
+        "conversions": display.conversions(units),
+        "spec": table_spec(units),
         "train": _train_descriptor(sc),
-        "plant": _plant_descriptor(sc, ds),
+        "plant": _plant_descriptor(sc, ds, units),
     }
 
 
-def _plant_descriptor(sc: Scenario, ds: xr.Dataset) -> dict | None:
+def _plant_descriptor(sc: Scenario, ds: xr.Dataset,
+                      units: str = display.DEFAULT) -> dict | None:
     """What the page's script needs to assemble a point's plant table (None without one):
     the point JSON keys with the embedded per-point arrays (``pl_<variable>``) or the
     scenario's constants behind them, the table rows and the flags' threshold."""
@@ -224,7 +215,8 @@ def _plant_descriptor(sc: Scenario, ds: xr.Dataset) -> dict | None:
             constants[key] = float(ds[name])
         else:
             arrays.append([key, f"pl_{name}"])
-    return {"arrays": arrays, "constants": constants, "rows": PLANT_ROWS, "note": PLANT_NOTE,
+    return {"arrays": arrays, "constants": constants, "rows": rows_for(PLANT_ROWS, units),
+            "note": PLANT_NOTE,
             "cooled_K": sc.plant.process_gas_cooled_temperature}
 
 
@@ -317,15 +309,16 @@ def _fixed0(sc: Scenario, ds: xr.Dataset) -> dict[str, int]:
     return fixed0
 
 
-def _sliders(ds: xr.Dataset, fixed0: dict[str, int], mode0: str) -> dict[str, Slider]:
+def _sliders(ds: xr.Dataset, fixed0: dict[str, int], mode0: str,
+             units: str = display.DEFAULT) -> dict[str, Slider]:
     sliders = {}
     for d in ds["h2_yield"].dims:
         if d == "temperature":
             continue
         n = ds.sizes[d]
         vals = ds[d].values
-        labels = ([f"{v / 1e5:.2f} bar abs" for v in vals] if d == "pressure"
-                  else [f"{v:.3g}" for v in vals])
+        labels = ([display.fmt(v, "pressure", 2, units, with_unit=True) for v in vals]
+                  if d == "pressure" else [f"{v:.3g}" for v in vals])
         fmt = CustomJSTickFormatter(args={"labels": labels},
                                     code="return labels[Math.round(tick)] ?? String(tick);")
         sliders[d] = Slider(start=0, end=max(n - 1, 1), step=1, value=fixed0[d],
@@ -335,7 +328,8 @@ def _sliders(ds: xr.Dataset, fixed0: dict[str, int], mode0: str) -> dict[str, Sl
 
 
 def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
-                 compare: tuple[Scenario, xr.Dataset] | None = None) -> str:
+                 compare: tuple[Scenario, xr.Dataset] | None = None,
+                 units: str | None = None) -> str:
     """The review page as HTML text (see the module docstring).
 
     Parameters
@@ -348,21 +342,27 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
         A proposal and its sweep over the same window (thermo.compare.on_base_window): the
         page then maps base, proposal and their change side by side, and a click shows both
         balances with the changes.
+    units : {"metric", "us"}, optional
+        Display unit system (explorer.display) of the file; the scenario's
+        ``display_units`` (metric without one) if None. The file carries it.
     """
+    units = display.check_system(units or getattr(sc, "display_units", display.DEFAULT))
+    shown = variables_in(units)  # the map variables as shown in these units
     pinned = list(pinned or [])
-    R = _page_data(sc, ds)
+    R = _page_data(sc, ds, units)
     facts = window_facts(sc, ds)
     fixed0 = _fixed0(sc, ds)
     mode0 = "pressure"
     key0 = _key_text({d: j for d, j in fixed0.items() if d != mode0})
-    x = ds.temperature.values - 273.15
-    y = ds[mode0].values / 1e5
+    x = display.to_display(ds.temperature.values, "temperature", units)
+    y = display.to_display(ds[mode0].values, "pressure", units)
     x_range, y_range = (float(x.min()), float(x.max())), (float(y.min()), float(y.max()))
     R["ranges"] = {
-        "pressure": [float(ds.pressure.min()) / 1e5, float(ds.pressure.max()) / 1e5],
+        "pressure": [float(display.to_display(float(ds.pressure.min()), "pressure", units)),
+                     float(display.to_display(float(ds.pressure.max()), "pressure", units))],
         "steam_to_carbon": [float(ds.steam_to_carbon.min()), float(ds.steam_to_carbon.max())],
     }
-    R["axis_labels"] = {m: axis_label(m) for m in MODES}
+    R["axis_labels"] = {m: axis_label(m, units) for m in MODES}
     figs, srcs, mappers = [], [], []
     if compare is None:
         variables = EXPORT_VARIABLES + (() if sc.train.empty else TRAIN_EXPORT_VARIABLES)
@@ -371,19 +371,20 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
             variables = variables + PLANT_EXPORT_VARIABLES
         right0 = "specific_energy" if plant else "methane_slip_dry"
         layers, common = all_layers(ds, sc.limits, variables,
-                                    scenario_markers(sc, facts["best"]))
+                                    scenario_markers(sc, facts["best"]), units)
         R["layers"], R["common"] = layers, common
-        R["titles"] = {v: VARIABLES[v].title for v in variables}
-        R["palettes"] = {v: mappers_palette(v, ds) for v in variables}
+        R["titles"] = {v: shown[v].title for v in variables}
+        R["palettes"] = {v: mappers_palette(v, ds, units) for v in variables}
         for i, v in enumerate(("h2_yield", right0)):
-            var = VARIABLES[v]
+            var = shown[v]
             start = combine(layers[v][mode0][key0], common[mode0][key0])
             fig, src, mapper = map_figure(var, mode0, variable_levels(ds, var), start,
-                                          f"map-{i}", x_range, y_range, width=580, height=440)
+                                          f"map-{i}", x_range, y_range, width=580, height=440,
+                                          units=units)
             figs.append(fig)
             srcs.append(src)
             mappers.append(mapper)
-        options = [(v, VARIABLES[v].title) for v in variables]
+        options = [(v, shown[v].title) for v in variables]
         selects = [Select(title="Left map", value="h2_yield", options=options, width=280),
                    Select(title="Right map", value=right0, options=options,
                           width=280)]
@@ -391,37 +392,38 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
     else:
         prop_sc, prop_ds = compare
         variables = COMPARE_VARIABLES
-        panels = _comparison_layers(sc, ds, prop_sc, prop_ds, variables)
+        panels = _comparison_layers(sc, ds, prop_sc, prop_ds, variables, units)
         R["layers"], R["common"] = panels["base"], panels["base_common"]
         R["cmp"] = {"layers": panels["proposal"], "common": panels["proposal_common"],
                     "diff": panels["change"], "palettes": panels["palettes"],
                     "diff_palettes": panels["change_palettes"]}
-        R["titles"] = {v: VARIABLES[v].label for v in variables}
-        R["proposal"] = _page_data(prop_sc, prop_ds)
+        R["titles"] = {v: shown[v].label for v in variables}
+        R["proposal"] = _page_data(prop_sc, prop_ds, units)
         prefixes = ["Base: ", "Proposal: ", "Change: "]
         R["prefixes"] = prefixes
         # The first variable that changes (round-off below the tolerance is no change).
         v0 = next((v for v in COMPARE_ORDER if v in panels["changes"]), variables[0])
-        sets = [(panels["base"], panels["base_common"], panels["levels"][v0], VARIABLES[v0]),
+        sets = [(panels["base"], panels["base_common"], panels["levels"][v0], shown[v0]),
                 (panels["proposal"], panels["proposal_common"], panels["levels"][v0],
-                 VARIABLES[v0]),
+                 shown[v0]),
                 (panels["change"], panels["proposal_common"], panels["change_levels"][v0],
-                 change_variable(VARIABLES[v0]))]
+                 change_variable(shown[v0]))]
         for i, (lay, com, levels, var) in enumerate(sets):
             start = combine(lay[v0][mode0][key0], com[mode0][key0])
             fig, src, mapper = map_figure(var, mode0, levels, start, f"map-{i}", x_range,
-                                          y_range, width=580 if i < 2 else 620, height=420)
+                                          y_range, width=580 if i < 2 else 620, height=420,
+                                          units=units)
             fig.title.text = prefixes[i] + var.label
             figs.append(fig)
             srcs.append(src)
             mappers.append(mapper)
-        options = [(v, VARIABLES[v].title) for v in variables]
+        options = [(v, shown[v].title) for v in variables]
         selects = [Select(title="Variable", value=v0, options=options, width=340)]
         update_js, tap_js = _UPDATE_CMP_JS, _TAP_CMP_JS
-    R["hover"] = {v: [VARIABLES[v].label, VARIABLES[v].unit, VARIABLES[v].digits]
+    R["hover"] = {v: [shown[v].label, shown[v].unit, shown[v].digits]
                   for v in variables}
     mode = RadioButtonGroup(labels=[MODES[m] for m in MODES], active=0)
-    sliders = _sliders(ds, fixed0, mode0)
+    sliders = _sliders(ds, fixed0, mode0, units)
     heading = Div(text="<p>Click a map to show the balance of the nearest grid point.</p>",
                   name="balance-heading", width=1150)
     balance = Div(text="", width=1150, stylesheets=[SHEET_CSS], name="balance-div")
@@ -520,15 +522,18 @@ def with_content_security_policy(page: str) -> str:
     return page.replace(_CSP_PLACEHOLDER, content_security_policy(page), 1)
 
 
-def _comparison_layers(sc, ds, prop_sc, prop_ds, variables) -> dict:
+def _comparison_layers(sc, ds, prop_sc, prop_ds, variables,
+                       units: str = display.DEFAULT) -> dict:
     """Every slice's layers of the base, the proposal and the change (proposal - base)."""
     from thermo.compare import difference
 
+    shown = variables_in(units)  # the map variables as shown in these units
+
     diff = difference(ds, prop_ds)
-    levels = {v: shared_levels((ds, prop_ds), VARIABLES[v]) for v in variables}
-    tolerance = {v: change_tolerance(ds, VARIABLES[v]) for v in variables}
-    quiet = {v: quiet_change(diff, VARIABLES[v], tolerance[v]) for v in variables}
-    ch_levels = {v: change_levels(quiet[v], VARIABLES[v], tolerance[v]) for v in variables}
+    levels = {v: shared_levels((ds, prop_ds), shown[v]) for v in variables}
+    tolerance = {v: change_tolerance(ds, shown[v]) for v in variables}
+    quiet = {v: quiet_change(diff, shown[v], tolerance[v]) for v in variables}
+    ch_levels = {v: change_levels(quiet[v], shown[v], tolerance[v]) for v in variables}
     out = {"base": {}, "proposal": {}, "change": {}, "base_common": {m: {} for m in MODES},
            "proposal_common": {m: {} for m in MODES}, "levels": levels,
            "change_levels": ch_levels}
@@ -540,20 +545,22 @@ def _comparison_layers(sc, ds, prop_sc, prop_ds, variables) -> dict:
             sb = slice_fields(ds, mode, fixed)
             sp = slice_fields(prop_ds, mode, fixed)
             sd = {v: _diff_slice(quiet[v], mode, fixed) for v in variables}
-            out["base_common"][mode][key] = _round(window_layers(sb, mode, sc.limits), 4)
-            out["proposal_common"][mode][key] = _round(window_layers(sp, mode, prop_sc.limits),
-                                                       4)
+            out["base_common"][mode][key] = _round(window_layers(sb, mode, sc.limits,
+                                                                 units=units), 4)
+            out["proposal_common"][mode][key] = _round(window_layers(sp, mode, prop_sc.limits,
+                                                                     units=units), 4)
             for v in variables:
-                var = VARIABLES[v]
-                out["base"][v][mode][key] = _round(variable_layers(sb, var, mode, levels[v]), 4)
+                var = shown[v]
+                out["base"][v][mode][key] = _round(variable_layers(sb, var, mode, levels[v],
+                                                                   units), 4)
                 out["proposal"][v][mode][key] = _round(
-                    variable_layers(sp, var, mode, levels[v]), 4)
+                    variable_layers(sp, var, mode, levels[v], units), 4)
                 out["change"][v][mode][key] = _round(
-                    variable_layers(sd[v], change_variable(var), mode, ch_levels[v]), 4)
+                    variable_layers(sd[v], change_variable(var), mode, ch_levels[v], units), 4)
     out["changes"] = [v for v in variables
-                      if has_change(quiet[v], VARIABLES[v], tolerance[v])]
-    out["palettes"] = {v: _palette_of(VARIABLES[v], levels[v]) for v in variables}
-    out["change_palettes"] = {v: _palette_of(change_variable(VARIABLES[v]), ch_levels[v])
+                      if has_change(quiet[v], shown[v], tolerance[v])]
+    out["palettes"] = {v: _palette_of(shown[v], levels[v]) for v in variables}
+    out["change_palettes"] = {v: _palette_of(change_variable(shown[v]), ch_levels[v])
                               for v in variables}
     return out
 
@@ -576,10 +583,10 @@ def _hover(fig):
     return next(t for t in fig.tools if isinstance(t, HoverTool))
 
 
-def mappers_palette(v: str, ds: xr.Dataset) -> dict:
+def mappers_palette(v: str, ds: xr.Dataset, units: str = display.DEFAULT) -> dict:
     from explorer.maps import _band_colours
 
-    var = VARIABLES[v]
+    var = variables_in(units)[v]
     levels = variable_levels(ds, var)
     return {"palette": _band_colours(var, len(levels) - 1), "low": float(levels[0]),
             "high": float(levels[-1])}
@@ -608,8 +615,9 @@ for (let i = 0; i < 2; i++) {
   // BokehJS figures have no yaxis list: the y axis is the renderer on the left.
   for (const ax of figs[i].left) if ("axis_label" in ax) ax.axis_label = R.axis_labels[m];
   const [label, unit, digits] = R.hover[v];
-  hovers[i].tooltips = [["temperature", "@x{0.0} degC"],
-    m === "pressure" ? ["pressure", "@y{0.00} bar abs"] : ["steam-to-carbon", "@y{0.00}"],
+  hovers[i].tooltips = [["temperature", "@x{0.0} " + R.spec.symbols.temperature],
+    m === "pressure" ? ["pressure", "@y{0.00} " + R.spec.symbols.pressure]
+                     : ["steam-to-carbon", "@y{0.00}"],
     [label, "@value{0." + "0".repeat(Math.max(digits, 1)) + "} " + unit],
     ["review limits", "@feasible"], ["carbon", "@carbon"]];
   srcs[i].selected.data = {x: [], y: [], alpha: []};
@@ -621,11 +629,14 @@ _TAP_JS = """
 const m = mapMode();
 const [p, T, Y, i, j] = tappedPoint(m, cb_obj.x, cb_obj.y);
 const d = assemble(p);
-let head = `<p><b>${pyFixed(d.temperature_K - 273.15, 1)} degC, ` +
-  `${pyFixed(d.pressure_Pa / 1e5, 3)} bar abs, S/C ${pyG(d.steam_to_carbon, 3)}</b>`;
+const U = R.spec.symbols;
+let head = `<p><b>${display(d.temperature_K, "temperature", 1)} ${U.temperature}, ` +
+  `${display(d.pressure_Pa, "pressure", R.spec.summary[2][4])} ${U.pressure}, ` +
+  `S/C ${pyG(d.steam_to_carbon, 3)}</b>`;
 if (d.oxygen_to_carbon) head += `, O2/C ${pyG(d.oxygen_to_carbon, 3)}`;
 if (d.co2_to_carbon) head += `, CO2/C ${pyG(d.co2_to_carbon, 3)}`;
-head += ` (approach ${pyG(d.approach_K, 6)} K; grid point ${p})</p>`;
+head += ` (approach ${pyG(toDisplay(d.approach_K, "temperature_difference"), 6)} ` +
+  `${R.spec.symbols.temperature_difference}; grid point ${p})</p>`;
 heading.text = head;
 balance.text = nodeVerdict(R.common[m][sliceKey(m)], i, j, T.length) + balanceHtml(d);
 for (let f = 0; f < 2; f++) {
@@ -662,8 +673,9 @@ for (let i = 0; i < 3; i++) {
   for (const ax of figs[i].left) if ("axis_label" in ax) ax.axis_label = R.axis_labels[m];
   const [label, unit, digits] = R.hover[v];
   const dg = digits + (i === 2 ? 1 : 0);
-  hovers[i].tooltips = [["temperature", "@x{0.0} degC"],
-    m === "pressure" ? ["pressure", "@y{0.00} bar abs"] : ["steam-to-carbon", "@y{0.00}"],
+  hovers[i].tooltips = [["temperature", "@x{0.0} " + R.spec.symbols.temperature],
+    m === "pressure" ? ["pressure", "@y{0.00} " + R.spec.symbols.pressure]
+                     : ["steam-to-carbon", "@y{0.00}"],
     [(i === 2 ? "change in " : "") + label,
      "@value{0." + "0".repeat(Math.max(dg, 1)) + "} " + unit],
     ["review limits", "@feasible"], ["carbon", "@carbon"]];
@@ -677,8 +689,10 @@ const m = mapMode();
 const [p, T, Y, i, j] = tappedPoint(m, cb_obj.x, cb_obj.y);
 const a = assemble(p);
 const b = assemble(p, R.proposal, pts2);
-let head = `<p><b>${pyFixed(a.temperature_K - 273.15, 1)} degC, ` +
-  `${pyFixed(a.pressure_Pa / 1e5, 3)} bar abs, S/C ${pyG(a.steam_to_carbon, 3)}</b>`;
+const U = R.spec.symbols;
+let head = `<p><b>${display(a.temperature_K, "temperature", 1)} ${U.temperature}, ` +
+  `${display(a.pressure_Pa, "pressure", R.spec.summary[2][4])} ${U.pressure}, ` +
+  `S/C ${pyG(a.steam_to_carbon, 3)}</b>`;
 if (a.oxygen_to_carbon) head += `, O2/C ${pyG(a.oxygen_to_carbon, 3)}`;
 if (a.co2_to_carbon) head += `, CO2/C ${pyG(a.co2_to_carbon, 3)}`;
 head += ` (grid point ${p}): base, proposal and the change</p>`;
@@ -723,7 +737,7 @@ def check_offline(text: str) -> None:
 
 def write_review(sc: Scenario, path: str | os.PathLike, ds: xr.Dataset | None = None,
                  pinned: list[dict] | None = None, proposal: Scenario | None = None,
-                 proposal_ds: xr.Dataset | None = None) -> Path:
+                 proposal_ds: xr.Dataset | None = None, units: str | None = None) -> Path:
     """Write the review file atomically (temporary name, then rename).
 
     Parameters
@@ -740,6 +754,8 @@ def write_review(sc: Scenario, path: str | os.PathLike, ds: xr.Dataset | None = 
         A proposal to compare with `sc` (the base); it is solved over the base's window.
     proposal_ds : xarray.Dataset, optional
         Its sweep over the base's window; computed if None.
+    units : {"metric", "us"}, optional
+        Display unit system of the file (the scenario's ``display_units`` if None).
     """
     path = Path(path)
     if not path.parent.is_dir():
@@ -754,7 +770,7 @@ def write_review(sc: Scenario, path: str | os.PathLike, ds: xr.Dataset | None = 
         if proposal_ds is None:
             proposal_ds = thermo.sweep(proposal)
         compare = (proposal, proposal_ds)
-    text = build_review(sc, ds, pinned, compare)
+    text = build_review(sc, ds, pinned, compare, units)
     check_offline(text)
     with atomic_target(path, "-o") as tmp:
         tmp.write_text(text, encoding="utf-8")
@@ -773,6 +789,8 @@ def main(argv: list[str] | None = None) -> int:
     p.add_argument("--pinned", default=None)
     p.add_argument("--compare", default=None, help="proposal scenario file")
     p.add_argument("--compare-grid", default=None, help="its sweep over the base window")
+    p.add_argument("--units", choices=tuple(display.SYSTEMS), default=None,
+                   help="display unit system (default: the scenario's, else metric)")
     p.add_argument("-o", "--output", required=True)
     a = p.parse_args(argv)
     try:
@@ -783,7 +801,7 @@ def main(argv: list[str] | None = None) -> int:
         pinned = json.loads(Path(a.pinned).read_text("utf-8")) if a.pinned else []
         proposal = thermo.load_scenario(a.compare) if a.compare else None
         proposal_ds = io.load(a.compare_grid) if a.compare_grid else None
-        write_review(sc, a.output, ds, pinned, proposal, proposal_ds)
+        write_review(sc, a.output, ds, pinned, proposal, proposal_ds, a.units)
     except InputError as err:
         print(f"explorer: error: {err}", file=sys.stderr)
         return 2

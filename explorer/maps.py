@@ -34,6 +34,8 @@ from bokeh.models import (
 from bokeh.palettes import Cividis256, Inferno256, RdBu11, Viridis256, interp_palette
 from bokeh.plotting import figure
 
+from explorer import display
+from explorer.display import DEFAULT
 from thermo.carbon import BINDING, BINDING_WORDS
 from thermo.constants import V_NORMAL
 from thermo.plant import GJ_PER_1000NM3_FROM_J_PER_MOL
@@ -74,6 +76,22 @@ class Variable:
     scale: float
     palette: tuple[str, ...]
     digits: int
+    #: Display kind (explorer.display) of a dimensional variable; its unit then follows the
+    #: unit system (:meth:`in_units`). "" for a ratio or a fraction.
+    kind: str = ""
+    #: What follows the kind's unit in the title ("H2" in "GJ/1000 Nm3 H2").
+    unit_suffix: str = ""
+
+    def in_units(self, units: str = DEFAULT) -> Variable:
+        """The variable as shown in unit system `units` (itself in metric or without a
+        kind): the system's unit, scale and decimals."""
+        if not self.kind or units == DEFAULT:
+            return self
+        u = display.unit(self.kind, units)
+        unit = f"{u.symbol} {self.unit_suffix}".strip()
+        return Variable(self.key, self.label, unit, u.scale, self.palette,
+                        display.decimals(self.kind, self.digits, units), self.kind,
+                        self.unit_suffix)
 
     def values(self, ds: xr.Dataset) -> xr.DataArray:
         """The variable over the Dataset, in display units."""
@@ -101,12 +119,12 @@ def _variables() -> dict[str, Variable]:
         Variable("h2_product", "H2 product after the train", "mol H2 / mol hydrocarbon C",
                  1.0, Viridis256, 3),
         Variable("train_duty", "Heat supplied to the train", "MW", 1e-6,
-                 tuple(reversed(Inferno256)), 2),
+                 tuple(reversed(Inferno256)), 2, "power"),
         Variable("train_methane_slip_dry", "Methane slip after the last reformer, dry",
                  "mol %", 100.0, tuple(reversed(Inferno256)), 2),
-        Variable("duty", "Duty", "MW", 1e-6, tuple(reversed(Inferno256)), 2),
+        Variable("duty", "Duty", "MW", 1e-6, tuple(reversed(Inferno256)), 2, "power"),
         Variable("duty_per_h2", "Duty per H2", "MJ/kmol H2", 1e-3,
-                 tuple(reversed(Inferno256)), 1),
+                 tuple(reversed(Inferno256)), 1, "energy_per_mol", "H2"),
         Variable("carbon_activity", "Carbon activity (graphite = 1)", "-", 1.0,
                  tuple(reversed(Inferno256)), 3),
         Variable("carbon_activity_path_max", "Carbon activity along the tube, largest "
@@ -124,23 +142,25 @@ def _plant_variables() -> list[Variable]:
     hot = tuple(reversed(Inferno256))
     return [
         Variable("specific_energy", "Net specific energy", "GJ/1000 Nm3 H2",
-                 GJ_PER_1000NM3_FROM_J_PER_MOL, hot, 2),
-        Variable("plant_fired_duty", "Fired duty (LHV)", "MW", 1e-6, hot, 1),
-        Variable("plant_trim_fuel", "Trim natural gas (LHV)", "MW", 1e-6, hot, 1),
+                 GJ_PER_1000NM3_FROM_J_PER_MOL, hot, 2, "specific_energy", "H2"),
+        Variable("plant_fired_duty", "Fired duty (LHV)", "MW", 1e-6, hot, 1, "power"),
+        Variable("plant_trim_fuel", "Trim natural gas (LHV)", "MW", 1e-6, hot, 1, "power"),
         Variable("plant_tail_gas_lhv", "Tail gas to the furnace (LHV)", "MW", 1e-6, Cividis256,
-                 1),
+                 1, "power"),
         Variable("plant_tail_gas_excess", "Tail gas beyond what the furnace needs", "MW", 1e-6,
-                 hot, 1),
+                 hot, 1, "power"),
         Variable("radiant_efficiency", "Radiant efficiency", "%", 100.0, Viridis256, 1),
-        Variable("plant_h2_product", "H2 product (purified)", "kmol/h", 3.6, Viridis256, 0),
-        Variable("plant_steam_raised", "Steam raised", "t/h", 3.6, Cividis256, 1),
-        Variable("plant_process_steam", "Process steam", "t/h", 3.6, hot, 1),
+        Variable("plant_h2_product", "H2 product (purified)", "kmol/h", 3.6, Viridis256, 0,
+                 "molar_flow"),
+        Variable("plant_steam_raised", "Steam raised", "t/h", 3.6, Cividis256, 1,
+                 "steam_flow"),
+        Variable("plant_process_steam", "Process steam", "t/h", 3.6, hot, 1, "steam_flow"),
         Variable("plant_steam_export", "Steam export (negative: import)", "t/h", 3.6,
-                 Cividis256, 1),
+                 Cividis256, 1, "steam_flow"),
         Variable("natural_gas_per_h2", "Natural gas (feed + trim) per H2", "Nm3/Nm3 H2", 1.0,
-                 hot, 3),
+                 hot, 3, "gas_volume_ratio", "H2"),
         Variable("steam_export_per_h2", "Steam export per H2", "kg/Nm3 H2", 1.0 / V_NORMAL,
-                 Cividis256, 3),
+                 Cividis256, 3, "mass_per_gas_volume", "H2"),
     ]
 
 
@@ -164,7 +184,17 @@ def change_variable(var: Variable) -> Variable:
     """The change (proposal - base) of a map variable: same key, label and unit, a
     diverging palette, and one more decimal."""
     return Variable(var.key, var.label, var.unit,
-                    var.scale, CHANGE_PALETTE, var.digits + 1)
+                    var.scale, CHANGE_PALETTE, var.digits + 1, var.kind, var.unit_suffix)
+
+
+def variable(key: str, units: str = DEFAULT) -> Variable:
+    """Map variable `key` as shown in unit system `units`."""
+    return VARIABLES[key].in_units(units)
+
+
+def variables_in(units: str = DEFAULT) -> dict[str, Variable]:
+    """Every map variable as shown in unit system `units` (:data:`VARIABLES` in metric)."""
+    return VARIABLES if units == DEFAULT else {k: v.in_units(units) for k, v in VARIABLES.items()}
 
 
 def nice_levels(lo: float, hi: float, n: int = 10) -> np.ndarray:
@@ -287,8 +317,14 @@ def slice_fields(ds: xr.Dataset, mode: str, fixed: dict[str, int]) -> xr.Dataset
     return out.transpose(mode, "temperature", ...)
 
 
-def _y_display(mode: str, values: np.ndarray) -> np.ndarray:
-    return values / 1e5 if mode == "pressure" else values
+def x_display(values, units: str = DEFAULT):
+    """Temperatures [K] on the maps' x axis, in display units."""
+    return display.to_display(values, "temperature", units)
+
+
+def y_display(mode: str, values, units: str = DEFAULT):
+    """Values of the y axis [SI] in display units (pressure converted, ratios as they are)."""
+    return display.to_display(values, "pressure", units) if mode == "pressure" else values
 
 
 def _polys(points, offsets):
@@ -372,7 +408,8 @@ def _paths(paths) -> dict:
     return {"xs": [p[:, 0].tolist() for p in paths], "ys": [p[:, 1].tolist() for p in paths]}
 
 
-def variable_layers(s: xr.Dataset, var: Variable, mode: str, levels: np.ndarray) -> dict:
+def variable_layers(s: xr.Dataset, var: Variable, mode: str, levels: np.ndarray,
+                    units: str = DEFAULT) -> dict:
     """What one variable draws on a slice: filled bands, contour lines, their labels, and
     the values at the grid nodes (display units).
 
@@ -386,9 +423,11 @@ def variable_layers(s: xr.Dataset, var: Variable, mode: str, levels: np.ndarray)
         The y axis.
     levels : ndarray
         Contour levels (:func:`variable_levels` over the whole Dataset).
+    units : str
+        Unit system of the axes (explorer.display); `var` is already in it.
     """
-    x = s["temperature"].values - 273.15
-    y = _y_display(mode, s[mode].values)
+    x = x_display(s["temperature"].values, units)
+    y = y_display(mode, s[mode].values, units)
     z = np.asarray(var.values(s), dtype=float)
     out = {"bands": {"xs": [], "ys": [], "color": [], "band": []},
            "lines": {"xs": [], "ys": []},
@@ -461,7 +500,7 @@ def _match(a: list[tuple[float, float]], b: list[tuple[float, float]]) -> list[t
     return pairs
 
 
-def exact_window_polygons(s: xr.Dataset, mode: str):
+def exact_window_polygons(s: xr.Dataset, mode: str, units: str = DEFAULT):
     """The region outside the review limits and its edge, drawn from the exact feasible
     intervals of each row (``feasible_t_low`` / ``feasible_t_high``, thermo.edges); None when
     the slice does not hold them.
@@ -480,10 +519,10 @@ def exact_window_polygons(s: xr.Dataset, mode: str):
     """
     if "feasible_t_low" not in s:
         return None
-    T = np.asarray(s["temperature"].values, dtype=float) - 273.15
-    yv = _y_display(mode, np.asarray(s[mode].values, dtype=float))
-    lo = np.atleast_2d(np.asarray(s["feasible_t_low"].values, dtype=float)) - 273.15
-    hi = np.atleast_2d(np.asarray(s["feasible_t_high"].values, dtype=float)) - 273.15
+    T = x_display(np.asarray(s["temperature"].values, dtype=float), units)
+    yv = y_display(mode, np.asarray(s[mode].values, dtype=float), units)
+    lo = x_display(np.atleast_2d(np.asarray(s["feasible_t_low"].values, dtype=float)), units)
+    hi = x_display(np.atleast_2d(np.asarray(s["feasible_t_high"].values, dtype=float)), units)
     rows = [[(float(a), float(b)) for a, b in zip(lo[r], hi[r], strict=True)
              if np.isfinite(a)] for r in range(lo.shape[0])]
     t0, t1 = float(T.min()), float(T.max())
@@ -529,7 +568,8 @@ def exact_window_polygons(s: xr.Dataset, mode: str):
 
 
 def marker_layers(s: xr.Dataset, mode: str, markers: dict | None,
-                  x_range: tuple[float, float], y_range: tuple[float, float]) -> dict:
+                  x_range: tuple[float, float], y_range: tuple[float, float],
+                  units: str = DEFAULT) -> dict:
     """The best point and the design point on a slice (display units).
 
     Parameters
@@ -555,8 +595,8 @@ def marker_layers(s: xr.Dataset, mode: str, markers: dict | None,
     for name, c in markers.items():
         if c is None or name not in out:
             continue
-        x = c["temperature"] - 273.15
-        y = float(_y_display(mode, np.asarray(c[mode])))
+        x = x_display(c["temperature"], units)
+        y = float(y_display(mode, np.asarray(c[mode]), units))
         off = []
         for d in s.coords:
             if d in ("temperature", mode, "species", "interval") or d not in c:
@@ -564,7 +604,7 @@ def marker_layers(s: xr.Dataset, mode: str, markers: dict | None,
             if np.ndim(s[d].values) == 0:
                 v = float(s[d].values)
                 if not math.isclose(v, c[d], rel_tol=1e-6, abs_tol=1e-9):
-                    off.append(f"{AXIS_WORDS[d]} {_axis_value(d, c[d])}")
+                    off.append(f"{AXIS_WORDS[d]} {_axis_value(d, c[d], units)}")
         cx = min(max(x, x_range[0]), x_range[1])
         cy = min(max(y, y_range[0]), y_range[1])
         outside = (cx, cy) != (x, y)
@@ -573,8 +613,9 @@ def marker_layers(s: xr.Dataset, mode: str, markers: dict | None,
             sx = (x_range[1] - x_range[0]) or 1.0
             sy = (y_range[1] - y_range[0]) or 1.0
             angle = math.atan2((y - cy) / sy, (x - cx) / sx) - math.pi / 2
-            where = f"{x:.1f} degC, " + (f"{y:.3g} bar abs" if mode == "pressure"
-                                         else f"S/C {y:.3g}")
+            where = (f"{x:.1f} {display.symbol('temperature', units)}, "
+                     + (f"{y:.3g} {display.symbol('pressure', units)}" if mode == "pressure"
+                        else f"S/C {y:.3g}"))
             label += f" outside the window ({where})"
         else:
             angle = 0.0
@@ -614,12 +655,16 @@ AXIS_WORDS = {"pressure": "P", "steam_to_carbon": "S/C", "oxygen_to_carbon": "O2
               "co2_to_carbon": "CO2/C"}
 
 
-def _axis_value(d: str, v: float) -> str:
-    return f"{v / 1e5:.3g} bar" if d == "pressure" else f"{v:.3g}"
+def _axis_value(d: str, v: float, units: str = DEFAULT) -> str:
+    """A fixed axis' value [SI] in a marker's label ("25 bar", "357 psia", "3")."""
+    if d == "pressure":
+        sym = display.symbol("pressure", units).removesuffix(" abs")
+        return f"{display.to_display(v, 'pressure', units):.3g} {sym}"
+    return f"{v:.3g}"
 
 
 def window_layers(s: xr.Dataset, mode: str, limits, markers: dict | None = None,
-                  ranges: tuple | None = None) -> dict:
+                  ranges: tuple | None = None, units: str = DEFAULT) -> dict:
     """What every map of a slice shares: the carbon boundary, the region outside a review
     limit and its edge, the grid nodes with their feasibility and carbon call, and the best
     and design points (:func:`marker_layers`).
@@ -627,15 +672,15 @@ def window_layers(s: xr.Dataset, mode: str, limits, markers: dict | None = None,
     The feasible edge and the hatching come from the exact feasible intervals of each row
     (:func:`exact_window_field`) when the Dataset holds them, otherwise from the grid
     values."""
-    x = s["temperature"].values - 273.15
-    y = _y_display(mode, s[mode].values)
+    x = x_display(s["temperature"].values, units)
+    y = y_display(mode, s[mode].values, units)
     out = {"carbon": {"xs": [], "ys": []}, "infeasible": {"xs": [[]], "ys": [[]]},
            "edge": {"xs": [], "ys": []}}
     for k in CARBON_LINES:
         out[k] = {"xs": [], "ys": []}
     if ranges is None:
         ranges = ((float(x.min()), float(x.max())), (float(y.min()), float(y.max())))
-    out.update(marker_layers(s, mode, markers, *ranges))
+    out.update(marker_layers(s, mode, markers, *ranges, units=units))
     if len(x) >= 2 and len(y) >= 2:
         ogen = contourpy.contour_generator(x, y, np.asarray(outlet_carbon_margin(s), float),
                                            line_type="Separate")
@@ -647,7 +692,7 @@ def window_layers(s: xr.Dataset, mode: str, limits, markers: dict | None = None,
         cgen = contourpy.contour_generator(x, y, np.asarray(carbon_margin(s), dtype=float),
                                            line_type="Separate")
         out["carbon"] = _paths(cgen.lines(0.0))
-        exact = exact_window_polygons(s, mode)
+        exact = exact_window_polygons(s, mode, units)
         if exact is not None:
             out["infeasible"], out["edge"] = exact
         else:
@@ -663,13 +708,13 @@ def window_layers(s: xr.Dataset, mode: str, limits, markers: dict | None = None,
     out["nodes"] = {
         "x": X.ravel().tolist(),
         "y": Y.ravel().tolist(),
-        "feasible": broken_limits(s, limits).ravel().tolist(),
+        "feasible": broken_limits(s, limits, units).ravel().tolist(),
         "carbon": carbon_words(s).ravel().tolist(),
     }
     return out
 
 
-def broken_limits(s: xr.Dataset, limits) -> np.ndarray:
+def broken_limits(s: xr.Dataset, limits, units: str = DEFAULT) -> np.ndarray:
     """At each node, the review limits broken there in words ("within all limits" where
     none is), on the variables of thermo.sweep.LIMIT_VARIABLES."""
     v = LIMIT_VARIABLES
@@ -686,11 +731,14 @@ def broken_limits(s: xr.Dataset, limits) -> np.ndarray:
     if limits.min_h2_yield is not None:
         add(s[v["min_h2_yield"]] < limits.min_h2_yield,
             f"H2 below {limits.min_h2_yield:g} mol/mol C")
+    mw = display.symbol("power", units)
     if limits.max_duty is not None:
-        add(s[v["max_duty"]] > limits.max_duty, f"duty above {limits.max_duty / 1e6:g} MW")
+        add(s[v["max_duty"]] > limits.max_duty,
+            f"duty above {display.to_display(limits.max_duty, 'power', units):g} {mw}")
     if limits.max_fired_duty is not None and v["max_fired_duty"] in s:
         add(s[v["max_fired_duty"]] > limits.max_fired_duty,
-            f"fired duty above {limits.max_fired_duty / 1e6:g} MW")
+            f"fired duty above {display.to_display(limits.max_fired_duty, 'power', units):g} "
+            f"{mw}")
     if limits.carbon_free:
         add(carbon_forms(s), "carbon")
     add(~np.asarray(s["converged"], dtype=bool), "not converged")
@@ -759,7 +807,7 @@ def combine(variable: dict, window: dict) -> dict[str, dict]:
 
 def slice_layers(ds: xr.Dataset, var: Variable, mode: str, fixed: dict[str, int], limits,
                  levels: np.ndarray | None = None,
-                 markers: dict | None = None) -> dict[str, dict]:
+                 markers: dict | None = None, units: str = DEFAULT) -> dict[str, dict]:
     """All drawable data of one map slice, in display units.
 
     Parameters
@@ -778,6 +826,8 @@ def slice_layers(ds: xr.Dataset, var: Variable, mode: str, fixed: dict[str, int]
         Contour levels; :func:`variable_levels` over the whole Dataset if None.
     markers : dict, optional
         The best and design points (:func:`marker_layers`).
+    units : str
+        Unit system of the axes (explorer.display); `var` is already in it.
 
     Returns
     -------
@@ -788,8 +838,8 @@ def slice_layers(ds: xr.Dataset, var: Variable, mode: str, fixed: dict[str, int]
     if levels is None:
         levels = variable_levels(ds, var)
     s = slice_fields(ds, mode, fixed)
-    return combine(variable_layers(s, var, mode, levels),
-                   window_layers(s, mode, limits, markers))
+    return combine(variable_layers(s, var, mode, levels, units),
+                   window_layers(s, mode, limits, markers, units=units))
 
 
 def _band_colours(var: Variable, n: int) -> list[str]:
@@ -799,10 +849,15 @@ def _band_colours(var: Variable, n: int) -> list[str]:
     return [pal[int(round(i * (len(pal) - 1) / (n - 1)))] for i in range(n)]
 
 
-def axis_label(mode: str) -> str:
+def axis_label(mode: str, units: str = DEFAULT) -> str:
     """y-axis label of a map orientation."""
-    return "Outlet pressure [bar abs]" if mode == "pressure" else \
-        "Steam-to-carbon [mol H2O / mol hydrocarbon C]"
+    return f"Outlet pressure [{display.symbol('pressure', units)}]" if mode == "pressure" \
+        else "Steam-to-carbon [mol H2O / mol hydrocarbon C]"
+
+
+def x_axis_label(units: str = DEFAULT) -> str:
+    """x-axis label of every map."""
+    return f"Outlet temperature [{display.symbol('temperature', units)}]"
 
 
 def empty_layers() -> dict[str, dict]:
@@ -821,12 +876,12 @@ def empty_layers() -> dict[str, dict]:
     }
 
 
-def hover_tooltips(var: Variable, mode: str) -> list[tuple[str, str]]:
+def hover_tooltips(var: Variable, mode: str, units: str = DEFAULT) -> list[tuple[str, str]]:
     """Tooltips of the grid nodes: coordinates, the value with its unit, limits, carbon."""
-    y_tip = ("pressure", "@y{0.00} bar abs") if mode == "pressure" else \
-        ("steam-to-carbon", "@y{0.00}")
+    y_tip = ("pressure", f"@y{{0.00}} {display.symbol('pressure', units)}") \
+        if mode == "pressure" else ("steam-to-carbon", "@y{0.00}")
     return [
-        ("temperature", "@x{0.0} degC"),
+        ("temperature", f"@x{{0.0}} {display.symbol('temperature', units)}"),
         y_tip,
         (var.label, f"@value{{0.{'0' * max(var.digits, 1)}}} {var.unit}"),
         ("review limits", "@feasible"),
@@ -836,7 +891,7 @@ def hover_tooltips(var: Variable, mode: str) -> list[tuple[str, str]]:
 
 def restyle_figure(fig, src: dict, var: Variable, mode: str, levels: np.ndarray,
                    layers: dict[str, dict], x_range: tuple[float, float],
-                   y_range: tuple[float, float]) -> None:
+                   y_range: tuple[float, float], units: str = DEFAULT) -> None:
     """Show another variable, orientation or window on an existing map (same models, so
     the browser keeps its event subscriptions; the review file's script does the same)."""
     for k, data in layers.items():
@@ -847,15 +902,16 @@ def restyle_figure(fig, src: dict, var: Variable, mode: str, levels: np.ndarray,
                             low=float(levels[0]), high=float(levels[-1]))
     bar.title = var.unit
     fig.title.text = var.title
-    fig.yaxis[0].axis_label = axis_label(mode)
+    fig.yaxis[0].axis_label = axis_label(mode, units)
+    fig.xaxis[0].axis_label = x_axis_label(units)
     fig.x_range.update(start=x_range[0], end=x_range[1])
     fig.y_range.update(start=y_range[0], end=y_range[1])
-    fig.select_one({"type": HoverTool}).tooltips = hover_tooltips(var, mode)
+    fig.select_one({"type": HoverTool}).tooltips = hover_tooltips(var, mode, units)
 
 
 def map_figure(var: Variable, mode: str, levels: np.ndarray, layers: dict[str, dict],
                name: str, x_range: tuple[float, float], y_range: tuple[float, float],
-               width: int = 560, height: int = 430):
+               width: int = 560, height: int = 430, units: str = DEFAULT):
     """A Bokeh map with one ColumnDataSource per layer.
 
     Returns
@@ -871,8 +927,8 @@ def map_figure(var: Variable, mode: str, levels: np.ndarray, layers: dict[str, d
         y_range=y_range,
         tools="pan,wheel_zoom,box_zoom,reset,save",
         toolbar_location="above",
-        x_axis_label="Outlet temperature [degC]",
-        y_axis_label=axis_label(mode),
+        x_axis_label=x_axis_label(units),
+        y_axis_label=axis_label(mode, units),
         title=var.title,
     )
     fig.title.text_font_size = TITLE_PT
@@ -925,7 +981,7 @@ def map_figure(var: Variable, mode: str, levels: np.ndarray, layers: dict[str, d
         fig.text("x", "y", "text", source=s_, text_font_size=LABEL_PT, x_offset=12,
                  y_offset=-10, text_color="#111111", text_alpha="alpha",
                  background_fill_color="#ffffff", background_fill_alpha=0.75)
-    fig.add_tools(HoverTool(renderers=[nodes], tooltips=hover_tooltips(var, mode)))
+    fig.add_tools(HoverTool(renderers=[nodes], tooltips=hover_tooltips(var, mode, units)))
     mapper = LinearColorMapper(palette=_band_colours(var, len(levels) - 1),
                                low=float(levels[0]), high=float(levels[-1]))
     fig.add_layout(ColorBar(color_mapper=mapper, width=14, title=var.unit,

@@ -46,10 +46,17 @@ function pyG(v, p) {
   return s;
 }
 
+function toDisplay(value, kind) {
+  // explorer.display.to_display: SI to the page's unit system (R.conversions comes from
+  // explorer.display.conversions; this script holds no factor of its own).
+  const [scale, offset, divisor] = R.conversions[kind];
+  const v = divisor ? value / divisor : value * scale;
+  return offset ? v + offset : v;
+}
+
 function display(value, conv, decimals) {
   if (value === null || value === undefined || !Number.isFinite(value)) return "-";
-  const [scale, offset] = R.conversions[conv];
-  const v = value * scale + offset;
+  const v = toDisplay(value, conv);
   if (decimals < 0) return pyG(v, -decimals);
   const text = pyFixed(v, decimals);
   // explorer.tables.display: a value that rounds to zero reads without a sign.
@@ -125,10 +132,10 @@ function sliceKey(m) {
 }
 
 function tappedPoint(m, x, y) {
-  // The grid node nearest a click at (x degC, y display units): [flat index, T axis [degC],
+  // The grid node nearest a click at (x, y in display units): [flat index, T axis [degC],
   // y axis, i, j].
-  const T = R.axes.temperature.map((t) => t - 273.15);
-  const Y = R.axes[m].map((v) => (m === "pressure" ? v / 1e5 : v));
+  const T = R.axes.temperature.map((t) => toDisplay(t, "temperature"));
+  const Y = R.axes[m].map((v) => (m === "pressure" ? toDisplay(v, "pressure") : v));
   let i = 0, j = 0;
   for (let a = 0; a < T.length; a++) if (Math.abs(T[a] - x) < Math.abs(T[i] - x)) i = a;
   for (let b = 0; b < Y.length; b++) if (Math.abs(Y[b] - y) < Math.abs(Y[j] - y)) j = b;
@@ -251,17 +258,19 @@ function plantHtml(d) {
   if (!d.plant || !R.plant) return "";
   const pl = d.plant;
   const parts = ["<h4>Plant: furnace, purification and steam</h4>" +
-    table(["quantity", "value", "unit"], R.plant.rows.map(([label, unit, key, conv, dec]) =>
+    table(["quantity", "value", "unit"], R.spec.plant.map(([label, unit, key, conv, dec]) =>
       [label, display(lookup(d, key), conv, dec), unit]), "rw-table rw-plant")];
   // explorer.tables.plant_warnings
   if (pl.tail_gas_exceeds_need) {
     parts.push(`<p class="rw-warn">${esc("The tail gas alone releases " +
-      display(pl.tail_gas_excess_W, "MW", 2) + " MW more than the radiant box needs: no " +
+      display(pl.tail_gas_excess_W, "power", 2) + " " + R.spec.symbols.power +
+      " more than the radiant box needs: no " +
       "trim gas burns, and the excess must go elsewhere.")}</p>`);
   }
   if (pl.process_gas_below_dew_point) {
     parts.push(`<p class="rw-warn">${esc("The dew point of the process gas (" +
-      display(pl.process_gas_dew_point_K, "degC", 1) + " degC) lies above the temperature " +
+      display(pl.process_gas_dew_point_K, "temperature", 1) + " " +
+      R.spec.symbols.temperature + ") lies above the temperature " +
       "it is cooled to: water would condense there.")}</p>`);
   }
   if (Number.isFinite(pl.flue_steam_heat_W) && pl.flue_steam_heat_W < 0) {
@@ -285,8 +294,17 @@ function balanceHtml(d) {
       [label, display(lookup(d, key), conv, dec), unit])));
   const srows = S.map((s) => [s].concat(R.spec.species.map(([, key, conv, dec]) =>
     display(lookup(d, key.replace("{s}", s)), conv, dec))));
-  srows.push(["C(gr)", "", "", display(d.carbon_deposit_mol_per_s, "kmolh", 3),
-              display(d.carbon_deposit_mol_per_s * R.graphite_molar_mass, "kgh", 1), "", ""]);
+  srows.push(["total gas"].concat(totalRow(d, R.spec.species)));
+  // explorer.tables._graphite_row: graphite in the outlet's molar and mass flows.
+  srows.push(["C(gr)"].concat(R.spec.species.map(([, key, conv, dec]) => {
+    if (key.startsWith("outlet.flow_mol_per_s") && conv === "molar_flow") {
+      return display(d.carbon_deposit_mol_per_s, conv, dec);
+    }
+    if (key.startsWith("outlet.mass_flow")) {
+      return display(d.carbon_deposit_mol_per_s * R.graphite_molar_mass, conv, dec);
+    }
+    return "";
+  })));
   parts.push(`<h4>${heading("Inlet and outlet by species")}</h4>` +
              table(["species"].concat(R.spec.species.map((c) => c[0])), srows));
   parts.push("<h4>Energy balance</h4>" + table(["quantity", "value", "unit"],
@@ -305,7 +323,20 @@ function balanceHtml(d) {
   if (t) parts.push(t);
   const pl = plantHtml(d);
   if (pl) parts.push(pl);
+  parts.push(`<p class='rw-small'>${esc(R.spec.units_note)}</p>`);
   return parts.join("\n");
+}
+
+function totalRow(d, columns) {
+  // explorer.tables._total: each column summed over the gas species, in the order of S.
+  return columns.map(([, key, conv, dec]) => {
+    let sum = 0, any = false;
+    for (const s of S) {
+      const v = lookup(d, key.replace("{s}", s));
+      if (v !== null && v !== undefined) { sum += v; any = true; }
+    }
+    return any ? display(sum, conv, dec) : "-";
+  });
 }
 
 function trainHtml(d) {
@@ -319,9 +350,11 @@ function trainHtml(d) {
     [st.label].concat(R.spec.stage.map(([, key, conv, dec]) =>
       display(lookup(st, key), conv, dec))))));
   const prod = d.train.product;
-  parts.push("<h4>Product gas after the last stage</h4>" + table(["species", "kmol/h",
-    "mol % dry"], S.map((s) => [s, display(prod.flow_mol_per_s[s], "kmolh", 3),
-                                 display(prod.mole_fraction_dry[s], "pct", 4)])));
+  const prows = S.map((s) => [s].concat(R.spec.product.map(([, key, conv, dec]) =>
+    display(lookup(prod, key.replace("{s}", s)), conv, dec))));
+  prows.push(["total gas"].concat(totalRow(prod, R.spec.product)));
+  parts.push("<h4>Product gas after the last stage</h4>" +
+             table(["species"].concat(R.spec.product.map((c) => c[0])), prows));
   parts.push(`<p class='rw-small'>${esc(R.spec.train_note)}</p>`);
   return parts.join("\n");
 }
@@ -369,7 +402,9 @@ function changeText(a, b, conv, decimals) {
   // explorer.tables.change: b - a in display units (scale only, no offset).
   if (a === null || a === undefined || b === null || b === undefined ||
       !Number.isFinite(a) || !Number.isFinite(b)) return "-";
-  const v = (b - a) * R.conversions[conv][0];
+  // A change: the scale only, never the offset (explorer.display.difference).
+  const [scale, , divisor] = R.conversions[conv];
+  const v = divisor ? (b - a) / divisor : (b - a) * scale;
   if (decimals < 0) {
     const t = pyG(v, -decimals);
     return t.startsWith("-") ? t : "+" + t;
@@ -391,8 +426,9 @@ function compareHtml(a, b) {
   for (const s of ["CO", "CO2", "CH4"]) {  // H2 is a row above
     const key = `train.product.flow_mol_per_s.${s}`;
     const x = lookup(a, key), y = lookup(b, key);
-    rows.push([`${s} in the product gas`, "kmol/h", display(x, "kmolh", 2),
-               display(y, "kmolh", 2), changeText(x, y, "kmolh", 2)]);
+    const [flow, dec] = R.spec.molar_flow;
+    rows.push([`${s} in the product gas`, flow, display(x, "molar_flow", dec),
+               display(y, "molar_flow", dec), changeText(x, y, "molar_flow", dec)]);
   }
   let warn = "";
   if (!(a.converged && b.converged)) {

@@ -163,7 +163,8 @@ def _page_handler(book: SessionBook, base: type, max_pending: int) -> type:
     return _GuardedPageHandler
 
 
-def session_page(scenario: Scenario, proposal: Scenario | None, book: SessionBook):
+def session_page(scenario: Scenario, proposal: Scenario | None, book: SessionBook,
+                 units: str | None = None):
     """The app function for one session: a shell now, the explorer page on connection."""
     import panel as pn
 
@@ -187,7 +188,7 @@ def session_page(scenario: Scenario, proposal: Scenario | None, book: SessionBoo
 
     def fill():
         if sid is None:
-            shell.objects = [build_app(scenario, proposal=proposal)]
+            shell.objects = [build_app(scenario, proposal=proposal, units=units)]
             return
         if not book.open(sid, release):
             shell.objects = [pn.pane.HTML(html("<h1>{}</h1><p>{}</p>", BUSY_TITLE,
@@ -195,7 +196,7 @@ def session_page(scenario: Scenario, proposal: Scenario | None, book: SessionBoo
             return
         t0 = time.perf_counter()
         with pn.io.hold(doc):  # one patch to the browser for the whole page
-            page = build_app(scenario, proposal=proposal)
+            page = build_app(scenario, proposal=proposal, units=units)
             shell.objects = [page]
         book.build_seconds = book.build_seconds[-99:] + [time.perf_counter() - t0]
         shell.explorer_state = page.explorer_state
@@ -228,14 +229,16 @@ class ExplorerServer:
 def make_server(scenario: Scenario, proposal: Scenario | None = None, *, port: int,
                 address: str = "127.0.0.1", websocket_origin: list[str] | None = None,
                 max_sessions: int = DEFAULT_MAX_SESSIONS,
-                idle_minutes: float = DEFAULT_IDLE_MINUTES, loop=None):
-    """The explorer's Bokeh server (not started) and its session book."""
+                idle_minutes: float = DEFAULT_IDLE_MINUTES, loop=None,
+                units: str | None = None):
+    """The explorer's Bokeh server (not started) and its session book; `units`: the pages'
+    display unit system at start (explorer.display; the scenario's if None)."""
     from panel.io.server import DocHandler, get_server
     from tornado.ioloop import PeriodicCallback
 
     book = SessionBook(max_sessions, idle_minutes)
     server = get_server(
-        {"/": lambda: session_page(scenario, proposal, book)}, port=port, address=address,
+        {"/": lambda: session_page(scenario, proposal, book, units)}, port=port, address=address,
         websocket_origin=websocket_origin or [f"{address}:{port}"], show=False, start=False,
         title="Reformer window explorer", verbose=False, loop=loop,
         unused_session_lifetime_milliseconds=1000 * UNUSED_SESSION_S,
@@ -265,12 +268,12 @@ def make_server(scenario: Scenario, proposal: Scenario | None = None, *, port: i
 def serve(scenario: Scenario, proposal: Scenario | None = None, *, port: int,
           address: str = "127.0.0.1", websocket_origin: list[str] | None = None,
           max_sessions: int = DEFAULT_MAX_SESSIONS, idle_minutes: float = DEFAULT_IDLE_MINUTES,
-          threaded: bool = False) -> ExplorerServer | None:
+          threaded: bool = False, units: str | None = None) -> ExplorerServer | None:
     """Serve the explorer; blocks unless `threaded` (then returns the running server)."""
     from tornado.ioloop import IOLoop
 
     kwargs = dict(port=port, address=address, websocket_origin=websocket_origin,
-                  max_sessions=max_sessions, idle_minutes=idle_minutes)
+                  max_sessions=max_sessions, idle_minutes=idle_minutes, units=units)
     if not threaded:
         server, _ = make_server(scenario, proposal, **kwargs)
         server.start()

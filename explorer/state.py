@@ -51,6 +51,8 @@ class ExplorerState(param.Parameterized):
     mode = param.Selector(default="pressure", objects=["pressure", "steam_to_carbon"],
                           doc="y axis of the maps")
     fixed = param.Dict(default={}, doc="index of each axis held fixed on the maps")
+    units = param.Selector(default="metric", objects=["metric", "us"],
+                           doc="display unit system (explorer.display); the core stays SI")
     left = param.Selector(default="h2_yield", objects=list(VARIABLES))
     right = param.Selector(default="methane_slip_dry", objects=list(VARIABLES))
     selected = param.Dict(default=None, allow_None=True,
@@ -79,6 +81,7 @@ class ExplorerState(param.Parameterized):
             # what the best point makes best.
             params.setdefault("right", "specific_energy")
             params.setdefault("objective", "specific_energy")
+        params.setdefault("units", getattr(scenario, "display_units", "metric"))
         super().__init__(scenario=scenario, notes=scenario.notes, **params)
         self._done = 0
         self._total = 1
@@ -324,10 +327,15 @@ class ExplorerState(param.Parameterized):
         self.selected = {d: float(ds[d].values[i]) for d, i in idx.items()}
 
     def select_display(self, x_degC: float, y: float) -> None:
-        """Select the grid node nearest a click at (x degC, y in display units)."""
+        """Select the grid node nearest a click at (x, y in the display units of
+        :attr:`units`: degC or degF; bar abs, psia or S/C)."""
+        from explorer import display
+
         ds = self.dataset
-        T = ds.temperature.values - 273.15
-        Y = ds[self.mode].values / (1e5 if self.mode == "pressure" else 1.0)
+        T = display.to_display(ds.temperature.values, "temperature", self.units)
+        Y = ds[self.mode].values
+        if self.mode == "pressure":
+            Y = display.to_display(Y, "pressure", self.units)
         span_t = (T.max() - T.min()) or 1.0
         span_y = (Y.max() - Y.min()) or 1.0
         i = int(np.argmin(np.abs((T - x_degC) / span_t)))

@@ -20,6 +20,8 @@ from bokeh.events import Tap
 from bokeh.models import Legend
 
 import thermo
+from explorer import display
+from explorer.display import SYSTEMS
 from explorer.form import _message_pane, read_upload, scenario_files
 from explorer.limits_report import (
     best_summary,
@@ -46,9 +48,12 @@ from explorer.maps import (
     shared_levels,
     slice_fields,
     slice_layers,
+    variable,
     variable_layers,
     variable_levels,
     window_layers,
+    x_display,
+    y_display,
 )
 from explorer.safe import html, message_html, spreadsheet_text, text
 from explorer.sheet import design_row_ranges
@@ -85,6 +90,10 @@ class MapsView:
                                        value=state.right, width=250)
         self.present = pn.widgets.Toggle(label="Presentation layout", value=False, width=170)
         self.present.param.watch(self._presentation, "value")
+        # Display units of the whole page (explorer.display); the core stays SI.
+        self.units = pn.widgets.Select(label="Units", options={v: k for k, v in SYSTEMS.items()},
+                                       value=state.units, width=230)
+        self.units.param.watch(lambda e: setattr(state, "units", e.new), "value")
         self.sliders = pn.Row()
         # The figures exist from the start (empty until the window is solved) and are only
         # restyled afterwards: models added to a live page later can race its first render.
@@ -92,9 +101,9 @@ class MapsView:
         self.panes, self.sources, self.legends = [], [], []
         self.levels: dict[str, np.ndarray] = {}
         for i, key in enumerate((state.left, state.right)):
-            var = VARIABLES[key]
+            var = variable(key, state.units)
             fig, src, _ = map_figure(var, state.mode, *self._first_content(key), f"map-{i}",
-                                     *self._ranges(), height=MAP_HEIGHT)
+                                     *self._ranges(), height=MAP_HEIGHT, units=state.units)
             fig.sizing_mode = "stretch_width"
             fig.on_event(Tap, self._tap)
             self.panes.append(pn.pane.Bokeh(fig, sizing_mode="stretch_width"))
@@ -107,7 +116,7 @@ class MapsView:
         self.right.param.watch(lambda e: setattr(state, "right", e.new), "value")
         # One watcher: a new window moves `dataset` and `fixed` together, drawn once.
         state.param.watch(self._changed, ["dataset", "mode", "left", "right", "fixed",
-                                          "objective", "best_version"])
+                                          "objective", "best_version", "units"])
         state.param.watch(self._mark_selected, ["selected"])
         state.param.watch(self._progress, ["busy", "progress", "status"])
         self._progress()
@@ -120,19 +129,19 @@ class MapsView:
         s = self.state
         if s.dataset is None:
             return np.array([0.0, 1.0]), empty_layers()
-        var = VARIABLES[key]
+        var = variable(key, s.units)
         self.levels[key] = variable_levels(s.dataset, var)
         return self.levels[key], slice_layers(s.dataset, var, s.mode, s.fixed,
                                               s.scenario.limits, self.levels[key],
-                                              markers=s.markers())
+                                              markers=s.markers(), units=s.units)
 
     def _ranges(self):
         """x and y ranges of the maps: the window's, in display units."""
         ds = self.state.dataset
         if ds is None:
             return (0.0, 1.0), (0.0, 1.0)
-        x = ds.temperature.values - 273.15
-        y = ds[self.state.mode].values / (1e5 if self.state.mode == "pressure" else 1.0)
+        x = x_display(ds.temperature.values, self.state.units)
+        y = y_display(self.state.mode, ds[self.state.mode].values, self.state.units)
         return (float(x.min()), float(x.max())), (float(y.min()), float(y.max()))
 
     def _changed(self, *events):
@@ -163,14 +172,14 @@ class MapsView:
                 setattr(s, name, fallback)  # rebuilds through the watcher
                 return
             widget.value = getattr(s, name)
-        self.levels = {k: variable_levels(ds, VARIABLES[k]) for k in (s.left, s.right)}
+        self.levels = {k: variable_levels(ds, variable(k, s.units)) for k in (s.left, s.right)}
         x_range, y_range = self._ranges()
         for i, key in enumerate((s.left, s.right)):
-            var = VARIABLES[key]
+            var = variable(key, s.units)
             layers = slice_layers(ds, var, s.mode, s.fixed, s.scenario.limits, self.levels[key],
-                                  markers=s.markers())
+                                  markers=s.markers(), units=s.units)
             restyle_figure(self.panes[i].object, self.sources[i], var, s.mode,
-                           self.levels[key], layers, x_range, y_range)
+                           self.levels[key], layers, x_range, y_range, s.units)
         self._build_sliders()
         self._mark_selected()
 
@@ -180,7 +189,8 @@ class MapsView:
         for d in [d for d in ds["h2_yield"].dims if d not in ("temperature", s.mode)]:
             vals = ds[d].values
             if d == "pressure":
-                labels = [f"{v / 1e5:.2f} bar" for v in vals]
+                labels = [display.fmt(v, "pressure", 2, s.units, with_unit=True)
+                          .replace(" abs", "") for v in vals]
                 name = "Pressure (abs)"
             else:
                 labels = [f"{v:.3g}" for v in vals]
@@ -203,10 +213,10 @@ class MapsView:
         if s.dataset is None or not self.levels:
             return
         cut = slice_fields(s.dataset, s.mode, s.fixed)
-        shared = window_layers(cut, s.mode, s.scenario.limits, s.markers())
+        shared = window_layers(cut, s.mode, s.scenario.limits, s.markers(), units=s.units)
         for i, key in enumerate((s.left, s.right)):
-            layers = combine(variable_layers(cut, VARIABLES[key], s.mode, self.levels[key]),
-                             shared)
+            layers = combine(variable_layers(cut, variable(key, s.units), s.mode,
+                                             self.levels[key], s.units), shared)
             for name, data in layers.items():
                 self.sources[i][name].data = data
         self._mark_selected()
@@ -225,8 +235,8 @@ class MapsView:
             self._legends()
             return
         sel = s.selected
-        x = sel["temperature"] - 273.15
-        y = sel[s.mode] / (1e5 if s.mode == "pressure" else 1.0)
+        x = x_display(sel["temperature"], s.units)
+        y = y_display(s.mode, sel[s.mode], s.units)
         ds = s.dataset
         on_slice = all(
             math.isclose(float(ds[d].values[i]), sel[d], rel_tol=1e-12)
@@ -252,7 +262,7 @@ class MapsView:
         self._maps_row = pn.Row(*self.panes, sizing_mode="stretch_width")
         self._maps_column = pn.Column(sizing_mode="stretch_width")
         return pn.Column(
-            pn.Row(self.mode, self.left, self.right, self.sliders),
+            pn.Row(self.mode, self.left, self.right, self.sliders, self.units),
             pn.Row(self.bar, self.status, margin=(0, 0, 0, 0)),
             self._maps_row,
             self._maps_column,
@@ -304,7 +314,7 @@ class BalanceView:
                                           margin=(28, 10, 5, 10))
         self.typed_go.on_click(lambda e: self.select_typed())
         self.typed_message = _message_pane()
-        state.param.watch(self._update, ["selected", "scenario"])
+        state.param.watch(self._update, ["selected", "scenario", "units"])
         self._update()
 
     def select_typed(self) -> bool:
@@ -336,20 +346,27 @@ class BalanceView:
         what = "Typed point (computed exactly there)" if self.state.typed else "Grid node"
         took = (" (typed; not snapped to the grid)" if self.state.typed
                 else "; a click takes the nearest solved node, labelled here")
+        u = self.state.units
         self.heading.object = (
-            f"**{what}: {d['temperature_K'] - 273.15:.{2 if self.state.typed else 1}f} degC, "
-            f"{d['pressure_Pa'] / 1e5:.3f} bar abs, S/C {d['steam_to_carbon']:.3g}**"
+            f"**{what}: "
+            f"{display.fmt(d['temperature_K'], 'temperature', 2 if self.state.typed else 1, u)}"
+            f" {display.symbol('temperature', u)}, "
+            f"{display.fmt(d['pressure_Pa'], 'pressure', 3, u, with_unit=True)}, "
+            f"S/C {d['steam_to_carbon']:.3g}**"
             + (f", O2/C {d['oxygen_to_carbon']:.3g}" if d["oxygen_to_carbon"] else "")
             + (f", CO2/C {d['co2_to_carbon']:.3g}" if d["co2_to_carbon"] else "")
-            + f" (approach {d['approach_K']:g} K{took})"
+            + f" (approach {display.to_display(d['approach_K'], 'temperature_difference', u):g}"
+            f" {display.symbol('temperature_difference', u)}{took})"
         )
-        self.tables.object = verdict_html(d, self.state.scenario.limits) + balance_html(d)
+        self.tables.object = (verdict_html(d, self.state.scenario.limits, units=u)
+                              + balance_html(d, u))
 
     def _csv(self):
         if not self._current:
             return _io.StringIO("")
         sc = self.state.scenario
-        return _io.StringIO(balance_csv(self._current, sc.title, self.state.notes))
+        return _io.StringIO(balance_csv(self._current, sc.title, self.state.notes,
+                                        self.state.units))
 
     def _json(self):
         if not self._current:

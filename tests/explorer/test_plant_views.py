@@ -18,7 +18,15 @@ from explorer.cli import main
 from explorer.form import ScenarioForm
 from explorer.maps import PLANT_MAP_KEYS, VARIABLES
 from explorer.state import ExplorerState
-from explorer.tables import PLANT_ROWS, balance_csv, balance_html, display, limit_checks, lookup
+from explorer.tables import (
+    PLANT_ROWS,
+    balance_csv,
+    balance_html,
+    display,
+    limit_checks,
+    lookup,
+    rows_for,
+)
 from explorer.views import BalanceView, MapsView
 from tests.explorer.helpers import table_cells
 from thermo.scenario import parse_scenario
@@ -53,7 +61,7 @@ def test_cli_point_text_shows_the_plant(capsys, point_dict):
     out, _ = capsys.readouterr()
     assert code == 0
     assert "Plant: furnace, purification and steam" in out
-    spec = display(point_dict["plant"]["specific_energy_J_per_mol_h2"], "GJ1000Nm3", 2)
+    spec = display(point_dict["plant"]["specific_energy_J_per_mol_h2"], "specific_energy", 2)
     line = next(ln for ln in out.splitlines() if "Net specific energy" in ln
                 and "GJ/1000 Nm3 H2" in ln)
     assert spec in line
@@ -77,7 +85,7 @@ def test_balance_html_has_the_plant_table_with_the_core_numbers(point_dict):
     html = balance_html(point_dict)
     assert "Plant: furnace, purification and steam" in html
     cells = {(unescape(r[0]), r[2]): r[1] for r in table_cells(html) if len(r) == 3}
-    for label, unit, key, conv, dec in PLANT_ROWS:
+    for label, unit, key, conv, dec in rows_for(PLANT_ROWS):
         assert cells[(label.strip(), unit)] == display(lookup(point_dict, key), conv, dec)
     assert "Plant:" not in balance_html(thermo.point().to_dict())
 
@@ -121,7 +129,7 @@ def test_app_balance_shows_the_plant_table(scenario):
                   "steam_to_carbon": float(node.steam_to_carbon)}
     view = BalanceView(s)
     rows = [r for r in table_cells(view.tables.object) if r and r[0] == "Fired duty (LHV)"]
-    assert rows and rows[0][1] == display(float(node["plant_fired_duty"]), "MW", 2)
+    assert rows and rows[0][1] == display(float(node["plant_fired_duty"]), "power", 2)
 
 
 def test_form_keeps_the_plant_table(scenario):
