@@ -231,6 +231,19 @@ def system_note(system: str = DEFAULT) -> str:
             f"and {P_NORMAL / 1e5:g} bar ({V_NORMAL * 1e3:.3f} Nm3 per kmol).")
 
 
+def volume_conditions(system: str = DEFAULT) -> str:
+    """The conditions of gas volumes in `system`, in a few words."""
+    if check_system(system) == "us":
+        return "60 degF and 14.696 psia"
+    return f"{T_NORMAL - 273.15:g} degC and {P_NORMAL / 1e5:g} bar"
+
+
+def volume_words(system: str = DEFAULT) -> str:
+    """What a gas volume means in `system` ("normal volume at 0 degC and 1.01325 bar")."""
+    what = "standard volume" if check_system(system) == "us" else "normal volume"
+    return f"{what} at {volume_conditions(system)}"
+
+
 def axis_title(dim: str, system: str = DEFAULT) -> str:
     """Axis or slider title of a window dimension in `system`."""
     if dim == "temperature":

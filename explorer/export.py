@@ -350,7 +350,7 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
     shown = variables_in(units)  # the map variables as shown in these units
     pinned = list(pinned or [])
     R = _page_data(sc, ds, units)
-    facts = window_facts(sc, ds)
+    facts = window_facts(sc, ds, units=units)
     fixed0 = _fixed0(sc, ds)
     mode0 = "pressure"
     key0 = _key_text({d: j for d, j in fixed0.items() if d != mode0})
@@ -452,10 +452,10 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
         maps = column(controls, row(*figs[:2]), row(figs[2]), name="maps")
     bal = column(heading, balance, name="balance")
     now = datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC")
-    review = review_context(sc, ds, pinned, facts)
+    review = review_context(sc, ds, pinned, facts, units)
     title, comparison = sc.title, None
     if compare is not None:
-        comparison = comparison_context(sc, ds, *compare)
+        comparison = comparison_context(sc, ds, *compare, units=units)
         title = f"{sc.title} compared with {compare[0].title}"
     script, divs = components({"maps": maps, "balance": bal})
     # Only the library code this page's models need, inline (as the library's own file
@@ -472,7 +472,8 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
         bokeh_js=Markup(bundle.scripts()), plot_script=Markup(script),
         maps=Markup(divs["maps"]), balance=Markup(divs["balance"]),
         data_json=Markup(script_json(R)), comparison=comparison, review=review,
-        summary=summary_html(sc, ds, facts),
+        summary=summary_html(sc, ds, facts, units),
+        units_note=display.system_note(units),
     )
     return with_content_security_policy(page)
 

@@ -13,6 +13,7 @@ from pathlib import Path
 import panel as pn
 
 import thermo
+from explorer import display
 from explorer.safe import html, message_html, text
 from explorer.state import ExplorerState, check_window_size
 from thermo.errors import InputError
@@ -68,6 +69,12 @@ def _composition_toml(text: str) -> str:
         key = key if key.replace("_", "").isalnum() else json.dumps(key)
         pairs.append(f"{key} = {_q(val)}")
     return "{ " + ", ".join(pairs) + " }"
+
+
+def _in_units(value: float, kind: str, unit: str) -> str:
+    """An SI value as a field's text in the form's own units (metric: degC, bar, kmol/h,
+    MW), converted by explorer.display."""
+    return f"{_display(display.to_display(value, kind))} {unit}"
 
 
 def _display(v: float, digits: int = 6) -> str:
@@ -180,9 +187,12 @@ class ScenarioForm:
             lo, hi = sorted((axis.start, axis.stop))
             if lo - 1e-9 * abs(lo) <= value <= hi + 1e-9 * abs(hi):
                 continue
-            shown = {"temperature": lambda v: f"{v - 273.15:.4g} degC",
-                     "pressure": lambda v: f"{v / 1e5:.4g} bar abs",
-                     "steam_to_carbon": lambda v: f"{v:.4g}"}[name]
+            kind = display.axis_kind(name)
+
+            def shown(v, kind=kind):
+                text = f"{display.to_display(v, kind):.4g}"
+                return f"{text} {display.symbol(kind)}" if kind else text
+
             self.messages[name].object = html(
                 '<span class="rw-warn" data-role="design-outside">Outside the window '
                 "({} to {}): computed exactly at {}; the maps mark it at their border."
@@ -226,19 +236,19 @@ class ScenarioForm:
         }
         v["composition"].value = ", ".join(f"{k}={_display(x)}" for k, x in
                                            f.composition.items())
-        v["flow"].value = f"{_display(f.flow * 3.6)} kmol/h"
-        v["inlet_temperature"].value = f"{_display(f.inlet_temperature - 273.15)} degC"
+        v["flow"].value = _in_units(f.flow, "molar_flow", "kmol/h")
+        v["inlet_temperature"].value = _in_units(f.inlet_temperature, "temperature", "degC")
         v["steam_to_carbon"].value = _display(f.steam_to_carbon)
         v["oxygen_to_carbon"].value = _display(f.oxygen_to_carbon)
         v["co2_to_carbon"].value = _display(f.co2_to_carbon)
-        v["temperature"].value = f"{_display(sc.temperature - 273.15)} degC"
-        v["pressure"].value = f"{_display(sc.pressure / 1e5)} bar"
+        v["temperature"].value = _in_units(sc.temperature, "temperature", "degC")
+        v["pressure"].value = _in_units(sc.pressure, "pressure", "bar")
         v["approach"].value = f"{_display(sc.approach)} K"
-        v["t_from"].value = f"{_display(w.temperature.start - 273.15)} degC"
-        v["t_to"].value = f"{_display(w.temperature.stop - 273.15)} degC"
+        v["t_from"].value = _in_units(w.temperature.start, "temperature", "degC")
+        v["t_to"].value = _in_units(w.temperature.stop, "temperature", "degC")
         v["t_points"].value = str(w.temperature.points)
-        v["p_from"].value = f"{_display(w.pressure.start / 1e5)} bar"
-        v["p_to"].value = f"{_display(w.pressure.stop / 1e5)} bar"
+        v["p_from"].value = _in_units(w.pressure.start, "pressure", "bar")
+        v["p_to"].value = _in_units(w.pressure.stop, "pressure", "bar")
         v["p_points"].value = str(w.pressure.points)
         v["s_from"].value = _display(w.steam_to_carbon.start)
         v["s_to"].value = _display(w.steam_to_carbon.stop)
@@ -254,9 +264,9 @@ class ScenarioForm:
         v["max_slip"].value = ("" if lim.max_methane_slip_dry is None
                                else f"{_display(lim.max_methane_slip_dry * 100)} mol%")
         v["min_yield"].value = "" if lim.min_h2_yield is None else _display(lim.min_h2_yield)
-        v["max_duty"].value = "" if lim.max_duty is None else f"{_display(lim.max_duty / 1e6)} MW"
+        v["max_duty"].value = "" if lim.max_duty is None else _in_units(lim.max_duty, "power", "MW")
         v["max_fired_duty"].value = ("" if lim.max_fired_duty is None
-                                     else f"{_display(lim.max_fired_duty / 1e6)} MW")
+                                     else _in_units(lim.max_fired_duty, "power", "MW"))
         self.carbon_free.value = lim.carbon_free
         self._fill_train(sc)
         self._filled = {k: w.value for k, w in self.inputs.items()}
@@ -271,13 +281,13 @@ class ScenarioForm:
             box.value = getattr(t, name) is not None
         if t.pre_reformer is not None:
             T = t.pre_reformer.inlet_temperature
-            v["pre_inlet"].value = f"{_display(T - 273.15)} degC"
+            v["pre_inlet"].value = _in_units(T, "temperature", "degC")
             self._exact["pre_inlet"] = json.dumps(f"{T!r} K")
         sec = t.secondary_reformer
         if sec is not None:
             self.oxidant.value = sec.oxidant
             v["sec_ratio"].value = _display(sec.oxygen_to_carbon)
-            v["sec_temperature"].value = f"{_display(sec.oxidant_temperature - 273.15)} degC"
+            v["sec_temperature"].value = _in_units(sec.oxidant_temperature, "temperature", "degC")
             v["sec_approach"].value = f"{_display(sec.approach)} K"
             self._exact.update(sec_ratio=repr(sec.oxygen_to_carbon),
                                sec_temperature=json.dumps(f"{sec.oxidant_temperature!r} K"),
@@ -285,7 +295,7 @@ class ScenarioForm:
         for name, key in (("high_temperature_shift", "hts"), ("low_temperature_shift", "lts")):
             st = getattr(t, name)
             if st is not None:
-                v[f"{key}_temperature"].value = f"{_display(st.temperature - 273.15)} degC"
+                v[f"{key}_temperature"].value = _in_units(st.temperature, "temperature", "degC")
                 v[f"{key}_approach"].value = f"{_display(st.approach)} K"
                 self._exact[f"{key}_temperature"] = json.dumps(f"{st.temperature!r} K")
                 self._exact[f"{key}_approach"] = json.dumps(f"{st.approach!r} K")

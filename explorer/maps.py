@@ -37,8 +37,6 @@ from bokeh.plotting import figure
 from explorer import display
 from explorer.display import DEFAULT
 from thermo.carbon import BINDING, BINDING_WORDS
-from thermo.constants import V_NORMAL
-from thermo.plant import GJ_PER_1000NM3_FROM_J_PER_MOL
 from thermo.species import GAS_SPECIES
 from thermo.sweep import LIMIT_VARIABLES
 
@@ -106,24 +104,29 @@ class Variable:
         return f"{self.label} [{self.unit}]"
 
 
+def _scale(kind: str) -> float:
+    """Metric scale of a display kind (explorer.display), SI to shown."""
+    return display.unit(kind).scale
+
+
 def _variables() -> dict[str, Variable]:
     v = [
         Variable("h2_yield", "H2 yield", "mol H2 / mol hydrocarbon C", 1.0, Viridis256, 3),
-        Variable("methane_slip_dry", "Methane slip, dry", "mol %", 100.0,
+        Variable("methane_slip_dry", "Methane slip, dry", "mol %", _scale("percent"),
                  tuple(reversed(Inferno256)), 2),
         Variable("h2_potential", "H2 + CO potential", "mol / mol hydrocarbon C", 1.0,
                  Viridis256, 3),
-        Variable("methane_conversion", "Methane conversion (hydrocarbon C)", "%", 100.0,
+        Variable("methane_conversion", "Methane conversion (hydrocarbon C)", "%", _scale("percent"),
                  Cividis256, 2),
         Variable("h2_co_ratio", "H2/CO", "mol/mol", 1.0, Cividis256, 2),
         Variable("h2_product", "H2 product after the train", "mol H2 / mol hydrocarbon C",
                  1.0, Viridis256, 3),
-        Variable("train_duty", "Heat supplied to the train", "MW", 1e-6,
+        Variable("train_duty", "Heat supplied to the train", "MW", _scale("power"),
                  tuple(reversed(Inferno256)), 2, "power"),
         Variable("train_methane_slip_dry", "Methane slip after the last reformer, dry",
-                 "mol %", 100.0, tuple(reversed(Inferno256)), 2),
-        Variable("duty", "Duty", "MW", 1e-6, tuple(reversed(Inferno256)), 2, "power"),
-        Variable("duty_per_h2", "Duty per H2", "MJ/kmol H2", 1e-3,
+                 "mol %", _scale("percent"), tuple(reversed(Inferno256)), 2),
+        Variable("duty", "Duty", "MW", _scale("power"), tuple(reversed(Inferno256)), 2, "power"),
+        Variable("duty_per_h2", "Duty per H2", "MJ/kmol H2", _scale("energy_per_mol"),
                  tuple(reversed(Inferno256)), 1, "energy_per_mol", "H2"),
         Variable("carbon_activity", "Carbon activity (graphite = 1)", "-", 1.0,
                  tuple(reversed(Inferno256)), 3),
@@ -132,7 +135,7 @@ def _variables() -> dict[str, Variable]:
     ]
     for s in GAS_SPECIES:
         if s != "H2O":
-            v.append(Variable(f"dry:{s}", f"{s}, dry", "mol %", 100.0, Cividis256, 3))
+            v.append(Variable(f"dry:{s}", f"{s}, dry", "mol %", _scale("percent"), Cividis256, 3))
     v += _plant_variables()
     return {x.key: x for x in v}
 
@@ -140,27 +143,29 @@ def _variables() -> dict[str, Variable]:
 def _plant_variables() -> list[Variable]:
     """Map variables of the plant around the reformer (Datasets of a [plant] scenario)."""
     hot = tuple(reversed(Inferno256))
+    mw, flow, steam = _scale("power"), _scale("molar_flow"), _scale("steam_flow")
     return [
         Variable("specific_energy", "Net specific energy", "GJ/1000 Nm3 H2",
-                 GJ_PER_1000NM3_FROM_J_PER_MOL, hot, 2, "specific_energy", "H2"),
-        Variable("plant_fired_duty", "Fired duty (LHV)", "MW", 1e-6, hot, 1, "power"),
-        Variable("plant_trim_fuel", "Trim natural gas (LHV)", "MW", 1e-6, hot, 1, "power"),
-        Variable("plant_tail_gas_lhv", "Tail gas to the furnace (LHV)", "MW", 1e-6, Cividis256,
+                 _scale("specific_energy"), hot, 2, "specific_energy", "H2"),
+        Variable("plant_fired_duty", "Fired duty (LHV)", "MW", mw, hot, 1, "power"),
+        Variable("plant_trim_fuel", "Trim natural gas (LHV)", "MW", mw, hot, 1, "power"),
+        Variable("plant_tail_gas_lhv", "Tail gas to the furnace (LHV)", "MW", mw, Cividis256,
                  1, "power"),
-        Variable("plant_tail_gas_excess", "Tail gas beyond what the furnace needs", "MW", 1e-6,
+        Variable("plant_tail_gas_excess", "Tail gas beyond what the furnace needs", "MW", mw,
                  hot, 1, "power"),
-        Variable("radiant_efficiency", "Radiant efficiency", "%", 100.0, Viridis256, 1),
-        Variable("plant_h2_product", "H2 product (purified)", "kmol/h", 3.6, Viridis256, 0,
+        Variable("radiant_efficiency", "Radiant efficiency", "%", _scale("percent"),
+                 Viridis256, 1),
+        Variable("plant_h2_product", "H2 product (purified)", "kmol/h", flow, Viridis256, 0,
                  "molar_flow"),
-        Variable("plant_steam_raised", "Steam raised", "t/h", 3.6, Cividis256, 1,
+        Variable("plant_steam_raised", "Steam raised", "t/h", steam, Cividis256, 1,
                  "steam_flow"),
-        Variable("plant_process_steam", "Process steam", "t/h", 3.6, hot, 1, "steam_flow"),
-        Variable("plant_steam_export", "Steam export (negative: import)", "t/h", 3.6,
+        Variable("plant_process_steam", "Process steam", "t/h", steam, hot, 1, "steam_flow"),
+        Variable("plant_steam_export", "Steam export (negative: import)", "t/h", steam,
                  Cividis256, 1, "steam_flow"),
         Variable("natural_gas_per_h2", "Natural gas (feed + trim) per H2", "Nm3/Nm3 H2", 1.0,
                  hot, 3, "gas_volume_ratio", "H2"),
-        Variable("steam_export_per_h2", "Steam export per H2", "kg/Nm3 H2", 1.0 / V_NORMAL,
-                 Cividis256, 3, "mass_per_gas_volume", "H2"),
+        Variable("steam_export_per_h2", "Steam export per H2", "kg/Nm3 H2",
+                 _scale("mass_per_gas_volume"), Cividis256, 3, "mass_per_gas_volume", "H2"),
     ]
 
 

@@ -423,9 +423,9 @@ class ComparisonView:
         self.variable.param.watch(self._redraw, "value")
         # The base's dataset also changes alone (a limits edit: same numbers, new feasible
         # window), and its hatching must follow.
-        state.param.watch(self._redraw, ["difference", "dataset", "mode", "fixed"])
+        state.param.watch(self._redraw, ["difference", "dataset", "mode", "fixed", "units"])
         state.param.watch(self._status, ["compare_status"])
-        state.param.watch(self._table, ["selected", "difference"])
+        state.param.watch(self._table, ["selected", "difference", "units"])
         state.param.watch(self._mark, ["selected"])
         self._status()
         self._redraw()
@@ -508,7 +508,8 @@ class ComparisonView:
             self._default_variable()
         base, prop, diff = s.dataset, s.proposal_dataset, s.difference
         key = self.variable.value
-        var = VARIABLES[key]
+        u = s.units
+        var = variable(key, u)
         levels = shared_levels((base, prop), var)
         ch = change_variable(var)
         tol = change_tolerance(base, var)
@@ -520,24 +521,25 @@ class ComparisonView:
             "range over the base window) are shown as no change: solver round-off. Each map "
             "carries its own carbon boundary and feasible window (the change map, the "
             "proposal's); the slice and the selected point follow the maps above.")
-        x = base.temperature.values - 273.15
-        y = base[s.mode].values / (1e5 if s.mode == "pressure" else 1.0)
+        x = x_display(base.temperature.values, u)
+        y = y_display(s.mode, base[s.mode].values, u)
         ranges = ((float(x.min()), float(x.max())), (float(y.min()), float(y.max())))
         cut_b = slice_fields(base, s.mode, s.fixed)
         cut_p = slice_fields(prop, s.mode, s.fixed)
         sel = {d: i for d, i in s.fixed.items() if d in diff.dims
                and d not in (s.mode, "temperature")}
         cut_d = diff.isel(sel).transpose(s.mode, "temperature", ...)
-        common_p = window_layers(cut_p, s.mode, s.proposal.limits)
+        common_p = window_layers(cut_p, s.mode, s.proposal.limits, units=u)
         panels = [
-            (var, levels, combine(variable_layers(cut_b, var, s.mode, levels),
-                                  window_layers(cut_b, s.mode, s.scenario.limits))),
-            (var, levels, combine(variable_layers(cut_p, var, s.mode, levels), common_p)),
-            (ch, ch_levels, combine(variable_layers(cut_d, ch, s.mode, ch_levels), common_p)),
+            (var, levels, combine(variable_layers(cut_b, var, s.mode, levels, u),
+                                  window_layers(cut_b, s.mode, s.scenario.limits, units=u))),
+            (var, levels, combine(variable_layers(cut_p, var, s.mode, levels, u), common_p)),
+            (ch, ch_levels, combine(variable_layers(cut_d, ch, s.mode, ch_levels, u),
+                                    common_p)),
         ]
         for i, (v, lv, layers) in enumerate(panels):
             fig = self.panes[i].object
-            restyle_figure(fig, self.sources[i], v, s.mode, lv, layers, *ranges)
+            restyle_figure(fig, self.sources[i], v, s.mode, lv, layers, *ranges, u)
             fig.title.text = f"{self.titles[i]}: {v.label}"
         self._mark()
 
@@ -545,8 +547,8 @@ class ComparisonView:
         s = self.state
         data = {"x": [], "y": [], "alpha": []}
         if s.selected is not None and s.difference is not None:
-            data = {"x": [s.selected["temperature"] - 273.15],
-                    "y": [s.selected[s.mode] / (1e5 if s.mode == "pressure" else 1.0)],
+            data = {"x": [x_display(s.selected["temperature"], s.units)],
+                    "y": [y_display(s.mode, s.selected[s.mode], s.units)],
                     "alpha": [1.0]}
         for src in self.sources:
             src["selected"].data = data
@@ -568,10 +570,13 @@ class ComparisonView:
             self.table.object = "<p class='rw-small'>Select a point on a map.</p>"
             return
         da, db = a.to_dict(), b.to_dict()
-        self.table.object = (f"<h4>Base and proposal at {da['temperature_K'] - 273.15:.1f} "
-                             f"degC, {da['pressure_Pa'] / 1e5:.3f} bar abs, S/C "
-                             f"{da['steam_to_carbon']:.3g}</h4>" + compare_point_html(da, db)
-                             + "<h4>Proposal: full balance</h4>" + balance_html(db))
+        u = s.units
+        self.table.object = (
+            "<h4>Base and proposal at "
+            f"{display.fmt(da['temperature_K'], 'temperature', 1, u, with_unit=True)}, "
+            f"{display.fmt(da['pressure_Pa'], 'pressure', 3, u, with_unit=True)}, S/C "
+            f"{da['steam_to_carbon']:.3g}</h4>" + compare_point_html(da, db, u)
+            + "<h4>Proposal: full balance</h4>" + balance_html(db, u))
 
     def __panel__(self):
         return pn.Column(
@@ -592,11 +597,11 @@ class PinnedView:
         self.table = pn.pane.HTML("", stylesheets=[PAGE_CSS], sizing_mode="stretch_width")
         self.clear = pn.widgets.Button(label="Clear pinned points")
         self.clear.on_click(lambda e: state.clear_pins())
-        state.param.watch(self._update, ["pinned"])
+        state.param.watch(self._update, ["pinned", "units"])
         self._update()
 
     def _update(self, *_):
-        self.table.object = comparison_html(self.state.pinned)
+        self.table.object = comparison_html(self.state.pinned, self.state.units)
 
     def __panel__(self):
         return pn.Column(self.table, self.clear)
@@ -645,7 +650,8 @@ class NotesView:
             proc = subprocess.run(
                 [sys.executable, "-m", "explorer.export", "--scenario",
                  str(folder / "scenario.toml"), "--grid", str(folder / "grid.nc"),
-                 "--pinned", str(folder / "pinned.json"), *extra, "-o", str(out)],
+                 "--pinned", str(folder / "pinned.json"), *extra, "--units", s.units,
+                 "-o", str(out)],
                 capture_output=True, text=True, timeout=600)
             if proc.returncode != 0 or not out.exists():
                 last = (proc.stderr.strip().splitlines() or ["unknown error"])[-1]
@@ -684,9 +690,9 @@ class SummaryView:
                                  title="Margins and sensitivities of the design point; the best "
                                  "point's objective, margins and full balance (open)",
                                  collapsed=True, sizing_mode="stretch_width")
-        state.param.watch(self._update, ["dataset", "scenario"])
+        state.param.watch(self._update, ["dataset", "scenario", "units"])
         state.param.watch(self._update_best, ["dataset", "scenario", "objective",
-                                              "best_version"])
+                                              "best_version", "units"])
         self._update()
         self._update_best()
 
@@ -694,10 +700,12 @@ class SummaryView:
         s = self.state
         sc, ds = s.scenario, s.dataset
         d = s.design_point().to_dict()
-        where = (f"{sc.temperature - 273.15:.1f} degC, {sc.pressure / 1e5:.4g} bar abs, "
-                 f"S/C {sc.feed.steam_to_carbon:g}")
+        u = s.units
+        where = (f"{display.fmt(sc.temperature, 'temperature', 1, u, with_unit=True)}, "
+                 f"{display.to_display(sc.pressure, 'pressure', u):.4g} "
+                 f"{display.symbol('pressure', u)}, S/C {sc.feed.steam_to_carbon:g}")
         parts = [verdict_html(d, sc.limits, prefix=f"Design point ({where}, computed "
-                                                   "exactly there): ")]
+                                                   "exactly there): ", units=u)]
         outside = s.design_in_window()
         if outside:
             parts.append(str(html(
@@ -707,26 +715,27 @@ class SummaryView:
         if ds is None:
             parts.append("<p>Solving the window ...</p>")
         else:
-            words, p_bar, s_c = design_row_ranges(ds, sc)
+            words, p_bar, s_c = design_row_ranges(ds, sc, u)
             n_ok, n = int(ds["feasible"].sum()), int(ds["feasible"].size)
             exact = "feasible_t_low" in ds
             parts.append(
-                f"<p><b>Feasible outlet temperature</b> at {p_bar:.4g} bar abs and S/C "
-                f"{s_c:g} (the grid row nearest the design point): <b>{text(words)}</b> degC"
+                f"<p><b>Feasible outlet temperature</b> at {p_bar:.4g} "
+                f"{display.symbol('pressure', u)} and S/C {s_c:g} (the grid row nearest the "
+                f"design point): <b>{text(words)}</b> {display.symbol('temperature', u)}"
                 + (" (exact edges, to 0.1 K)" if exact else " (grid points)")
                 + f". Within every review limit: {n_ok:,} of {n:,} grid points.</p>")
-            warn = grid_warning_text(ds)
+            warn = grid_warning_text(ds, u)
             if warn:
                 parts.append(str(html('<p class="rw-warn" data-role="grid-warning">{}</p>',
                                       warn)))
         m = s.design_margins()
         parts.append(str(html("<p><b>Margins of the design point</b> (positive inside the "
-                              "window): {}.</p>", margins_line(m))))
+                              "window): {}.</p>", margins_line(m, u))))
         self.pane.object = '<div class="rw-summary">' + "\n".join(parts) + "</div>"
         self.design_margins.object = (
             "<p><b>Margins of the design point</b> (positive inside the window) and what moves "
             "if T, P or S/C drift (central differences through the core):</p>"
-            + str(margins_html(m)))
+            + str(margins_html(m, units=u)))
 
     def _update_best(self, *_):
         s = self.state
@@ -740,14 +749,15 @@ class SummaryView:
             self.best.object = "<p>Finding the best point ...</p>"
             self.best_balance.object = ""
             return
+        u = s.units
         self.best.object = str(html('<p class="rw-summary" data-role="best-point">{}</p>',
-                                    best_summary(bp)))
+                                    best_summary(bp, u)))
         if bp.feasible:
             d = bp.point.to_dict()
             self.best_balance.object = ('<div data-role="best-balance">'
-                                        + str(margins_html(bp.margins))
-                                        + verdict_html(d, s.scenario.limits)
-                                        + balance_html(d) + "</div>")
+                                        + str(margins_html(bp.margins, units=u))
+                                        + verdict_html(d, s.scenario.limits, units=u)
+                                        + balance_html(d, u) + "</div>")
         else:
             self.best_balance.object = ""
 

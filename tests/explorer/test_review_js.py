@@ -104,3 +104,47 @@ def test_page_assembles_a_train_balance_as_the_core_does(tmp_path):
         got = table_cells(shown)
         assert "Reforming train" in shown and "Low-temperature shift" in shown
         assert got == want, p
+
+
+@pytest.mark.usefixtures("node")  # skips without Node.js, fails in CI (tests/conftest.py)
+@pytest.mark.parametrize("units", ["metric", "us"])
+def test_page_balance_equals_python_in_both_unit_systems(tmp_path, units):
+    """The review file's script, given the factors of explorer.display for `units`, builds
+    the same table text as explorer.tables.balance_html in that system (total row and gas
+    volume columns included), and the file carries its system."""
+    import thermo
+    from explorer import export
+    from explorer.display import conversions
+    from explorer.tables import balance_html
+    from tests.explorer.helpers import table_cells
+
+    sc = thermo.load_scenario().with_window(
+        temperature=("760 degC", "940 degC", 4), pressure=("15 bar", "35 bar", 3),
+        steam_to_carbon=(2.0, 4.0, 3))
+    ds = thermo.sweep(sc)
+    R = export._page_data(sc, ds, units)
+    assert R["units"] == units and R["conversions"] == conversions(units)
+    data = {k: np.asarray(v).tolist() for k, v in export._points_source(ds, sc).data.items()}
+    flat = [0, 13, 35]
+    js = resources.files("explorer").joinpath("review.js").read_text("utf-8")
+    script = (f"globalThis.window = {{__rwData: {json.dumps(R)}}};\n"
+              f"const pts = {{data: {json.dumps(data)}}};\n{js}\n"
+              f"console.log(JSON.stringify({json.dumps(flat)}.map((p) => "
+              "balanceHtml(assemble(p)))));")
+    file = tmp_path / "assemble.js"
+    file.write_text(script, "utf-8")
+    out = json.loads(subprocess.run([NODE, str(file)], capture_output=True, text=True,
+                                    timeout=60, check=True).stdout)
+    dims = list(ds["h2_yield"].dims)
+    shape = ds["h2_yield"].shape
+    for p, shown in zip(flat, out, strict=True):
+        g = ds.isel(dict(zip(dims, np.unravel_index(p, shape), strict=True)))
+        pt = thermo.point(sc, temperature=f"{float(g.temperature)!r} K",
+                          pressure=f"{float(g.pressure)!r} Pa",
+                          steam_to_carbon=float(g.steam_to_carbon))
+        want = table_cells(balance_html(pt.to_dict(), units))
+        got = table_cells(shown)
+        assert any(r and r[0] == "total gas" for r in got)
+        assert got == want, p
+    unit = {"metric": "Nm3/h", "us": "MMSCFD"}[units]
+    assert f"in {unit}" in out[0]
