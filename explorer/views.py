@@ -94,6 +94,7 @@ class MapsView:
         self.units = pn.widgets.Select(label="Units", options={v: k for k, v in SYSTEMS.items()},
                                        value=state.units, width=230)
         self.units.param.watch(lambda e: setattr(state, "units", e.new), "value")
+        state.param.watch(lambda e: setattr(self.units, "value", e.new), "units")
         self.sliders = pn.Row()
         # The figures exist from the start (empty until the window is solved) and are only
         # restyled afterwards: models added to a live page later can race its first render.

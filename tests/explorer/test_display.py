@@ -314,3 +314,47 @@ def test_review_file_carries_its_unit_system(tmp_path):
     assert '"units":"metric"' in metric and "Outlet temperature [degC]" in metric
     # The command line refuses an unknown system in one line, exit status 2.
     assert main(["export", "-o", str(tmp_path / "x.html"), "--units", "kelvin"]) == 2
+
+
+def test_cli_point_units_text_follows_the_system_and_json_stays_si(capsys):
+    """`explorer point --units us` prints US customary text; with --json the object is the
+    same SI object as without --units (the contract)."""
+    import json
+
+    from explorer.cli import main
+
+    assert main(["point", "--units", "us"]) == 0
+    out = capsys.readouterr().out
+    assert "degF" in out and "psia" in out and "MMSCFD" in out and "MMBtu/h" in out
+    assert main(["point", "--units", "us", "--json"]) == 0
+    us = json.loads(capsys.readouterr().out)
+    assert main(["point", "--json"]) == 0
+    si = json.loads(capsys.readouterr().out)
+    assert us == si and "temperature_K" in si
+
+
+def test_app_units_chooser_redraws_maps_and_balance():
+    """Switching ExplorerState.units (the app's chooser) relabels the maps, converts their
+    axes and redraws the balance in the chosen system."""
+    from explorer.state import ExplorerState
+    from explorer.views import BalanceView, MapsView
+
+    sc = thermo.load_scenario().with_window(
+        temperature=("760 degC", "900 degC", 3), pressure=("15 bar", "35 bar", 2),
+        steam_to_carbon=(2.5, 3.5, 2))
+    s = ExplorerState(sc)
+    s.solve_now()
+    maps, bal = MapsView(s), BalanceView(s)
+    s.select_index({"temperature": 1, "pressure": 0, "steam_to_carbon": 0})
+    fig = maps.panes[0].object
+    assert fig.xaxis[0].axis_label == "Outlet temperature [degC]"
+    s.units = "us"
+    assert maps.units.value == "us"
+    assert fig.xaxis[0].axis_label == "Outlet temperature [degF]"
+    assert fig.yaxis[0].axis_label == "Outlet pressure [psia]"
+    assert fig.x_range.start == pytest.approx(760 * 1.8 + 32)
+    assert "MMSCFD" in bal.tables.object and "degF" in bal.heading.object
+    # A click in degF, psia selects the same node as in degC, bar.
+    s.select_display(830 * 1.8 + 32, 35e5 / PSI_PA_SP811)
+    assert s.selected["temperature"] == pytest.approx(1103.15)
+    assert s.selected["pressure"] == pytest.approx(35e5)
