@@ -228,3 +228,15 @@ def text_of(raw: object) -> str:
     if isinstance(raw, float):
         return _positional(raw, 17) if raw == int(raw) and abs(raw) < 1e15 else repr(raw)
     return str(raw)
+
+
+def input_rows(sc) -> list[tuple[str, str, str]]:
+    """(key path, label, value as written) of every key the scenario holds, in schema order:
+    the review sheet's list of inputs as entered."""
+    rows = []
+    for key in KEYS:
+        value = _get(sc, key)
+        if key.path == "notes" or not _present(sc, key, value):
+            continue
+        rows.append((key.path, key.label, text_of(exact_text(sc, key, value))))
+    return rows
