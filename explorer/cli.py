@@ -6,10 +6,11 @@ User errors print one line to stderr and exit with status 2; no traceback.
 from __future__ import annotations
 
 import argparse
+import importlib
 import json
 import sys
 
-from thermo.errors import InputError
+from thermo.errors import InputError, all_errors
 
 EXIT_USER_ERROR = 2
 
@@ -53,8 +54,12 @@ def _kernel_notice(points: int, background: bool = False) -> None:
 def _cmd_point(args: argparse.Namespace) -> int:
     import thermo
     from explorer.report import point_report
+    from thermo.scenario import POINT_OVERRIDES, validate_point_overrides
 
     sc = thermo.load_scenario(args.scenario)
+    # Every option checked at once (one line per bad option), named as typed.
+    options = {name: BY_OPTION[path] for name, path in POINT_OVERRIDES.items()}
+    validate_point_overrides(options, **{name: getattr(args, name) for name in options})
     _kernel_notice(1)
     pt = thermo.point(
         sc,
@@ -112,6 +117,14 @@ def _cmd_grid(args: argparse.Namespace) -> int:
         raise InputError("--workers", args.workers, "either --workers or --scheduler, not both")
     if args.workers is not None and not 1 <= args.workers <= 256:
         raise InputError("--workers", args.workers, "a number of worker processes from 1 to 256")
+    if args.workers is not None or args.scheduler is not None:
+        try:
+            importlib.import_module("dask.distributed")
+        except ImportError:
+            option = "--scheduler" if args.scheduler else "--workers"
+            raise InputError(option, args.scheduler or args.workers,
+                             'the dask extra for distributed sweeps: pip install -e ".[dask]" '
+                             "(or leave the option out to solve in this process)") from None
     sc = thermo.load_scenario(args.scenario)
     out = _output_path(args.output, ".nc")
     n = sc.window.size()
@@ -252,15 +265,11 @@ def _cmd_serve(args: argparse.Namespace) -> int:
     return 0
 
 
-def _ratio_arg(name: str):
-    def parse(text: str) -> float:
-        try:
-            return float(text)
-        except ValueError:
-            allowed = "a plain number (mol per mol hydrocarbon carbon)"
-            raise InputError(name, text, allowed) from None
+def _override_keys():
+    """The schema's keys that `explorer point` options override (thermo.schema, `option`)."""
+    from thermo.schema import KEYS
 
-    return parse
+    return [k for k in KEYS if k.option]
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -275,17 +284,9 @@ def build_parser() -> argparse.ArgumentParser:
     pt = sub.add_parser("point", help="equilibrium outlet and full balance at one point")
     pt.add_argument("scenario", nargs="?", default=None,
                     help="scenario TOML file (default: the shipped demo)")
-    pt.add_argument("--temperature", help='outlet temperature, e.g. "850 degC"')
-    pt.add_argument("--pressure", help='outlet pressure, e.g. "25 bar" or "24 barg"')
-    pt.add_argument("--steam-to-carbon", type=_ratio_arg("--steam-to-carbon"),
-                    help="mol H2O per mol hydrocarbon carbon")
-    pt.add_argument("--feed", help='dry feed mole fractions, e.g. "CH4=0.95,C2H6=0.03,N2=0.02"')
-    pt.add_argument("--oxygen-to-carbon", type=_ratio_arg("--oxygen-to-carbon"),
-                    help="mol O2 per mol hydrocarbon carbon")
-    pt.add_argument("--co2-to-carbon", type=_ratio_arg("--co2-to-carbon"),
-                    help="mol CO2 co-fed per mol hydrocarbon carbon")
-    pt.add_argument("--inlet-temperature", help='mixed-feed temperature, e.g. "540 degC"')
-    pt.add_argument("--approach", help='approach to equilibrium, e.g. "10 K"')
+    for key in _override_keys():
+        pt.add_argument(key.option, default=None,
+                        help=f"overrides {key.path}: {key.help[0].lower()}{key.help[1:]}")
     pt.add_argument("--adiabatic", action="store_true",
                     help="solve the outlet temperature at zero duty")
     pt.add_argument("--json", action="store_true", help="print one strict JSON object (SI)")
@@ -347,17 +348,9 @@ def build_parser() -> argparse.ArgumentParser:
     return p
 
 
-_OPTION_NAMES = {
-    "temperature": "--temperature",
-    "pressure": "--pressure",
-    "steam_to_carbon": "--steam-to-carbon",
-    "feed": "--feed",
-    "oxygen_to_carbon": "--oxygen-to-carbon",
-    "co2_to_carbon": "--co2-to-carbon",
-    "inlet_temperature": "--inlet-temperature",
-    "approach": "--approach",
-    "objective": "--objective",
-}
+#: Option of each overridden key path (the schema's `option` column).
+BY_OPTION = {k.path: k.option for k in _override_keys()}
+_OPTION_NAMES = {"objective": "--objective"}
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -367,11 +360,12 @@ def main(argv: list[str] | None = None) -> int:
         args = build_parser().parse_args(argv)
         return args.func(args)
     except InputError as err:
-        field = _OPTION_NAMES.get(err.field.split(".")[0], None)
-        msg = str(err)
-        if field and not err.field.startswith(("feed.", "window.", "limits.")):
-            msg = msg.replace(err.field, field, 1)
-        print(f"explorer: error: {msg}", file=sys.stderr)
+        # One line per refused field (a scenario with several bad fields lists them all).
+        for e in all_errors(err):
+            msg = str(e)
+            if e.field in _OPTION_NAMES:
+                msg = msg.replace(e.field, _OPTION_NAMES[e.field], 1)
+            print(f"explorer: error: {msg}", file=sys.stderr)
         return EXIT_USER_ERROR
     except KeyboardInterrupt:
         print("explorer: interrupted", file=sys.stderr)

@@ -1,13 +1,14 @@
-"""The scenario form: fields for the feed, design point, window, limits and train; a
-shipped scenario or an uploaded file.
+"""The scenario form, generated from the schema (:data:`thermo.schema.KEYS`): one field per
+key, grouped by table; a shipped scenario or an uploaded file.
 
-The form writes TOML text from its fields and hands it to :func:`thermo.scenario.parse_scenario`,
-so the app validates exactly as the command line does.
+Each field is checked when it is left (its value changes) and the message shown beside it; on
+"Apply" the fields become a mapping of raw TOML values, written by the one writer
+(:func:`thermo.scenario_toml.dump`) and read by :func:`thermo.scenario.parse_scenario`, so the
+app validates exactly as the command line does and every refused field is shown at once.
 """
 
 from __future__ import annotations
 
-import json
 from pathlib import Path
 
 import panel as pn
@@ -16,8 +17,11 @@ import thermo
 from explorer import display
 from explorer.safe import html, message_html, text
 from explorer.state import ExplorerState, check_window_size
-from thermo.errors import InputError
-from thermo.scenario import DEMO_PATH, Scenario, carbon_toml, parse_scenario, plant_toml
+from thermo.errors import InputError, all_errors
+from thermo.scenario import DEMO_PATH, CarbonCheck, Scenario, parse_scenario
+from thermo.scenario_toml import _get, dump, exact_text, raw_from_text, text_of
+from thermo.schema import BY_NAME, KEYS, Key, parse_value
+from thermo.species import molar_mass
 
 #: Largest scenario file accepted by upload [bytes].
 MAX_UPLOAD_BYTES = 256 * 1024
@@ -45,119 +49,56 @@ def read_upload(data: bytes | None, filename: str | None) -> tuple[Scenario | No
         return None, message_html("Not loaded: ", err)
 
 
-def _q(value: str) -> str:
-    """A TOML value from a field's text: a number stays a number, anything else a string."""
-    text = value.strip()
-    try:
-        float(text)
-        if text.lower() in ("nan", "inf", "-inf", "+inf", "infinity"):
-            raise ValueError
-        return text
-    except ValueError:
-        return json.dumps(text)
+#: Section headings of the form, by table.
+SECTIONS = {
+    "": "Study", "feed": "Feed", "design_point": "Design point", "window": "Window",
+    "limits": "Review limits", "carbon": "Carbon check", "plant": "Hydrogen plant",
+    "display": "Display",
+}
+#: Tables switched on and off by a checkbox (the label), with the keys they hold.
+TOGGLED = {
+    "train.pre_reformer": "Adiabatic pre-reformer",
+    "train.secondary_reformer": "Adiabatic secondary reformer",
+    "train.high_temperature_shift": "High-temperature shift",
+    "train.low_temperature_shift": "Low-temperature shift",
+    "carbon": "Carbon check settings (else graphite reference, linear tube path)",
+    "plant": "Hydrogen plant around the reformer (furnace, purification, steam)",
+}
+_COFEED_AXES = ("window.oxygen_to_carbon", "window.co2_to_carbon")
 
 
-def _composition_toml(text: str) -> str:
-    pairs = []
-    for part in text.replace(";", ",").split(","):
-        if not part.strip():
-            continue
-        name, sep, val = part.partition("=")
-        if not sep:
-            return json.dumps(text)  # refused by the parser with the key path
-        key = name.strip()
-        key = key if key.replace("_", "").isalnum() else json.dumps(key)
-        pairs.append(f"{key} = {_q(val)}")
-    return "{ " + ", ".join(pairs) + " }"
+def _form_keys() -> list[Key]:
+    """The keys the form edits: all but the review notes (edited beside the maps)."""
+    return [k for k in KEYS if k.path != "notes"]
 
 
-def _in_units(value: float, kind: str, unit: str) -> str:
-    """An SI value as a field's text in the form's own units (metric: degC, bar, kmol/h,
-    MW), converted by explorer.display."""
-    return f"{_display(display.to_display(value, kind))} {unit}"
-
-
-def _display(v: float, digits: int = 6) -> str:
-    return f"{v:.{digits}g}"
+def _toggle_of(key: Key) -> str | None:
+    for table in (*TOGGLED, *_COFEED_AXES):
+        if key.table == table:
+            return table
+    return None
 
 
 class ScenarioForm:
-    """Editable scenario: feed, design point, window and limits, with messages per field."""
+    """Editable scenario, one widget per schema key, with a message pane beside each."""
 
-    FIELDS = [
-        # (name, label, key path)
-        ("composition", "Dry feed, mole fractions", "feed.composition"),
-        ("flow", "Dry feed flow", "feed.flow"),
-        ("inlet_temperature", "Feed inlet temperature", "feed.inlet_temperature"),
-        ("steam_to_carbon", "Design steam-to-carbon", "feed.steam_to_carbon"),
-        ("oxygen_to_carbon", "O2 co-feed per C", "feed.oxygen_to_carbon"),
-        ("co2_to_carbon", "CO2 co-feed per C", "feed.co2_to_carbon"),
-        ("temperature", "Design outlet temperature", "design_point.temperature"),
-        ("pressure", "Design outlet pressure", "design_point.pressure"),
-        ("approach", "Approach to equilibrium", "design_point.approach"),
-        ("t_from", "Window T from", "window.temperature.from"),
-        ("t_to", "Window T to", "window.temperature.to"),
-        ("t_points", "T points", "window.temperature.points"),
-        ("p_from", "Window P from", "window.pressure.from"),
-        ("p_to", "Window P to", "window.pressure.to"),
-        ("p_points", "P points", "window.pressure.points"),
-        ("s_from", "Window S/C from", "window.steam_to_carbon.from"),
-        ("s_to", "Window S/C to", "window.steam_to_carbon.to"),
-        ("s_points", "S/C points", "window.steam_to_carbon.points"),
-        ("c_from", "Co-feed axis from", "window.cofeed.from"),
-        ("c_to", "Co-feed axis to", "window.cofeed.to"),
-        ("c_points", "Co-feed points", "window.cofeed.points"),
-        ("max_slip", "Max methane slip, dry", "limits.max_methane_slip_dry"),
-        ("min_yield", "Min H2 yield (mol/mol C)", "limits.min_h2_yield"),
-        ("max_duty", "Max duty", "limits.max_duty"),
-        ("max_fired_duty", "Max fired duty (LHV; with [plant])", "limits.max_fired_duty"),
-        ("pre_inlet", "Pre-reformer inlet T", "train.pre_reformer.inlet_temperature"),
-        ("sec_ratio", "O2 per hydrocarbon C", "train.secondary_reformer.oxygen_to_carbon"),
-        ("sec_temperature", "Oxidant temperature",
-         "train.secondary_reformer.oxidant_temperature"),
-        ("sec_approach", "Approach (secondary)", "train.secondary_reformer.approach"),
-        ("hts_temperature", "HT shift temperature", "train.high_temperature_shift.temperature"),
-        ("hts_approach", "HT shift approach", "train.high_temperature_shift.approach"),
-        ("lts_temperature", "LT shift temperature", "train.low_temperature_shift.temperature"),
-        ("lts_approach", "LT shift approach", "train.low_temperature_shift.approach"),
-    ]
-
-    #: Stages of the train the form switches on and off, with their fields.
-    STAGES = {
-        "pre_reformer": ("Adiabatic pre-reformer", ("pre_inlet",)),
-        "secondary_reformer": ("Adiabatic secondary reformer",
-                               ("sec_ratio", "sec_temperature", "sec_approach")),
-        "high_temperature_shift": ("High-temperature shift", ("hts_temperature",
-                                                              "hts_approach")),
-        "low_temperature_shift": ("Low-temperature shift", ("lts_temperature",
-                                                            "lts_approach")),
-    }
-
-    #: What a stage's fields show when it is switched on for the first time (typical
-    #: values, common practice, no source, as are the shift inlet ranges).
-    STAGE_DEFAULTS = {
-        "pre_inlet": "490 degC",
-        "sec_ratio": "0.25",
-        "sec_temperature": "550 degC",
-        "sec_approach": "0 K",
-        "hts_temperature": "360 degC",
-        "hts_approach": "10 K",
-        "lts_temperature": "210 degC",
-        "lts_approach": "10 K",
-    }
+    #: (name, label, key path) of every field, from the schema.
+    FIELDS = [(k.name, k.label, k.path) for k in _form_keys()]
+    #: Train stages the form switches on and off, with their fields.
+    STAGES = {t.split(".")[1]: (label, tuple(k.name for k in KEYS if k.table == t))
+              for t, label in TOGGLED.items() if t.startswith("train.")}
 
     def __init__(self, state: ExplorerState):
         self.state = state
-        self.inputs = {name: pn.widgets.TextInput(label=label, width=190)
-                       for name, label, _ in self.FIELDS}
-        self.messages = {name: _message_pane(width=190, margin=(0, 5, 0, 10))
-                         for name, _, _ in self.FIELDS}
-        self.carbon_free = pn.widgets.Checkbox(label="Carbon-free required", value=True)
-        self.stage_on = {name: pn.widgets.Checkbox(label=label, value=False)
-                         for name, (label, _) in self.STAGES.items()}
-        self.oxidant = pn.widgets.Select(label="Oxidant", options={"air": "air",
-                                                                    "oxygen": "oxygen"},
-                                         value="air", width=190)
+        self.inputs = {k.name: _widget(k) for k in _form_keys()}
+        self.messages = {k.name: _message_pane(width=190, margin=(0, 5, 0, 10))
+                         for k in _form_keys()}
+        self.table_on = {t: pn.widgets.Checkbox(label=label, value=False)
+                         for t, label in TOGGLED.items()}
+        self.stage_on = {t.split(".")[1]: box for t, box in self.table_on.items()
+                         if t.startswith("train.")}
+        self.carbon_free = self.inputs["carbon_free"]
+        self.oxidant = self.inputs["oxidant"]
         self.cofeed = pn.widgets.Select(label="Fourth window axis", width=190,
                                         options={"none": "", "O2-to-carbon": "oxygen_to_carbon",
                                                  "CO2-to-carbon": "co2_to_carbon"})
@@ -172,9 +113,44 @@ class ScenarioForm:
         self.reset.on_click(lambda e: self.fill(self.state.scenario))
         self.chooser.param.watch(self._choose, "value")
         self.upload.param.watch(self._upload, "value")
+        self._filling = False
+        for key in _form_keys():
+            self.inputs[key.name].param.watch(lambda e, k=key: self.check_field(k), "value")
         self.fill(state.scenario)
         state.param.watch(lambda e: self.design_warnings(), ["scenario"])
         self.design_warnings()
+
+    # ------------------------------------------------------------------------ fields
+
+    def _raw(self, key: Key) -> object:
+        w = self.inputs[key.name]
+        if key.kind in ("boolean", "choice"):
+            return w.value
+        return raw_from_text(key, w.value)
+
+    def check_field(self, key: Key) -> bool:
+        """Check one field as it is left; its message (or nothing) beside it."""
+        if self._filling:
+            return True
+        pane = self.messages[key.name]
+        w = self.inputs[key.name]
+        if key.kind not in ("boolean", "choice") and not w.value.strip() and not key.required:
+            pane.object = ""
+            return True
+        mass = 0.016
+        try:
+            comp = parse_value(BY_NAME["composition"], self._raw(BY_NAME["composition"]))
+            mass = sum(x * molar_mass(n) for n, x in comp.items())
+        except InputError:
+            pass
+        try:
+            parse_value(key, self._raw(key), molar_mass=mass)
+        except InputError as err:
+            first = all_errors(err)[0]
+            pane.object = html("{} (got {})", first.allowed, text(first.shown_value))
+            return False
+        pane.object = ""
+        return True
 
     def design_warnings(self) -> None:
         """A warning beside each design-point field whose value lies outside the window
@@ -187,201 +163,77 @@ class ScenarioForm:
             lo, hi = sorted((axis.start, axis.stop))
             if lo - 1e-9 * abs(lo) <= value <= hi + 1e-9 * abs(hi):
                 continue
-            kind = display.axis_kind(name)
+            kind = {"steam_to_carbon": ""}.get(name, name)
 
-            def shown(v, kind=kind):
-                text = f"{display.to_display(v, kind):.4g}"
-                return f"{text} {display.symbol(kind)}" if kind else text
-
+            def shown(v: float, kind: str = kind) -> str:
+                return display.fmt(v, kind, -4, self.state.units, with_unit=True)
             self.messages[name].object = html(
                 '<span class="rw-warn" data-role="design-outside">Outside the window '
                 "({} to {}): computed exactly at {}; the maps mark it at their border."
                 "</span>", shown(lo), shown(hi), shown(value))
 
     def fill(self, sc: Scenario) -> None:
-        """Put a scenario's values in the fields (engineer units).
-
-        The fields show rounded values; a field the user leaves as filled is submitted with
-        the scenario's exact value (see :meth:`toml_text`), so applying a change to one field
-        never moves another by its display rounding.
-        """
-        f, w, lim = sc.feed, sc.window, sc.limits
-        v = self.inputs
-        self._exact = {
-            "composition": "{ " + ", ".join(f"{k} = {x!r}" for k, x in f.composition.items())
-                           + " }",
-            "flow": json.dumps(f"{f.flow!r} mol/s"),
-            "inlet_temperature": json.dumps(f"{f.inlet_temperature!r} K"),
-            "steam_to_carbon": repr(f.steam_to_carbon),
-            "oxygen_to_carbon": repr(f.oxygen_to_carbon),
-            "co2_to_carbon": repr(f.co2_to_carbon),
-            "temperature": json.dumps(f"{sc.temperature!r} K"),
-            "pressure": json.dumps(f"{sc.pressure!r} Pa"),
-            "approach": json.dumps(f"{sc.approach!r} K"),
-            "t_from": json.dumps(f"{w.temperature.start!r} K"),
-            "t_to": json.dumps(f"{w.temperature.stop!r} K"),
-            "t_points": str(w.temperature.points),
-            "p_from": json.dumps(f"{w.pressure.start!r} Pa"),
-            "p_to": json.dumps(f"{w.pressure.stop!r} Pa"),
-            "p_points": str(w.pressure.points),
-            "s_from": repr(w.steam_to_carbon.start),
-            "s_to": repr(w.steam_to_carbon.stop),
-            "s_points": str(w.steam_to_carbon.points),
-            "max_slip": (None if lim.max_methane_slip_dry is None
-                         else repr(lim.max_methane_slip_dry)),
-            "min_yield": None if lim.min_h2_yield is None else repr(lim.min_h2_yield),
-            "max_duty": None if lim.max_duty is None else json.dumps(f"{lim.max_duty!r} W"),
-            "max_fired_duty": (None if lim.max_fired_duty is None
-                               else json.dumps(f"{lim.max_fired_duty!r} W")),
-        }
-        v["composition"].value = ", ".join(f"{k}={_display(x)}" for k, x in
-                                           f.composition.items())
-        v["flow"].value = _in_units(f.flow, "molar_flow", "kmol/h")
-        v["inlet_temperature"].value = _in_units(f.inlet_temperature, "temperature", "degC")
-        v["steam_to_carbon"].value = _display(f.steam_to_carbon)
-        v["oxygen_to_carbon"].value = _display(f.oxygen_to_carbon)
-        v["co2_to_carbon"].value = _display(f.co2_to_carbon)
-        v["temperature"].value = _in_units(sc.temperature, "temperature", "degC")
-        v["pressure"].value = _in_units(sc.pressure, "pressure", "bar")
-        v["approach"].value = f"{_display(sc.approach)} K"
-        v["t_from"].value = _in_units(w.temperature.start, "temperature", "degC")
-        v["t_to"].value = _in_units(w.temperature.stop, "temperature", "degC")
-        v["t_points"].value = str(w.temperature.points)
-        v["p_from"].value = _in_units(w.pressure.start, "pressure", "bar")
-        v["p_to"].value = _in_units(w.pressure.stop, "pressure", "bar")
-        v["p_points"].value = str(w.pressure.points)
-        v["s_from"].value = _display(w.steam_to_carbon.start)
-        v["s_to"].value = _display(w.steam_to_carbon.stop)
-        v["s_points"].value = str(w.steam_to_carbon.points)
-        self.cofeed.value = w.cofeed or ""
-        if w.cofeed is not None:
-            a = w.cofeed_axis
-            v["c_from"].value, v["c_to"].value = _display(a.start), _display(a.stop)
-            v["c_points"].value = str(a.points)
-            self._exact.update(c_from=repr(a.start), c_to=repr(a.stop), c_points=str(a.points))
-        else:
-            v["c_from"].value, v["c_to"].value, v["c_points"].value = "0", "0.5", "3"
-        v["max_slip"].value = ("" if lim.max_methane_slip_dry is None
-                               else f"{_display(lim.max_methane_slip_dry * 100)} mol%")
-        v["min_yield"].value = "" if lim.min_h2_yield is None else _display(lim.min_h2_yield)
-        v["max_duty"].value = "" if lim.max_duty is None else _in_units(lim.max_duty, "power", "MW")
-        v["max_fired_duty"].value = ("" if lim.max_fired_duty is None
-                                     else _in_units(lim.max_fired_duty, "power", "MW"))
-        self.carbon_free.value = lim.carbon_free
-        self._fill_train(sc)
-        self._filled = {k: w.value for k, w in self.inputs.items()}
+        """Put a scenario's values in the fields: what the user typed while it still gives
+        the exact value ("22 barg" stays "22 barg"), else the shortest exact text in engineer
+        units; keys of absent tables show the schema's example."""
+        self._filling = True
+        try:
+            for key in _form_keys():
+                value = _get(sc, key)
+                w = self.inputs[key.name]
+                if key.kind in ("boolean", "choice"):
+                    w.value = value if value is not None else (key.example or key.default)
+                elif value is None:
+                    w.value = key.example
+                else:
+                    w.value = text_of(exact_text(sc, key, value))
+            for table, box in self.table_on.items():
+                box.value = _get(sc, next(k for k in KEYS if k.table == table)) is not None
+            self.table_on["carbon"].value = "carbon" in _sections(sc.text) or (
+                sc.carbon != CarbonCheck())
+            self.cofeed.value = sc.window.cofeed or ""
+        finally:
+            self._filling = False
         self._clear()
-
-    def _fill_train(self, sc: Scenario) -> None:
-        t = sc.train
-        v = self.inputs
-        for name, value in self.STAGE_DEFAULTS.items():
-            v[name].value = value
-        for name, box in self.stage_on.items():
-            box.value = getattr(t, name) is not None
-        if t.pre_reformer is not None:
-            T = t.pre_reformer.inlet_temperature
-            v["pre_inlet"].value = _in_units(T, "temperature", "degC")
-            self._exact["pre_inlet"] = json.dumps(f"{T!r} K")
-        sec = t.secondary_reformer
-        if sec is not None:
-            self.oxidant.value = sec.oxidant
-            v["sec_ratio"].value = _display(sec.oxygen_to_carbon)
-            v["sec_temperature"].value = _in_units(sec.oxidant_temperature, "temperature", "degC")
-            v["sec_approach"].value = f"{_display(sec.approach)} K"
-            self._exact.update(sec_ratio=repr(sec.oxygen_to_carbon),
-                               sec_temperature=json.dumps(f"{sec.oxidant_temperature!r} K"),
-                               sec_approach=json.dumps(f"{sec.approach!r} K"))
-        for name, key in (("high_temperature_shift", "hts"), ("low_temperature_shift", "lts")):
-            st = getattr(t, name)
-            if st is not None:
-                v[f"{key}_temperature"].value = _in_units(st.temperature, "temperature", "degC")
-                v[f"{key}_approach"].value = f"{_display(st.approach)} K"
-                self._exact[f"{key}_temperature"] = json.dumps(f"{st.temperature!r} K")
-                self._exact[f"{key}_approach"] = json.dumps(f"{st.approach!r} K")
-
-    def _train_toml(self) -> list[str]:
-        q = self._value
-        lines = []
-        on = {name: box.value for name, box in self.stage_on.items()}
-        if on["pre_reformer"]:
-            lines += ["[train.pre_reformer]", f"inlet_temperature = {q('pre_inlet')}"]
-        if on["secondary_reformer"]:
-            lines += ["[train.secondary_reformer]", f"oxidant = {json.dumps(self.oxidant.value)}",
-                      f"oxygen_to_carbon = {q('sec_ratio')}",
-                      f"oxidant_temperature = {q('sec_temperature')}",
-                      f"approach = {q('sec_approach')}"]
-        for name, key in (("high_temperature_shift", "hts"), ("low_temperature_shift", "lts")):
-            if on[name]:
-                lines += [f"[train.{name}]", f"temperature = {q(key + '_temperature')}",
-                          f"approach = {q(key + '_approach')}"]
-        return lines
 
     def _clear(self) -> None:
         for m in self.messages.values():
             m.object = ""
         self.general.object = ""
 
-    def _value(self, name: str) -> str:
-        """A field as a TOML value: exact when untouched since :meth:`fill`, else as typed."""
-        text = self.inputs[name].value
-        if text == self._filled.get(name) and self._exact.get(name) is not None:
-            return self._exact[name]
-        if name == "composition":
-            return _composition_toml(text)
-        return _q(text)
+    def _on(self, table: str) -> bool:
+        if table in self.table_on:
+            return self.table_on[table].value
+        if table in _COFEED_AXES:
+            return self.cofeed.value == table.split(".")[1]
+        return True
+
+    def mapping(self) -> dict:
+        """The fields as a nested mapping of raw TOML values (empty optional fields left out)."""
+        out: dict = {}
+        for key in KEYS:
+            if key.path == "notes":
+                value = self.state.notes
+            else:
+                toggle = _toggle_of(key)
+                if toggle is not None and not self._on(toggle):
+                    continue
+                w = self.inputs[key.name]
+                if key.kind not in ("boolean", "choice", "text") and not w.value.strip():
+                    continue
+                value = self._raw(key)
+            node = out
+            for part in key.table.split(".") if key.table else []:
+                node = node.setdefault(part, {})
+            node[key.leaf] = value
+        return out
 
     def toml_text(self) -> str:
-        """The scenario file the fields describe (validated by the core's parser)."""
-        v = {k: w.value for k, w in self.inputs.items()}
-        q = self._value
-        sc = self.state.scenario
-        lines = [
-            f"title = {json.dumps(sc.title)}",
-            f"description = {json.dumps(sc.description)}",
-            f"notes = {json.dumps(self.state.notes)}",
-            "[feed]",
-            f"composition = {q('composition')}",
-            f"flow = {q('flow')}",
-            f"inlet_temperature = {q('inlet_temperature')}",
-            f"steam_to_carbon = {q('steam_to_carbon')}",
-            f"oxygen_to_carbon = {q('oxygen_to_carbon')}",
-            f"co2_to_carbon = {q('co2_to_carbon')}",
-            "[design_point]",
-            f"temperature = {q('temperature')}",
-            f"pressure = {q('pressure')}",
-            f"approach = {q('approach')}",
-            "[window]",
-            f"temperature = {{ from = {q('t_from')}, to = {q('t_to')}, "
-            f"points = {q('t_points')} }}",
-            f"pressure = {{ from = {q('p_from')}, to = {q('p_to')}, "
-            f"points = {q('p_points')} }}",
-            f"steam_to_carbon = {{ from = {q('s_from')}, to = {q('s_to')}, "
-            f"points = {q('s_points')} }}",
-        ]
-        if self.cofeed.value:
-            lines.append(f"{self.cofeed.value} = {{ from = {q('c_from')}, to = {q('c_to')}, "
-                         f"points = {q('c_points')} }}")
-        lines.append("[limits]")
-        if v["max_slip"].strip():
-            lines.append(f"max_methane_slip_dry = {q('max_slip')}")
-        lines.append(f"carbon_free = {'true' if self.carbon_free.value else 'false'}")
-        if v["min_yield"].strip():
-            lines.append(f"min_h2_yield = {q('min_yield')}")
-        if v["max_duty"].strip():
-            lines.append(f"max_duty = {q('max_duty')}")
-        if v["max_fired_duty"].strip():
-            lines.append(f"max_fired_duty = {q('max_fired_duty')}")
-        lines += self._train_toml()
-        # The [carbon] table has no fields here yet: the scenario's own is kept as it is.
-        lines += carbon_toml(sc.carbon)
-        # The plant's assumptions have no fields here: its table is kept as the scenario has
-        # it (the review sheet states each assumption).
-        lines += plant_toml(sc.plant)
-        return "\n".join(lines) + "\n"
+        """The scenario file the fields describe (written by the one writer)."""
+        return dump(self.mapping())
 
     def submit(self) -> bool:
-        """Validate the fields; on success adopt the scenario, else show the message."""
+        """Validate the fields; on success adopt the scenario, else show every message."""
         self._clear()
         try:
             sc = check_window_size(parse_scenario(self.toml_text(),
@@ -393,17 +245,19 @@ class ScenarioForm:
         return True
 
     def show_error(self, err: InputError) -> None:
-        """Put the message beside the field it names (and above the button)."""
-        field = err.field
-        for axis in ("oxygen_to_carbon", "co2_to_carbon"):
-            field = field.replace(f"window.{axis}", "window.cofeed")
-        for name, _, key in self.FIELDS:
-            if field == key or field.startswith(key + "."):
-                self.messages[name].object = html("{} (got {})", err.allowed,
-                                                  text(err.shown_value))
-                break
-        self.general.object = message_html("Not applied: ", err, ". The maps still show the "
-                                           "last valid scenario.")
+        """Put each message beside the field it names (and the list above the button)."""
+        errors = all_errors(err)
+        by_length = sorted(_form_keys(), key=lambda k: -len(k.path))
+        for e in errors:
+            for key in by_length:
+                if e.field == key.path or e.field.startswith((key.path + ".", key.path + "[")):
+                    self.messages[key.name].object = html("{} (got {})", e.allowed,
+                                                          text(e.shown_value))
+                    break
+        parts = [message_html("Not applied: " if i == 0 else "", e) for i, e in
+                 enumerate(errors)]
+        self.general.object = html("{}. The maps still show the last valid scenario.",
+                                   html("<br>".join("{}" for _ in parts), *parts))
 
     def _choose(self, event) -> None:
         path = scenario_files().get(event.new)
@@ -433,50 +287,71 @@ class ScenarioForm:
         self.fill(sc)
 
     def __panel__(self):
-        def cell(name):
-            return pn.Column(self.inputs[name], self.messages[name], margin=0)
+        def cell(key: Key):
+            return pn.Column(self.inputs[key.name], self.messages[key.name], margin=0)
 
-        # The co-feed axis fields show only when an axis is chosen.
-        self._cofeed_row = pn.Row(cell("c_from"), cell("c_to"), cell("c_points"),
-                                  visible=bool(self.cofeed.value))
-        self.cofeed.param.watch(
-            lambda e: setattr(self._cofeed_row, "visible", bool(e.new)), "value")
+        def rows(keys: list[Key]):
+            return [pn.Row(*[cell(k) for k in keys[i:i + 3]]) for i in range(0, len(keys), 3)]
 
-        feed = pn.Column("#### Feed", cell("composition"),
-                         pn.Row(cell("flow"), cell("inlet_temperature")),
-                         pn.Row(cell("steam_to_carbon"), cell("oxygen_to_carbon"),
-                                cell("co2_to_carbon")))
-        design = pn.Column("#### Design point", pn.Row(cell("temperature"), cell("pressure"),
-                                                        cell("approach")))
-        window = pn.Column("#### Window",
-                           pn.Row(cell("t_from"), cell("t_to"), cell("t_points")),
-                           pn.Row(cell("p_from"), cell("p_to"), cell("p_points")),
-                           pn.Row(cell("s_from"), cell("s_to"), cell("s_points")),
-                           self.cofeed,
-                           self._cofeed_row)
-        limits = pn.Column("#### Review limits", pn.Row(cell("max_slip"), cell("min_yield"),
-                                                         cell("max_duty")),
-                           pn.Row(cell("max_fired_duty")), self.carbon_free,
-                           pn.pane.Markdown(
-                               "With a train, the limits apply to it: slip after the last "
-                               "reformer, H2 after the last stage, the carbon verdict (graphite "
-                               "in any reforming stage included); the duty limit stays on the "
-                               "primary's radiant duty.",
-                               styles={"font-size": "12px", "color": "#4a5a64"}, width=560))
-        # The reforming train: each stage's fields show only when it is switched on.
-        stage_rows = []
-        for name, (_, fields) in self.STAGES.items():
-            extra = [self.oxidant] if name == "secondary_reformer" else []
-            row = pn.Row(*extra, *[cell(f) for f in fields], visible=self.stage_on[name].value)
-            self.stage_on[name].param.watch(
-                lambda e, r=row: setattr(r, "visible", bool(e.new)), "value")
-            stage_rows += [self.stage_on[name], row]
-        train = pn.Column("#### Reforming train (the primary reformer is the window's T and P)",
-                          *stage_rows)
+        columns = []
+        for table, title in SECTIONS.items():
+            keys = [k for k in _form_keys() if k.table == table or (
+                table == "window" and k.table.startswith("window.")
+                and k.table not in _COFEED_AXES)]
+            if table in TOGGLED:
+                continue
+            body = []
+            if table == "window":
+                body = [pn.Row(*[cell(k) for k in keys if k.table == t])
+                        for t in dict.fromkeys(k.table for k in keys)]
+                for axis in _COFEED_AXES:
+                    row = pn.Row(*[cell(k) for k in KEYS if k.table == axis],
+                                 visible=self._on(axis))
+                    self.cofeed.param.watch(
+                        lambda e, r=row, a=axis: setattr(r, "visible", e.new == a[7:]),
+                        "value")
+                    body.append(row)
+                body.insert(3, self.cofeed)
+            else:
+                body = rows(keys)
+            columns.append(pn.Column(f"#### {title}", *body))
+        toggled = []
+        for table, box in self.table_on.items():
+            row = pn.Column(*rows([k for k in KEYS if k.table == table]), visible=box.value)
+            box.param.watch(lambda e, r=row: setattr(r, "visible", bool(e.new)), "value")
+            toggled += [box, row]
         self.inputs["composition"].width = 600
         source = pn.Row(self.chooser, pn.Column("Or open a scenario file (.toml)", self.upload))
-        return pn.Column(source, pn.Row(feed, design), pn.Row(window, limits), train,
-                         pn.Row(self.apply, self.reset), self.general)
+        note = pn.pane.Markdown(
+            "With a train, the limits apply to it: slip after the last reformer, H2 after the "
+            "last stage, the carbon verdict (graphite in any reforming stage included); the "
+            "duty limit stays on the primary's radiant duty.",
+            styles={"font-size": "12px", "color": "#4a5a64"}, width=560)
+        return pn.Column(source, *columns, note,
+                         "#### Reforming train (the primary reformer is the window's T and P)",
+                         *toggled, pn.Row(self.apply, self.reset), self.general)
+
+
+def _widget(key: Key):
+    """The widget of one schema key: a checkbox, a chooser or a text field."""
+    if key.kind == "boolean":
+        return pn.widgets.Checkbox(label=key.label, value=bool(key.default))
+    if key.kind == "choice":
+        return pn.widgets.Select(label=key.label, options=list(key.choices), width=190,
+                                 value=key.default if key.default in key.choices
+                                 else key.choices[0])
+    width = 600 if key.kind == "text" else 190
+    return pn.widgets.TextInput(label=key.label, width=width, description=key.help)
+
+
+def _sections(toml_text: str) -> set[str]:
+    """Top-level tables a TOML text names (to keep an explicit default [carbon] switched on)."""
+    import tomllib
+
+    try:
+        return {k for k, v in tomllib.loads(toml_text).items() if isinstance(v, dict)}
+    except (tomllib.TOMLDecodeError, RecursionError):
+        return set()
 
 
 def _current_name(sc: Scenario, files: dict[str, Path]) -> str:

@@ -29,6 +29,7 @@ from explorer.limits_report import (
 from explorer.tables import balance_html
 from thermo.constants import P_REF
 from thermo.scenario import Scenario
+from thermo.scenario_toml import input_rows
 
 #: Names of the window's non-temperature axes as the sheet shows them.
 AXIS_NAMES = {
@@ -310,7 +311,10 @@ def _inputs(sc: Scenario, units: str = DEFAULT) -> list[tuple[str, str]]:
                          f"CO2/C {f.co2_to_carbon:g}"),
         ("Approach to equilibrium", _dt(sc.approach, units)),
     ] + [(f"Window: {AXIS_NAMES.get(n, 'Outlet temperature')}", axis_text(n, a))
-         for n, a in w.axes().items()] + _train_inputs(sc, units)
+         for n, a in w.axes().items()] + _train_inputs(sc, units) + [
+        # Every key of the scenario as entered (thermo.schema drives the list).
+        (f"{label} ({path})", shown) for path, label, shown in input_rows(sc)
+        if path not in ("title", "description")]
 
 
 def _path_words(sc: Scenario, units: str = DEFAULT) -> str:

@@ -14,7 +14,6 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from thermo import carbon as carbon_check
-from thermo import units
 from thermo.balances import Balance, adiabatic_temperature
 from thermo.constants import P_REF
 from thermo.errors import InputError
@@ -25,16 +24,7 @@ from thermo.plant import (
     PlantResult,
     plant_balance,
 )
-from thermo.scenario import (
-    Scenario,
-    check_approach,
-    check_inlet_temperature,
-    check_pressure,
-    check_ratio,
-    check_temperature,
-    load_scenario,
-    parse_composition,
-)
+from thermo.scenario import Scenario, load_scenario, validate_point_overrides
 from thermo.species import GAS_SPECIES
 from thermo.train import TrainResult, train_balance
 
@@ -326,16 +316,6 @@ def _strict(obj):
     return obj
 
 
-def _ratio(value, name: str, field: str) -> float:
-    if isinstance(value, bool) or not isinstance(value, int | float | np.floating | np.integer):
-        try:
-            value = float(value)
-        except (TypeError, ValueError):
-            allowed = "a plain number (mol per mol hydrocarbon carbon)"
-            raise InputError(field, value, allowed) from None
-    return check_ratio(name, float(value), field)
-
-
 def point(
     scenario: Scenario | str | None = None,
     *,
@@ -390,31 +370,19 @@ def point(
         scenario = load_scenario(scenario)
     sc = scenario
     f = sc.feed
-    changes = {}
-    if feed is not None:
-        changes["composition"] = parse_composition(feed, "feed")
-    if steam_to_carbon is not None:
-        changes["steam_to_carbon"] = _ratio(steam_to_carbon, "steam_to_carbon",
-                                            "steam_to_carbon")
-    if oxygen_to_carbon is not None:
-        changes["oxygen_to_carbon"] = _ratio(oxygen_to_carbon, "oxygen_to_carbon",
-                                             "oxygen_to_carbon")
-    if co2_to_carbon is not None:
-        changes["co2_to_carbon"] = _ratio(co2_to_carbon, "co2_to_carbon", "co2_to_carbon")
-    if inlet_temperature is not None:
-        changes["inlet_temperature"] = check_inlet_temperature(
-            units.temperature_K(inlet_temperature, "inlet_temperature"), "inlet_temperature")
+    given = validate_point_overrides(
+        temperature=temperature, pressure=pressure, approach=approach, feed=feed,
+        steam_to_carbon=steam_to_carbon, oxygen_to_carbon=oxygen_to_carbon,
+        co2_to_carbon=co2_to_carbon, inlet_temperature=inlet_temperature)
+    changes = {k: given[k] for k in ("steam_to_carbon", "oxygen_to_carbon", "co2_to_carbon",
+                                     "inlet_temperature") if k in given}
+    if "feed" in given:
+        changes["composition"] = given["feed"]
     if changes:
         f = replace(f, **changes)
-    T = sc.temperature
-    if temperature is not None:
-        T = check_temperature(units.temperature_K(temperature, "temperature"), "temperature")
-    P = sc.pressure
-    if pressure is not None:
-        P = check_pressure(units.pressure_Pa(pressure, "pressure"), "pressure")
-    dT = sc.approach
-    if approach is not None:
-        dT = check_approach(units.temperature_difference_K(approach, "approach"), "approach")
+    T = given.get("temperature", sc.temperature)
+    P = given.get("pressure", sc.pressure)
+    dT = given.get("approach", sc.approach)
     sc = replace(sc, feed=f, temperature=T, pressure=P, approach=dT)
     n_in = f.inlet_flows()
     if adiabatic:

@@ -37,3 +37,30 @@ class InputError(ValueError):
         if len(shown) > self.MAX_VALUE_CHARS:
             shown = shown[: self.MAX_VALUE_CHARS - 20] + f"... ({len(shown):,} characters)"
         return shown
+
+
+class InputErrors(InputError):
+    """Several bad inputs at once: every invalid field of a scenario or a form.
+
+    The first error's ``field``, ``value`` and ``allowed`` are this one's, so a handler of
+    :class:`InputError` keeps working; :attr:`errors` holds them all, in file order, and the
+    message is one line per field.
+
+    Parameters
+    ----------
+    errors : list of InputError
+        At least one.
+    """
+
+    def __init__(self, errors: list[InputError]):
+        if not errors:
+            raise ValueError("InputErrors needs at least one error")
+        self.errors = list(errors)
+        first = self.errors[0]
+        self.field, self.value, self.allowed = first.field, first.value, first.allowed
+        ValueError.__init__(self, "\n".join(str(e) for e in self.errors))
+
+
+def all_errors(err: InputError) -> list[InputError]:
+    """Every error `err` carries (itself when it is a single one)."""
+    return list(err.errors) if isinstance(err, InputErrors) else [err]

@@ -72,10 +72,10 @@ def summary_value(html: str, label: str) -> str:
 
 
 def round_trip_scenario():
-    """The small scenario with a design pressure the form shows exactly ("20 bar" instead of
-    the demo's "22 barg", which the form rounds; see test_limits_change_keeps_design_pressure)."""
+    """The small scenario with the design pressure "20 bar" instead of the demo's "22 barg"
+    (the writer keeps the typed text; see test_limits_change_keeps_design_pressure)."""
     sc = small_scenario()
-    old = f'pressure = "{sc.pressure!r} Pa"'
+    old = 'pressure = "22 barg"'
     text = sc.to_toml()
     assert text.count(old) == 1
     return parse_scenario(text.replace(old, 'pressure = "20 bar"'))
@@ -540,17 +540,17 @@ def test_form_adds_edits_and_removes_a_cofeed_axis(app):
     form = ScenarioForm(s)
     maps = MapsView(s)
     form.cofeed.value = "co2_to_carbon"
-    form.inputs["c_from"].value, form.inputs["c_to"].value = "0", "1"
-    form.inputs["c_points"].value = "3"
+    form.inputs["co2_from"].value, form.inputs["co2_to"].value = "0", "1"
+    form.inputs["co2_points"].value = "3"
     assert form.submit()
     wait_until_solved(s)
     assert dict(s.dataset.sizes)["co2_to_carbon"] == 3
     assert s.scenario.window.cofeed == "co2_to_carbon"
     names = [w.label for w in maps.sliders]
     assert "CO2-to-carbon" in names
-    form.inputs["c_to"].value = "5"  # above the 0-3 range of the scenario schema
+    form.inputs["co2_to"].value = "5"  # above the 0-3 range of the scenario schema
     assert not form.submit()
-    assert "between 0 and 3" in form.messages["c_to"].object
+    assert "between 0 and 3" in form.messages["co2_to"].object
     assert s.scenario.window.cofeed_axis.stop == 1.0
     form.cofeed.value = ""
     assert form.submit()
