@@ -4,8 +4,9 @@ Run on its own (not collected by pytest)::
 
     python tests/benchmarks/bench_export.py [--repeats 3]
 
-For the demo scenario (its own window) and for its comparison with
-``scenarios/demo-proposal.toml`` (the proposal on the base's window), in one process:
+For the demo scenario (its own window), its comparison with ``scenarios/demo-proposal.toml``
+(the proposal on the base's window) and the hydrogen-plant scenario (a train and a plant:
+the per-stage and plant arrays), in one process:
 
 - the solve: ``thermo.sweep`` of the window (the proposal's too when comparing), warm (the
   kernel compiled by a first, untimed sweep);
@@ -105,6 +106,8 @@ def main() -> None:
     with tempfile.TemporaryDirectory() as tmp:
         _case("demo", sc, None, a.repeats, Path(tmp))
         _case("comparison", sc, proposal, a.repeats, Path(tmp))
+        plant = thermo.load_scenario(ROOT / "scenarios" / "hydrogen-plant.toml")
+        _case("hydrogen-plant", plant, None, a.repeats, Path(tmp))
 
 
 if __name__ == "__main__":
