@@ -1,11 +1,13 @@
-"""The review file: one offline HTML page with the maps, click-through balances and a sheet.
+"""The review file writer: one offline HTML page with the maps, click-through balances and
+the review sheet.
 
 The page is a Bokeh document saved with inline resources (no network request of any kind).
 The maps are drawn by :mod:`explorer.maps`, the same code as the live app; every slice's
-layers are computed here and embedded, and a small script (``review.js``) swaps them when the
-reader moves a slider or picks a variable. Clicking a map assembles the balance of the nearest
-grid point in the page from the solved flows embedded in full double precision, with the
-table layout of :mod:`explorer.tables`.
+layers and the per-point arrays come from :mod:`explorer.review_data` (read from the sweep's
+Dataset), the sheet from :mod:`explorer.sheet`. The page's script (``static/review.js`` and
+``static/review-maps.js``, inlined here) swaps the layers when the reader moves a slider or
+picks a variable, and a click assembles the balance of the nearest grid point in the page,
+with the table layout of :mod:`explorer.tables`.
 
 This module must not import Panel: once Panel's Bokeh extensions are loaded in a process,
 Bokeh adds links to them even in an "inline" file. The app therefore runs the export in a
@@ -23,7 +25,6 @@ import re
 import sys
 from datetime import UTC, datetime
 from html.parser import HTMLParser
-from importlib import resources
 from pathlib import Path
 
 import numpy as np
@@ -36,6 +37,7 @@ from bokeh.models import (
     CustomJS,
     CustomJSTickFormatter,
     Div,
+    HoverTool,
     Legend,
     RadioButtonGroup,
     Select,
@@ -50,20 +52,25 @@ from explorer.maps import (
     COMPARE_ORDER,
     MODES,
     axis_label,
-    change_levels,
-    change_tolerance,
     change_variable,
     combine,
-    has_change,
     map_figure,
-    quiet_change,
     scenario_markers,
-    shared_levels,
-    slice_fields,
-    variable_layers,
     variable_levels,
     variables_in,
-    window_layers,
+)
+from explorer.review_data import (
+    COMPARE_VARIABLES,
+    EXPORT_VARIABLES,
+    PLANT_EXPORT_VARIABLES,
+    TRAIN_EXPORT_VARIABLES,
+    all_layers,
+    comparison_layers,
+    key_text,
+    pack_repeats,
+    page_data,
+    point_arrays,
+    variable_palette,
 )
 from explorer.safe import paragraphs
 from explorer.sheet import (
@@ -74,229 +81,21 @@ from explorer.sheet import (
     summary_html,
     window_facts,
 )
-from explorer.tables import PLANT_NOTE, PLANT_ROWS, rows_for
-from explorer.tables import spec as table_spec
-from thermo.balances import enthalpy_flow
-from thermo.constants import ELEMENTS, P_REF, T_REF
+from explorer.static import static_text
 from thermo.errors import InputError
-from thermo.extent import REFORMING, SHIFT, delta_h, equilibrium_constant
 from thermo.io import atomic_target
 from thermo.scenario import Scenario
-from thermo.species import GAS_SPECIES, GRAPHITE, formula_matrix, molar_mass, molar_masses
-from thermo.sweep import RATIO_AXES
 
-#: Variables the review file can map (each adds its slices to the file).
-#: Added to the review file's chooser when the scenario has a reforming train.
-TRAIN_EXPORT_VARIABLES = ("h2_product", "train_duty", "train_methane_slip_dry")
-#: Added when the scenario has a [plant] table (the plant around the reformer).
-PLANT_EXPORT_VARIABLES = ("specific_energy", "plant_fired_duty", "radiant_efficiency",
-                          "plant_trim_fuel", "plant_steam_export", "natural_gas_per_h2")
-
-EXPORT_VARIABLES = ("h2_yield", "methane_slip_dry", "h2_potential", "methane_conversion",
-                    "h2_co_ratio", "duty", "duty_per_h2", "carbon_activity", "dry:CO",
-                    "dry:CO2")
-
+__all__ = ["COMPARE_VARIABLES", "EXPORT_VARIABLES", "PLANT_EXPORT_VARIABLES",
+           "TRAIN_EXPORT_VARIABLES", "build_review", "check_offline", "content_security_policy",
+           "main", "script_json", "with_content_security_policy", "write_review"]
 
 #: The review file's style sheet (static/review.css), inlined into the page.
-SHEET_CSS = resources.files("explorer").joinpath("static", "review.css").read_text("utf-8")
-
-
-
-def _round(obj, nd: int):
-    """Round every float of a nested structure to `nd` decimals (smaller file, same drawing;
-    node values keep 6 significant digits instead)."""
-    if isinstance(obj, float):
-        return round(obj, nd)
-    if isinstance(obj, list):
-        return [_round(v, nd) for v in obj]
-    if isinstance(obj, dict):
-        return {k: ([None if v is None else float(f"{v:.6g}") for v in val] if k == "values"
-                    else _round(val, nd)) for k, val in obj.items()}
-    return obj
-
-
-def _slice_keys(ds: xr.Dataset, mode: str) -> list[dict[str, int]]:
-    dims = [d for d in ds["h2_yield"].dims if d not in ("temperature", mode)]
-    keys: list[dict[str, int]] = [{}]
-    for d in dims:
-        keys = [dict(k, **{d: i}) for k in keys for i in range(ds.sizes[d])]
-    return keys
-
-
-def _key_text(fixed: dict[str, int]) -> str:
-    return "|".join(f"{d}={i}" for d, i in fixed.items())
-
-
-def all_layers(ds: xr.Dataset, limits, variables=EXPORT_VARIABLES,
-               markers: dict | None = None, units: str = display.DEFAULT) -> tuple[dict, dict]:
-    """Layers of every slice, split into what depends on the variable and what does not.
-
-    Returns
-    -------
-    (per_variable, common)
-        ``per_variable[var][mode][key]`` holds bands, lines, labels and the node values;
-        ``common[mode][key]`` the carbon boundary, the infeasible region and its edge, and
-        the grid nodes (:func:`explorer.maps.combine` joins them). Coordinates are rounded to
-        1e-4 (display units of `units`: degC, bar, S/C), invisible on a map.
-    """
-    shown = variables_in(units)  # the map variables as shown in these units
-    levels = {v: variable_levels(ds, shown[v]) for v in variables}
-    per_var: dict = {v: {m: {} for m in MODES} for v in variables}
-    common: dict = {m: {} for m in MODES}
-    for mode in MODES:
-        for fixed in _slice_keys(ds, mode):
-            key = _key_text(fixed)
-            s = slice_fields(ds, mode, fixed)
-            common[mode][key] = _round(window_layers(s, mode, limits, markers, units=units), 4)
-            for v in variables:
-                per_var[v][mode][key] = _round(variable_layers(s, shown[v], mode, levels[v],
-                                                               units), 4)
-    return per_var, common
-
-
-def _page_data(sc: Scenario, ds: xr.Dataset, units: str = display.DEFAULT) -> dict:
-    dims = list(ds["h2_yield"].dims)
-    ratio_dims = [d for d in dims if d in RATIO_AXES]
-    inlet = ds["inlet_flow"].transpose(*ratio_dims, "species").values
-    inlet_flat = inlet.reshape(-1, len(GAS_SPECIES))
-    T_in = np.full(inlet_flat.shape[0], sc.feed.inlet_temperature)
-    A = formula_matrix()
-    Tk = ds.temperature.values
-    fixed_ratios = {k: getattr(sc.feed, k) for k in RATIO_AXES if k not in ratio_dims}
-    return {
-        "species": list(GAS_SPECIES),
-        "molar_mass": [float(m) for m in molar_masses()],
-        "graphite_molar_mass": molar_mass(GRAPHITE),
-        "elements": {e: A[:, ELEMENTS.index(e)].tolist() for e in ("C", "H", "O", "N")},
-        "dims": dims,
-        "shape": [ds.sizes[d] for d in dims],
-        "ratio_dims": ratio_dims,
-        "axes": {d: ds[d].values.tolist() for d in dims},
-        "fixed_ratios": fixed_ratios,
-        "inlet_flow": inlet_flat.ravel().tolist(),
-        "inlet_enthalpy": enthalpy_flow(inlet_flat, T_in).tolist(),
-        "inlet_temperature_K": sc.feed.inlet_temperature,
-        "approach_K": sc.approach,
-        "standard_pressure": P_REF,
-        "K_reforming": equilibrium_constant(REFORMING, Tk).tolist(),
-        "K_shift": equilibrium_constant(SHIFT, Tk).tolist(),
-        "heat_298": {"reforming": float(delta_h(REFORMING, T_REF)),
-                     "shift": float(delta_h(SHIFT, T_REF))},
-        "heat_T": {"reforming": delta_h(REFORMING, Tk).tolist(),
-                   "shift": delta_h(SHIFT, Tk).tolist()},
-        "equations": {"reforming": REFORMING.equation(), "shift": SHIFT.equation()},
-        # The display layer's factors and table layout in the file's unit system.
-        "units": units,
-        "conversions": display.conversions(units),
-        "spec": table_spec(units),
-        "train": _train_descriptor(sc),
-        "plant": _plant_descriptor(sc, ds, units),
-    }
-
-
-def _plant_descriptor(sc: Scenario, ds: xr.Dataset,
-                      units: str = display.DEFAULT) -> dict | None:
-    """What the page's script needs to assemble a point's plant table (None without one):
-    the point JSON keys with the embedded per-point arrays (``pl_<variable>``) or the
-    scenario's constants behind them, the table rows and the flags' threshold."""
-    if sc.plant is None or "specific_energy" not in ds:
-        return None
-    from thermo.api import PLANT_JSON
-    from thermo.sweep import PLANT_CONSTANTS, PLANT_VARIABLES
-
-    by_attr = {attr: name for name, (attr, _, _) in PLANT_VARIABLES.items()}
-    arrays, constants = [], {}
-    for key, attr in PLANT_JSON.items():
-        if attr == "radiant_duty":  # the primary's duty, embedded already
-            arrays.append([key, "duty"])
-            continue
-        name = by_attr[attr]
-        if name in PLANT_CONSTANTS:
-            constants[key] = float(ds[name])
-        else:
-            arrays.append([key, f"pl_{name}"])
-    return {"arrays": arrays, "constants": constants, "rows": rows_for(PLANT_ROWS, units),
-            "note": PLANT_NOTE,
-            "cooled_K": sc.plant.process_gas_cooled_temperature}
-
-
-def _train_descriptor(sc: Scenario) -> dict:
-    """What the page's script needs to know of the train (the primary alone without one)."""
-    from thermo.scenario import STAGE_NAMES
-
-    stages = [{"name": n, "label": STAGE_NAMES[n], "key": f"st{k}"}
-              for k, n in enumerate(sc.train.stages())]
-    pre = "st0" if sc.train.pre_reformer is not None else None
-    return {"stages": stages, "pre": pre}
-
-
-def _train_arrays(sc: Scenario, ds: xr.Dataset) -> dict[str, np.ndarray]:
-    """Per-point arrays of every stage (flat grid order), from the core.
-
-    The Dataset holds the train's totals only; the stage-by-stage table of a clicked point
-    needs each stage's outlet, so the train is run once more over the grid here.
-    """
-    if sc.train.empty:
-        return {}
-    from thermo.train import train_balance
-
-    dims = list(ds["h2_yield"].dims)
-    shape = tuple(ds.sizes[d] for d in dims)
-    idx = np.unravel_index(np.arange(int(np.prod(shape))), shape)
-    T = ds.temperature.values[idx[dims.index("temperature")]]
-    P = ds.pressure.values[idx[dims.index("pressure")]]
-    ratio_dims = [d for d in dims if d in RATIO_AXES]
-    inlet = ds["inlet_flow"].transpose(*ratio_dims, "species").values
-    n_in = inlet[tuple(idx[dims.index(d)] for d in ratio_dims)]
-    tr = train_balance(sc.train, n_in, T, P, sc.feed.inlet_temperature, sc.approach,
-                       row=shape[-1])
-    out: dict[str, np.ndarray] = {}
-    for k, st in enumerate(tr.stages):
-        if st.name == "primary_reformer" and sc.train.pre_reformer is not None:
-            # The primary's inlet is the pre-reformed gas (the main balance's "inlet").
-            out["primary_hin"] = st.inlet_enthalpy
-            out["primary_heat_before"] = np.nan_to_num(st.heat_before)
-        key = f"st{k}"
-        for j, s in enumerate(GAS_SPECIES):
-            out[f"{key}_n_{s}"] = st.outlet_flow[:, j]
-        out[f"{key}_Tin"] = st.inlet_temperature
-        out[f"{key}_T"] = st.temperature
-        out[f"{key}_Teq"] = st.equilibrium_temperature
-        out[f"{key}_heat_before"] = st.heat_before
-        out[f"{key}_duty"] = st.duty
-        out[f"{key}_hin"] = st.inlet_enthalpy
-        out[f"{key}_hout"] = st.outlet_enthalpy
-        out[f"{key}_carbon"] = st.carbon_deposit
-        out[f"{key}_ok"] = st.converged
-    return {k: np.ascontiguousarray(np.asarray(v, dtype=float)) for k, v in out.items()}
-
-
-def _points_source(ds: xr.Dataset, sc: Scenario | None = None):
-    from bokeh.models import ColumnDataSource
-
-    dims = list(ds["h2_yield"].dims)
-    flows = ds["outlet_flow"].transpose(*dims, "species").values.reshape(-1, len(GAS_SPECIES))
-    data = {f"n_{s}": np.ascontiguousarray(flows[:, j]) for j, s in enumerate(GAS_SPECIES)}
-    for k in ("carbon_deposit", "carbon_activity", "duty", "approach_reforming",
-              "approach_shift", "carbon_activity_path_max", "carbon_path_max_temperature",
-              "carbon_activity_real_gas", "carbon_verdict_ln_activity", "carbon_binding",
-              "carbon_free"):
-        data[k] = np.ascontiguousarray(ds[k].transpose(*dims).values.ravel().astype(float))
-    data["converged"] = ds["converged"].transpose(*dims).values.ravel().astype(np.int8)
-    if sc is not None:
-        data.update(_train_arrays(sc, ds))
-    from thermo.sweep import PLANT_CONSTANTS, PLANT_VARIABLES
-
-    for name in PLANT_VARIABLES:
-        if name in ds and name not in PLANT_CONSTANTS:
-            data[f"pl_{name}"] = np.ascontiguousarray(
-                ds[name].transpose(*dims).values.ravel().astype(float))
-    return ColumnDataSource(data, name="points")
-
-
-#: Variables of a comparison review file (base, proposal and change maps for each).
-COMPARE_VARIABLES = ("h2_product", "h2_yield", "train_methane_slip_dry", "duty",
-                     "train_duty", "carbon_activity", "dry:CO")
+SHEET_CSS = static_text("review.css")
+#: The page's script: the balance assembly and table functions, then the map callbacks.
+REVIEW_JS = static_text("review.js") + "\n" + static_text("review-maps.js")
+#: A slider's tick formatter (index to axis label).
+SLIDER_LABEL_JS = static_text("slider-label.js")
 
 
 def _fixed0(sc: Scenario, ds: xr.Dataset) -> dict[str, int]:
@@ -319,17 +118,126 @@ def _sliders(ds: xr.Dataset, fixed0: dict[str, int], mode0: str,
         vals = ds[d].values
         labels = ([display.fmt(v, "pressure", 2, units, with_unit=True) for v in vals]
                   if d == "pressure" else [f"{v:.3g}" for v in vals])
-        fmt = CustomJSTickFormatter(args={"labels": labels},
-                                    code="return labels[Math.round(tick)] ?? String(tick);")
+        fmt = CustomJSTickFormatter(args={"labels": labels}, code=SLIDER_LABEL_JS)
         sliders[d] = Slider(start=0, end=max(n - 1, 1), step=1, value=fixed0[d],
                             title=AXIS_NAMES[d], format=fmt, width=330,
                             visible=(d != mode0), disabled=n < 2)
     return sliders
 
 
+def _maps(sc: Scenario, ds: xr.Dataset, R: dict, facts: dict, ranges, mode0: str,
+          key0: str, units: str = display.DEFAULT) -> tuple[list, list, list, list]:
+    """The single file's two maps, with every slice's layers put into the page data `R`.
+
+    Returns figures, their sources, colour mappers and the variable choosers."""
+    variables = EXPORT_VARIABLES + (() if sc.train.empty else TRAIN_EXPORT_VARIABLES)
+    plant = sc.plant is not None and "specific_energy" in ds
+    if plant:
+        variables = variables + PLANT_EXPORT_VARIABLES
+    right0 = "specific_energy" if plant else "methane_slip_dry"
+    shown = variables_in(units)  # the map variables as shown in these units
+    layers, common = all_layers(ds, sc.limits, variables, scenario_markers(sc, facts["best"]),
+                                units)
+    R["layers"], R["common"] = layers, common
+    R["titles"] = {v: shown[v].title for v in variables}
+    R["palettes"] = {v: variable_palette(v, ds, units) for v in variables}
+    R["hover"] = _hover_specs(variables, units)
+    figs, srcs, mappers = [], [], []
+    for i, v in enumerate(("h2_yield", right0)):
+        var = shown[v]
+        start = _typed(combine(layers[v][mode0][key0], common[mode0][key0]))
+        fig, src, mapper = map_figure(var, mode0, variable_levels(ds, var), start,
+                                      f"map-{i}", *ranges, width=580, height=440, units=units)
+        figs.append(fig)
+        srcs.append(src)
+        mappers.append(mapper)
+    options = [(v, shown[v].title) for v in variables]
+    selects = [Select(title="Left map", value="h2_yield", options=options, width=280),
+               Select(title="Right map", value=right0, options=options, width=280)]
+    return figs, srcs, mappers, selects
+
+
+def _comparison_maps(sc: Scenario, ds: xr.Dataset, prop_sc: Scenario, prop_ds: xr.Dataset,
+                     R: dict, ranges, mode0: str, key0: str,
+                     units: str = display.DEFAULT) -> tuple[list, list, list, list]:
+    """The comparison's three maps (base, proposal, change), layers put into `R`."""
+    variables = COMPARE_VARIABLES
+    shown = variables_in(units)  # the map variables as shown in these units
+    panels = comparison_layers(sc, ds, prop_sc, prop_ds, variables, units)
+    R["layers"], R["common"] = panels["base"], panels["base_common"]
+    R["cmp"] = {"layers": panels["proposal"], "common": panels["proposal_common"],
+                "diff": panels["change"], "palettes": panels["palettes"],
+                "diff_palettes": panels["change_palettes"]}
+    R["titles"] = {v: shown[v].label for v in variables}
+    R["hover"] = _hover_specs(variables, units)
+    R["proposal"] = page_data(prop_sc, prop_ds, units)
+    prefixes = ["Base: ", "Proposal: ", "Change: "]
+    R["prefixes"] = prefixes
+    # The first variable that changes (round-off below the tolerance is no change).
+    v0 = next((v for v in COMPARE_ORDER if v in panels["changes"]), variables[0])
+    sets = [(panels["base"], panels["base_common"], panels["levels"][v0], shown[v0]),
+            (panels["proposal"], panels["proposal_common"], panels["levels"][v0],
+             shown[v0]),
+            (panels["change"], panels["proposal_common"], panels["change_levels"][v0],
+             change_variable(shown[v0]))]
+    figs, srcs, mappers = [], [], []
+    for i, (lay, com, levels, var) in enumerate(sets):
+        start = _typed(combine(lay[v0][mode0][key0], com[mode0][key0]))
+        fig, src, mapper = map_figure(var, mode0, levels, start, f"map-{i}", *ranges,
+                                      width=580 if i < 2 else 620, height=420, units=units)
+        fig.title.text = prefixes[i] + var.label
+        figs.append(fig)
+        srcs.append(src)
+        mappers.append(mapper)
+    options = [(v, shown[v].title) for v in variables]
+    selects = [Select(title="Variable", value=v0, options=options, width=340)]
+    return figs, srcs, mappers, selects
+
+
+def _typed(layers: dict) -> dict:
+    """A slice's layers with every polygon ring and line as a numpy array (the columns stay
+    lists): the plotting library then writes them as binary buffers instead of walking and
+    encoding each number, and the figure's first slice costs a fraction of the time."""
+    def leaves(v, depth: int):
+        if isinstance(v, list):
+            if depth >= 1 and v and all(type(e) is float for e in v):
+                return np.asarray(v, dtype=float)
+            return [leaves(e, depth + 1) for e in v]
+        return v
+
+    return {name: {col: leaves(v, 0) for col, v in cols.items()}
+            for name, cols in layers.items()}
+
+
+def _legend(fig) -> Legend:
+    return next(m for m in fig.below if isinstance(m, Legend))
+
+
+def _hover(fig) -> HoverTool:
+    return next(t for t in fig.tools if isinstance(t, HoverTool))
+
+
+def _hover_specs(variables, units: str = display.DEFAULT) -> dict:
+    shown = variables_in(units)
+    return {v: [shown[v].label, shown[v].unit, shown[v].digits] for v in variables}
+
+
+def _points_source(data: dict[str, np.ndarray], name: str = "points"):
+    from bokeh.models import ColumnDataSource
+
+    return ColumnDataSource(data, name=name)
+
+
+def _proposal_points(base: dict[str, np.ndarray], prop: dict[str, np.ndarray]) -> dict:
+    """The proposal's per-point arrays without those equal to the base's (the page's script
+    takes a missing array from the base: see tapCompare in review-maps.js)."""
+    return {k: v for k, v in prop.items()
+            if not (k in base and base[k].dtype == v.dtype and np.array_equal(base[k], v))}
+
+
 def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
                  compare: tuple[Scenario, xr.Dataset] | None = None,
-                 units: str | None = None) -> str:
+                 facts: dict | None = None, units: str | None = None) -> str:
     """The review page as HTML text (see the module docstring).
 
     Parameters
@@ -342,108 +250,59 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
         A proposal and its sweep over the same window (thermo.compare.on_base_window): the
         page then maps base, proposal and their change side by side, and a click shows both
         balances with the changes.
+    facts : dict, optional
+        :func:`explorer.sheet.window_facts` of `sc` and `ds` (best point, margins), if the
+        caller has them; computed here otherwise.
     units : {"metric", "us"}, optional
         Display unit system (explorer.display) of the file; the scenario's
         ``display_units`` (metric without one) if None. The file carries it.
     """
     units = display.check_system(units or getattr(sc, "display_units", display.DEFAULT))
-    shown = variables_in(units)  # the map variables as shown in these units
     pinned = list(pinned or [])
-    R = _page_data(sc, ds, units)
-    facts = window_facts(sc, ds, units=units)
+    R = page_data(sc, ds, units)
+    facts = window_facts(sc, ds, units=units) if facts is None else facts
     fixed0 = _fixed0(sc, ds)
     mode0 = "pressure"
-    key0 = _key_text({d: j for d, j in fixed0.items() if d != mode0})
+    key0 = key_text({d: j for d, j in fixed0.items() if d != mode0})
     x = display.to_display(ds.temperature.values, "temperature", units)
     y = display.to_display(ds[mode0].values, "pressure", units)
-    x_range, y_range = (float(x.min()), float(x.max())), (float(y.min()), float(y.max()))
+    ranges = (float(x.min()), float(x.max())), (float(y.min()), float(y.max()))
     R["ranges"] = {
         "pressure": [float(display.to_display(float(ds.pressure.min()), "pressure", units)),
                      float(display.to_display(float(ds.pressure.max()), "pressure", units))],
         "steam_to_carbon": [float(ds.steam_to_carbon.min()), float(ds.steam_to_carbon.max())],
     }
     R["axis_labels"] = {m: axis_label(m, units) for m in MODES}
-    figs, srcs, mappers = [], [], []
     if compare is None:
-        variables = EXPORT_VARIABLES + (() if sc.train.empty else TRAIN_EXPORT_VARIABLES)
-        plant = sc.plant is not None and "specific_energy" in ds
-        if plant:
-            variables = variables + PLANT_EXPORT_VARIABLES
-        right0 = "specific_energy" if plant else "methane_slip_dry"
-        layers, common = all_layers(ds, sc.limits, variables,
-                                    scenario_markers(sc, facts["best"]), units)
-        R["layers"], R["common"] = layers, common
-        R["titles"] = {v: shown[v].title for v in variables}
-        R["palettes"] = {v: mappers_palette(v, ds, units) for v in variables}
-        for i, v in enumerate(("h2_yield", right0)):
-            var = shown[v]
-            start = combine(layers[v][mode0][key0], common[mode0][key0])
-            fig, src, mapper = map_figure(var, mode0, variable_levels(ds, var), start,
-                                          f"map-{i}", x_range, y_range, width=580, height=440,
-                                          units=units)
-            figs.append(fig)
-            srcs.append(src)
-            mappers.append(mapper)
-        options = [(v, shown[v].title) for v in variables]
-        selects = [Select(title="Left map", value="h2_yield", options=options, width=280),
-                   Select(title="Right map", value=right0, options=options,
-                          width=280)]
-        update_js, tap_js = _UPDATE_JS, _TAP_JS
+        figs, srcs, mappers, selects = _maps(sc, ds, R, facts, ranges, mode0, key0, units)
+        update_call, tap_call = "updateMaps();", "tapMap();"
     else:
-        prop_sc, prop_ds = compare
-        variables = COMPARE_VARIABLES
-        panels = _comparison_layers(sc, ds, prop_sc, prop_ds, variables, units)
-        R["layers"], R["common"] = panels["base"], panels["base_common"]
-        R["cmp"] = {"layers": panels["proposal"], "common": panels["proposal_common"],
-                    "diff": panels["change"], "palettes": panels["palettes"],
-                    "diff_palettes": panels["change_palettes"]}
-        R["titles"] = {v: shown[v].label for v in variables}
-        R["proposal"] = _page_data(prop_sc, prop_ds, units)
-        prefixes = ["Base: ", "Proposal: ", "Change: "]
-        R["prefixes"] = prefixes
-        # The first variable that changes (round-off below the tolerance is no change).
-        v0 = next((v for v in COMPARE_ORDER if v in panels["changes"]), variables[0])
-        sets = [(panels["base"], panels["base_common"], panels["levels"][v0], shown[v0]),
-                (panels["proposal"], panels["proposal_common"], panels["levels"][v0],
-                 shown[v0]),
-                (panels["change"], panels["proposal_common"], panels["change_levels"][v0],
-                 change_variable(shown[v0]))]
-        for i, (lay, com, levels, var) in enumerate(sets):
-            start = combine(lay[v0][mode0][key0], com[mode0][key0])
-            fig, src, mapper = map_figure(var, mode0, levels, start, f"map-{i}", x_range,
-                                          y_range, width=580 if i < 2 else 620, height=420,
-                                          units=units)
-            fig.title.text = prefixes[i] + var.label
-            figs.append(fig)
-            srcs.append(src)
-            mappers.append(mapper)
-        options = [(v, shown[v].title) for v in variables]
-        selects = [Select(title="Variable", value=v0, options=options, width=340)]
-        update_js, tap_js = _UPDATE_CMP_JS, _TAP_CMP_JS
-    R["hover"] = {v: [shown[v].label, shown[v].unit, shown[v].digits]
-                  for v in variables}
+        figs, srcs, mappers, selects = _comparison_maps(sc, ds, *compare, R, ranges, mode0,
+                                                        key0, units)
+        update_call, tap_call = "updateCompare();", "tapCompare();"
     mode = RadioButtonGroup(labels=[MODES[m] for m in MODES], active=0)
     sliders = _sliders(ds, fixed0, mode0, units)
     heading = Div(text="<p>Click a map to show the balance of the nearest grid point.</p>",
                   name="balance-heading", width=1150)
     balance = Div(text="", width=1150, stylesheets=[SHEET_CSS], name="balance-div")
-    pts = _points_source(ds, sc)
-    hovers = [_hover(f) for f in figs]
-    js_common = resources.files("explorer").joinpath("review.js").read_text("utf-8")
-    legends = [f.select_one({"type": Legend}) for f in figs]
-    args = dict(pts=pts, figs=figs, mappers=mappers, selects=selects, mode=mode, legends=legends,
-                sliders=sliders, hovers=hovers, srcs=srcs)
+    base_points = point_arrays(ds, sc)
+    legends = [_legend(f) for f in figs]
+    args = dict(pts=_points_source(base_points), figs=figs, mappers=mappers, selects=selects,
+                mode=mode, legends=legends, sliders=sliders, hovers=[_hover(f) for f in figs],
+                srcs=srcs)
     if compare is not None:
-        args["pts2"] = _points_source(compare[1], compare[0])
-    update = CustomJS(args=args, code=js_common + update_js)
+        args["pts2"] = _points_source(
+            _proposal_points(base_points, point_arrays(compare[1], compare[0])), "points-2")
+    update = CustomJS(args=args, code=REVIEW_JS + "\n" + update_call)
     for s in selects:
         s.js_on_change("value", update)
     mode.js_on_change("active", update)
     for s in sliders.values():
         s.js_on_change("value", update)
-    for i, f in enumerate(figs):
-        tap = CustomJS(args=dict(args, which=i, heading=heading, balance=balance),
-                       code=js_common + tap_js)
+    # One click handler for every map (the click's own coordinates find the node).
+    tap = CustomJS(args=dict(args, heading=heading, balance=balance),
+                   code=REVIEW_JS + "\n" + tap_call)
+    for f in figs:
         f.js_on_event("tap", tap)
     controls = column(mode, row(*selects, *sliders.values()))
     if compare is None:
@@ -461,6 +320,9 @@ def build_review(sc: Scenario, ds: xr.Dataset, pinned: list[dict] | None = None,
     # Only the library code this page's models need, inline (as the library's own file
     # writer would choose it).
     bundle = bundle_for_objs_and_resources([maps, bal], INLINE)
+    R["common"] = pack_repeats(R["common"])
+    if "cmp" in R:
+        R["cmp"]["common"] = pack_repeats(R["cmp"]["common"])
     page = render(
         "review.html.jinja",
         # Text (autoescaped): the scenario's own words.
@@ -523,192 +385,6 @@ def with_content_security_policy(page: str) -> str:
     return page.replace(_CSP_PLACEHOLDER, content_security_policy(page), 1)
 
 
-def _comparison_layers(sc, ds, prop_sc, prop_ds, variables,
-                       units: str = display.DEFAULT) -> dict:
-    """Every slice's layers of the base, the proposal and the change (proposal - base)."""
-    from thermo.compare import difference
-
-    shown = variables_in(units)  # the map variables as shown in these units
-
-    diff = difference(ds, prop_ds)
-    levels = {v: shared_levels((ds, prop_ds), shown[v]) for v in variables}
-    tolerance = {v: change_tolerance(ds, shown[v]) for v in variables}
-    quiet = {v: quiet_change(diff, shown[v], tolerance[v]) for v in variables}
-    ch_levels = {v: change_levels(quiet[v], shown[v], tolerance[v]) for v in variables}
-    out = {"base": {}, "proposal": {}, "change": {}, "base_common": {m: {} for m in MODES},
-           "proposal_common": {m: {} for m in MODES}, "levels": levels,
-           "change_levels": ch_levels}
-    for name in ("base", "proposal", "change"):
-        out[name] = {v: {m: {} for m in MODES} for v in variables}
-    for mode in MODES:
-        for fixed in _slice_keys(ds, mode):
-            key = _key_text(fixed)
-            sb = slice_fields(ds, mode, fixed)
-            sp = slice_fields(prop_ds, mode, fixed)
-            sd = {v: _diff_slice(quiet[v], mode, fixed) for v in variables}
-            out["base_common"][mode][key] = _round(window_layers(sb, mode, sc.limits,
-                                                                 units=units), 4)
-            out["proposal_common"][mode][key] = _round(window_layers(sp, mode, prop_sc.limits,
-                                                                     units=units), 4)
-            for v in variables:
-                var = shown[v]
-                out["base"][v][mode][key] = _round(variable_layers(sb, var, mode, levels[v],
-                                                                   units), 4)
-                out["proposal"][v][mode][key] = _round(
-                    variable_layers(sp, var, mode, levels[v], units), 4)
-                out["change"][v][mode][key] = _round(
-                    variable_layers(sd[v], change_variable(var), mode, ch_levels[v], units), 4)
-    out["changes"] = [v for v in variables
-                      if has_change(quiet[v], shown[v], tolerance[v])]
-    out["palettes"] = {v: _palette_of(shown[v], levels[v]) for v in variables}
-    out["change_palettes"] = {v: _palette_of(change_variable(shown[v]), ch_levels[v])
-                              for v in variables}
-    return out
-
-
-def _diff_slice(diff: xr.Dataset, mode: str, fixed: dict[str, int]) -> xr.Dataset:
-    sel = {d: i for d, i in fixed.items() if d in diff.dims and d not in (mode, "temperature")}
-    return diff.isel(sel).transpose(mode, "temperature", ...)
-
-
-def _palette_of(var, levels) -> dict:
-    from explorer.maps import _band_colours
-
-    return {"palette": _band_colours(var, len(levels) - 1), "low": float(levels[0]),
-            "high": float(levels[-1])}
-
-
-def _hover(fig):
-    from bokeh.models import HoverTool
-
-    return next(t for t in fig.tools if isinstance(t, HoverTool))
-
-
-def mappers_palette(v: str, ds: xr.Dataset, units: str = display.DEFAULT) -> dict:
-    from explorer.maps import _band_colours
-
-    var = variables_in(units)[v]
-    levels = variable_levels(ds, var)
-    return {"palette": _band_colours(var, len(levels) - 1), "low": float(levels[0]),
-            "high": float(levels[-1])}
-
-
-_UPDATE_JS = """
-const m = mapMode();
-const k = sliceKey(m);
-for (let i = 0; i < 2; i++) {
-  const v = selects[i].value;
-  const L = R.layers[v][m][k];
-  const C = R.common[m][k];
-  for (const name of ["bands", "lines", "labels"]) srcs[i][name].data = L[name];
-  for (const name of ["carbon", "carbon_outlet", "carbon_catalyst", "carbon_graphite",
-                      "infeasible", "edge", "best", "design"]) {
-    if (C[name] && srcs[i][name]) srcs[i][name].data = C[name];
-  }
-  srcs[i].nodes.data = Object.assign({}, C.nodes, {value: L.values});
-  const pal = R.palettes[v];
-  mappers[i].palette = pal.palette;
-  mappers[i].low = pal.low;
-  mappers[i].high = pal.high;
-  figs[i].title.text = R.titles[v];
-  figs[i].y_range.start = R.ranges[m][0];
-  figs[i].y_range.end = R.ranges[m][1];
-  // BokehJS figures have no yaxis list: the y axis is the renderer on the left.
-  for (const ax of figs[i].left) if ("axis_label" in ax) ax.axis_label = R.axis_labels[m];
-  const [label, unit, digits] = R.hover[v];
-  hovers[i].tooltips = [["temperature", "@x{0.0} " + R.spec.symbols.temperature],
-    m === "pressure" ? ["pressure", "@y{0.00} " + R.spec.symbols.pressure]
-                     : ["steam-to-carbon", "@y{0.00}"],
-    [label, "@value{0." + "0".repeat(Math.max(digits, 1)) + "} " + unit],
-    ["review limits", "@feasible"], ["carbon", "@carbon"]];
-  srcs[i].selected.data = {x: [], y: [], alpha: []};
-  showLegend(legends[i], C, false);
-}
-"""
-
-_TAP_JS = """
-const m = mapMode();
-const [p, T, Y, i, j] = tappedPoint(m, cb_obj.x, cb_obj.y);
-const d = assemble(p);
-const U = R.spec.symbols;
-let head = `<p><b>${display(d.temperature_K, "temperature", 1)} ${U.temperature}, ` +
-  `${display(d.pressure_Pa, "pressure", R.spec.summary[2][4])} ${U.pressure}, ` +
-  `S/C ${pyG(d.steam_to_carbon, 3)}</b>`;
-if (d.oxygen_to_carbon) head += `, O2/C ${pyG(d.oxygen_to_carbon, 3)}`;
-if (d.co2_to_carbon) head += `, CO2/C ${pyG(d.co2_to_carbon, 3)}`;
-head += ` (approach ${pyG(toDisplay(d.approach_K, "temperature_difference"), 6)} ` +
-  `${R.spec.symbols.temperature_difference}; grid point ${p})</p>`;
-heading.text = head;
-balance.text = nodeVerdict(R.common[m][sliceKey(m)], i, j, T.length) + balanceHtml(d);
-for (let f = 0; f < 2; f++) {
-  srcs[f].selected.data = {x: [T[i]], y: [Y[j]], alpha: [1.0]};
-  showLegend(legends[f], R.common[m][sliceKey(m)], true);
-}
-"""
-
-
-_UPDATE_CMP_JS = """
-const m = mapMode();
-const k = sliceKey(m);
-const v = selects[0].value;
-const sets = [[R.layers, R.common, R.cmp.palettes], [R.cmp.layers, R.cmp.common, R.cmp.palettes],
-              [R.cmp.diff, R.cmp.common, R.cmp.diff_palettes]];
-for (let i = 0; i < 3; i++) {
-  const [layers, common, palettes] = sets[i];
-  const L = layers[v][m][k];
-  const C = common[m][k];
-  for (const name of ["bands", "lines", "labels"]) srcs[i][name].data = L[name];
-  for (const name of ["carbon", "carbon_outlet", "carbon_catalyst", "carbon_graphite",
-                      "infeasible", "edge", "best", "design"]) {
-    if (C[name] && srcs[i][name]) srcs[i][name].data = C[name];
-  }
-  srcs[i].nodes.data = Object.assign({}, C.nodes, {value: L.values});
-  const pal = palettes[v];
-  mappers[i].palette = pal.palette;
-  mappers[i].low = pal.low;
-  mappers[i].high = pal.high;
-  figs[i].title.text = R.prefixes[i] + R.titles[v];
-  figs[i].y_range.start = R.ranges[m][0];
-  figs[i].y_range.end = R.ranges[m][1];
-  // BokehJS figures have no yaxis list: the y axis is the renderer on the left.
-  for (const ax of figs[i].left) if ("axis_label" in ax) ax.axis_label = R.axis_labels[m];
-  const [label, unit, digits] = R.hover[v];
-  const dg = digits + (i === 2 ? 1 : 0);
-  hovers[i].tooltips = [["temperature", "@x{0.0} " + R.spec.symbols.temperature],
-    m === "pressure" ? ["pressure", "@y{0.00} " + R.spec.symbols.pressure]
-                     : ["steam-to-carbon", "@y{0.00}"],
-    [(i === 2 ? "change in " : "") + label,
-     "@value{0." + "0".repeat(Math.max(dg, 1)) + "} " + unit],
-    ["review limits", "@feasible"], ["carbon", "@carbon"]];
-  srcs[i].selected.data = {x: [], y: [], alpha: []};
-  showLegend(legends[i], C, false);
-}
-"""
-
-_TAP_CMP_JS = """
-const m = mapMode();
-const [p, T, Y, i, j] = tappedPoint(m, cb_obj.x, cb_obj.y);
-const a = assemble(p);
-const b = assemble(p, R.proposal, pts2);
-const U = R.spec.symbols;
-let head = `<p><b>${display(a.temperature_K, "temperature", 1)} ${U.temperature}, ` +
-  `${display(a.pressure_Pa, "pressure", R.spec.summary[2][4])} ${U.pressure}, ` +
-  `S/C ${pyG(a.steam_to_carbon, 3)}</b>`;
-if (a.oxygen_to_carbon) head += `, O2/C ${pyG(a.oxygen_to_carbon, 3)}`;
-if (a.co2_to_carbon) head += `, CO2/C ${pyG(a.co2_to_carbon, 3)}`;
-head += ` (grid point ${p}): base, proposal and the change</p>`;
-heading.text = head;
-const k = sliceKey(m);
-balance.text = compareHtml(a, b) + "<h3>Base case</h3>" +
-  nodeVerdict(R.common[m][k], i, j, T.length) + balanceHtml(a) + "<h3>Proposal</h3>" +
-  nodeVerdict(R.cmp.common[m][k], i, j, T.length) + balanceHtml(b);
-for (let f = 0; f < 3; f++) {
-  srcs[f].selected.data = {x: [T[i]], y: [Y[j]], alpha: [1.0]};
-  showLegend(legends[f], f === 0 ? R.common[m][k] : R.cmp.common[m][k], true);
-}
-"""
-
-
 class _LinkFinder(HTMLParser):
     """Collects src/href attributes of tags (script and style contents are raw text)."""
 
@@ -738,7 +414,8 @@ def check_offline(text: str) -> None:
 
 def write_review(sc: Scenario, path: str | os.PathLike, ds: xr.Dataset | None = None,
                  pinned: list[dict] | None = None, proposal: Scenario | None = None,
-                 proposal_ds: xr.Dataset | None = None, units: str | None = None) -> Path:
+                 proposal_ds: xr.Dataset | None = None, facts: dict | None = None,
+                 units: str | None = None) -> Path:
     """Write the review file atomically (temporary name, then rename).
 
     Parameters
@@ -755,6 +432,8 @@ def write_review(sc: Scenario, path: str | os.PathLike, ds: xr.Dataset | None = 
         A proposal to compare with `sc` (the base); it is solved over the base's window.
     proposal_ds : xarray.Dataset, optional
         Its sweep over the base's window; computed if None.
+    facts : dict, optional
+        :func:`explorer.sheet.window_facts` of `sc` and `ds`; computed if None.
     units : {"metric", "us"}, optional
         Display unit system of the file (the scenario's ``display_units`` if None).
     """
@@ -771,7 +450,7 @@ def write_review(sc: Scenario, path: str | os.PathLike, ds: xr.Dataset | None = 
         if proposal_ds is None:
             proposal_ds = thermo.sweep(proposal)
         compare = (proposal, proposal_ds)
-    text = build_review(sc, ds, pinned, compare, units)
+    text = build_review(sc, ds, pinned, compare, facts, units)
     check_offline(text)
     with atomic_target(path, "-o") as tmp:
         tmp.write_text(text, encoding="utf-8")
@@ -802,7 +481,7 @@ def main(argv: list[str] | None = None) -> int:
         pinned = json.loads(Path(a.pinned).read_text("utf-8")) if a.pinned else []
         proposal = thermo.load_scenario(a.compare) if a.compare else None
         proposal_ds = io.load(a.compare_grid) if a.compare_grid else None
-        write_review(sc, a.output, ds, pinned, proposal, proposal_ds, a.units)
+        write_review(sc, a.output, ds, pinned, proposal, proposal_ds, units=a.units)
     except InputError as err:
         print(f"explorer: error: {err}", file=sys.stderr)
         return 2

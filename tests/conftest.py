@@ -4,7 +4,7 @@ review file's script.
 Browser downloads are impossible on the project's machines, so the tests drive the Chromium of
 the Debian package (installed by .ci/run). Without it the browser tests skip with a reason;
 with EXPLORER_REQUIRE_BROWSER=1 (set by .ci/run) a missing browser is an error instead. The
-tests of explorer/review.js run it under Node.js (Debian's ``nodejs``, installed by .ci/run)
+tests of explorer/static/review.js run it under Node.js (Debian's ``nodejs``, installed by .ci/run)
 through the ``node`` fixture: without it they skip, and with EXPLORER_REQUIRE_NODE=1 (set by
 .ci/run) they fail.
 """

@@ -27,13 +27,14 @@ import numpy as np
 import xarray as xr
 
 from thermo import carbon
+from thermo.balances import enthalpy_flow
 from thermo.constants import P_REF
 from thermo.scenario import Limits, Scenario
 from thermo.species import GAS_SPECIES
 from thermo.train import train_balance
 
 #: Version of the Dataset layout; io.load refuses files of another version.
-SCHEMA_VERSION = "3"
+SCHEMA_VERSION = "4"
 #: Points solved per chunk (memory stays near 200 MB per chunk in flight).
 CHUNK_POINTS = 65_536
 
@@ -73,6 +74,8 @@ _VARIABLES: dict[str, tuple[str, str]] = {
     "secondary_temperature": ("K", "adiabatic secondary reformer outlet temperature"),
     **carbon.VARIABLES,
     "converged": ("1", "equilibrium solver converged (every stage of the train)"),
+    "feed_enthalpy": ("W", "enthalpy flow of the mixed feed at its inlet temperature, "
+                      "formation enthalpies included"),
     "iterations": ("1", "equilibrium solver iterations"),
 }
 
@@ -116,6 +119,27 @@ PLANT_VARIABLES: dict[str, tuple[str, str, str]] = {
 }
 #: Plant variables that are constants of a scenario: 0-d in the Dataset.
 PLANT_CONSTANTS = ("plant_bridgewall_temperature", "plant_steam_value")
+
+#: Each stage of a reforming train (with a train only; dims window + ``stage``, with
+#: ``species`` for the flow): Dataset name -> (StageResult attribute, units, long_name).
+#: The ``stage`` coordinate holds the stage names in train order (thermo.scenario.STAGE_NAMES).
+STAGE_VARIABLES: dict[str, tuple[str, str, str]] = {
+    "stage_outlet_flow": ("outlet_flow", "mol s-1", "gas leaving each stage of the train"),
+    "stage_inlet_temperature": ("inlet_temperature", "K", "gas entering each stage, after "
+                                "any reheat or cooling before it"),
+    "stage_temperature": ("temperature", "K", "outlet temperature of each stage"),
+    "stage_equilibrium_temperature": ("equilibrium_temperature", "K", "temperature of each "
+                                      "stage's equilibrium composition (approach applied)"),
+    "stage_heat_before": ("heat_before", "W", "heat given to the gas before each stage "
+                          "(reheat > 0, cooling < 0)"),
+    "stage_duty": ("duty", "W", "heat supplied to each stage (outlet minus inlet enthalpy)"),
+    "stage_inlet_enthalpy": ("inlet_enthalpy", "W", "enthalpy flow entering each stage, "
+                             "formation enthalpies included"),
+    "stage_outlet_enthalpy": ("outlet_enthalpy", "W", "enthalpy flow leaving each stage, "
+                              "formation enthalpies included"),
+    "stage_carbon_deposit": ("carbon_deposit", "mol s-1", "graphite formed in each stage"),
+    "stage_converged": ("converged", "1", "each stage's equilibrium was found"),
+}
 
 #: Scalar (per point) variables taken from a Balance.
 _SCALARS = ("carbon_deposit", "carbon_activity", "h2_yield", "h2_potential",
@@ -186,6 +210,9 @@ def train_results(scenario: Scenario, n_in, T, P, row: int = 1) -> dict[str, np.
         out[_CARBON_LOCAL + k] = v
     if scenario.plant is not None:
         out.update(plant_results(scenario, tr, P))
+    if not scenario.train.empty:
+        for k, (attr, _, _) in STAGE_VARIABLES.items():
+            out[k] = np.stack([getattr(st, attr) for st in tr.stages], axis=1)
     return out
 
 
@@ -363,17 +390,26 @@ def assemble(scenario: Scenario, results: list[dict[str, np.ndarray]]) -> xr.Dat
             data_vars[k] = ((), v[0])
         elif k in _PER_SPECIES:
             data_vars[k] = (dims + ["species"], v.reshape(shape + (len(GAS_SPECIES),)))
+        elif k in STAGE_VARIABLES:
+            extra = ["stage"] + (["species"] if v.ndim == 3 else [])
+            data_vars[k] = (dims + extra, v.reshape(shape + v.shape[1:]))
         else:
             data_vars[k] = (dims, v.reshape(shape))
     ratio_dims = [d for d in dims if d in RATIO_AXES]
-    data_vars["inlet_flow"] = (ratio_dims + ["species"], _inlet_by_ratio(scenario, axes))
+    inlet = _inlet_by_ratio(scenario, axes)
+    data_vars["inlet_flow"] = (ratio_dims + ["species"], inlet)
+    flat_in = inlet.reshape(-1, len(GAS_SPECIES))
+    h_feed = enthalpy_flow(flat_in, np.full(len(flat_in), scenario.feed.inlet_temperature))
+    data_vars["feed_enthalpy"] = (ratio_dims, h_feed.reshape(inlet.shape[:-1]))
     coords = {d: axes[d] for d in dims}
     coords["species"] = np.array(GAS_SPECIES, dtype=object)
+    if "stage_duty" in flat:
+        coords["stage"] = np.array(scenario.train.stages(), dtype=object)
     ds = xr.Dataset(data_vars, coords=coords)
     for k, (u, ln) in _VARIABLES.items():
         if k in ds:
             ds[k].attrs = {"units": u, "long_name": ln}
-    for k, (_, u, ln) in PLANT_VARIABLES.items():
+    for k, (_, u, ln) in {**PLANT_VARIABLES, **STAGE_VARIABLES}.items():
         if k in ds:
             ds[k].attrs = {"units": u, "long_name": ln}
     ds["converged"].attrs = {"units": "1", "long_name": _VARIABLES["converged"][1]}
@@ -388,8 +424,9 @@ def assemble(scenario: Scenario, results: list[dict[str, np.ndarray]]) -> xr.Dat
         "oxygen_to_carbon": ("1", "O2 co-feed, mol O2 per mol hydrocarbon carbon"),
         "co2_to_carbon": ("1", "CO2 co-feed, mol CO2 per mol hydrocarbon carbon"),
         "species": ("1", "gas species"),
+        "stage": ("1", "stage of the reforming train, in flow order"),
     }
-    for d in list(dims) + ["species"]:
+    for d in list(dims) + ["species"] + (["stage"] if "stage" in ds.dims else []):
         u, ln = coord_attrs[d]
         ds[d].attrs = {"units": u, "long_name": ln}
     ds["feasible"] = feasible_mask(ds, scenario.limits)

@@ -1,4 +1,5 @@
-"""Style sheets, templates and the page script, as files; read once and inlined where used."""
+"""Style sheets, templates and the review file's scripts, as files; read once and inlined
+where used (no module holds script or style text: tests/test_layering.py)."""
 
 from __future__ import annotations
 

@@ -273,8 +273,8 @@ def balance_clicks(page, sc, n: int):
         t0 = time.perf_counter()
         page.mouse.click(pos["x"], pos["y"])
         page.get_by_text(label).first.wait_for(timeout=20000)
-        page.locator('table.rw-table:not([data-table]):not([data-role="best-balance"] table)').first.filter(has_text=f"{y:.3f}").wait_for(
-            timeout=20000)
+        balance = 'table.rw-table:not([data-table]):not([data-role="best-balance"] table)'
+        page.locator(balance).first.filter(has_text=f"{y:.3f}").wait_for(timeout=20000)
         times.append(time.perf_counter() - t0)
     return times
 

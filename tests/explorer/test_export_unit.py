@@ -320,8 +320,7 @@ def test_failure_after_the_temporary_file_is_written_keeps_the_previous_file(pre
         raise OSError("simulated failure while renaming")
 
     monkeypatch.setattr(export_module, "build_review",
-                        lambda sc, ds, pinned, compare=None, units=None:
-                        "<html><body>new</body></html>")
+                        lambda sc, ds, pinned, *_, **__: "<html><body>new</body></html>")
     import thermo.io
 
     monkeypatch.setattr(thermo.io, "publish", publish_fails)
@@ -336,7 +335,7 @@ def test_page_with_network_links_is_not_written(previous, monkeypatch):
     """A built page with a network link is refused and the previous file stays, with no temporary
     file."""
     monkeypatch.setattr(export_module, "build_review",
-                        lambda sc, ds, pinned, compare=None, units=None: '<script src="https://cdn.example.org/x.js">')
+                        lambda sc, ds, pinned, *_, **__: '<script src="https://cdn.example.org/x.js">')
     with pytest.raises(RuntimeError, match="network"):
         write_review(small_scenario(), previous, ds=object(), pinned=[])
     assert previous.read_text("utf-8") == OLD
@@ -347,8 +346,7 @@ def test_successful_write_replaces_the_file_with_normal_permissions(previous, mo
     """A successful write replaces the file's content, leaves no temporary file, and gives the
     mode a new file gets under the umask."""
     new = "<html><body>the new review</body></html>"
-    monkeypatch.setattr(export_module, "build_review",
-                        lambda sc, ds, pinned, compare=None, units=None: new)
+    monkeypatch.setattr(export_module, "build_review", lambda sc, ds, pinned, *_, **__: new)
     assert write_review(small_scenario(), previous, ds=object(), pinned=[]) == previous
     assert previous.read_text("utf-8") == new
     assert leftovers(previous.parent, previous) == []

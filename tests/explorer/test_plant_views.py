@@ -148,14 +148,14 @@ def test_review_script_assembles_the_plant_table_as_the_core_does(scenario, tmp_
 
     import numpy as np
 
-    from explorer import export
+    from explorer import review_data
 
     sc = scenario.with_window(**SMALL)
     ds = thermo.sweep(sc)
-    R = export._page_data(sc, ds)
-    data = {k: np.asarray(v).tolist() for k, v in export._points_source(ds, sc).data.items()}
+    R = review_data.page_data(sc, ds)
+    data = {k: np.asarray(v).tolist() for k, v in review_data.point_arrays(ds, sc).items()}
     flat = [0, 13, 35]
-    js = resources.files("explorer").joinpath("review.js").read_text("utf-8")
+    js = resources.files("explorer").joinpath("static", "review.js").read_text("utf-8")
     script = (f"globalThis.window = {{__rwData: {json.dumps(R)}}};\n"
               f"const pts = {{data: {json.dumps(data)}}};\n{js}\n"
               f"console.log(JSON.stringify({json.dumps(flat)}.map((p) => "

@@ -157,14 +157,14 @@ def test_review_file_closure_is_the_closure_of_its_flows(tmp_path):
     """The review file's script (review.js under Node.js) assembles, at every node of a small
     window, an element_closure equal to the exact closure of the flows it assembles, and its
     balance prints that closure to two digits."""
-    from explorer import export
+    from explorer import review_data
 
     sc = small_scenario()
     ds = thermo.sweep(sc)
-    R = export._page_data(sc, ds)
-    data = {k: np.asarray(v).tolist() for k, v in export._points_source(ds, sc).data.items()}
+    R = review_data.page_data(sc, ds)
+    data = {k: np.asarray(v).tolist() for k, v in review_data.point_arrays(ds, sc).items()}
     n = int(ds["h2_yield"].size)
-    js = resources.files("explorer").joinpath("review.js").read_text("utf-8")
+    js = resources.files("explorer").joinpath("static", "review.js").read_text("utf-8")
     script = (f"globalThis.window = {{__rwData: {json.dumps(R)}}};\n"
               f"const pts = {{data: {json.dumps(data)}}};\n{js}\n"
               f"const out = [];\nfor (let p = 0; p < {n}; p++) {{\n"

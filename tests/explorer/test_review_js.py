@@ -1,7 +1,7 @@
 """The review file's number formatting equals Python's, digit for digit.
 
 The page assembles a clicked point's balance itself; its numbers must read exactly as the
-app's (Python) tables do. The formatting functions of explorer/review.js run under Node.js
+app's (Python) tables do. The formatting functions of explorer/static/review.js run under Node.js
 (installed on the project's machines) on values that include exact binary ties and values
 whose shortest decimal form ends in 5.
 """
@@ -21,7 +21,7 @@ NODE = shutil.which("node")
 
 
 def _functions() -> str:
-    js = resources.files("explorer").joinpath("review.js").read_text("utf-8")
+    js = resources.files("explorer").joinpath("static", "review.js").read_text("utf-8")
     out = []
     for name in ("pyFixed", "pyG"):
         m = re.search(rf"^function {name}\(.*?^}}\n", js, flags=re.S | re.M)
@@ -71,7 +71,7 @@ def test_page_assembles_a_train_balance_as_the_core_does(tmp_path):
     """The review file's script builds a clicked point's balance, the reforming train
     included, from the embedded arrays; its tables equal the app's (thermo.point)."""
     import thermo
-    from explorer import export
+    from explorer import review_data
     from explorer.tables import balance_html
     from tests.explorer.helpers import table_cells
     from tests.thermo.test_train import FULL_TRAIN
@@ -81,10 +81,10 @@ def test_page_assembles_a_train_balance_as_the_core_does(tmp_path):
         temperature=("760 degC", "940 degC", 4), pressure=("15 bar", "35 bar", 3),
         steam_to_carbon=(2.0, 4.0, 3))
     ds = thermo.sweep(sc)
-    R = export._page_data(sc, ds)
-    data = {k: np.asarray(v).tolist() for k, v in export._points_source(ds, sc).data.items()}
+    R = review_data.page_data(sc, ds)
+    data = {k: np.asarray(v).tolist() for k, v in review_data.point_arrays(ds, sc).items()}
     flat = [0, 7, 20, 35]
-    js = resources.files("explorer").joinpath("review.js").read_text("utf-8")
+    js = resources.files("explorer").joinpath("static", "review.js").read_text("utf-8")
     script = (f"globalThis.window = {{__rwData: {json.dumps(R)}}};\n"
               f"const pts = {{data: {json.dumps(data)}}};\n{js}\n"
               f"console.log(JSON.stringify({json.dumps(flat)}.map((p) => "
@@ -113,7 +113,7 @@ def test_page_balance_equals_python_in_both_unit_systems(tmp_path, units):
     the same table text as explorer.tables.balance_html in that system (total row and gas
     volume columns included), and the file carries its system."""
     import thermo
-    from explorer import export
+    from explorer import review_data
     from explorer.display import conversions
     from explorer.tables import balance_html
     from tests.explorer.helpers import table_cells
@@ -122,11 +122,11 @@ def test_page_balance_equals_python_in_both_unit_systems(tmp_path, units):
         temperature=("760 degC", "940 degC", 4), pressure=("15 bar", "35 bar", 3),
         steam_to_carbon=(2.0, 4.0, 3))
     ds = thermo.sweep(sc)
-    R = export._page_data(sc, ds, units)
+    R = review_data.page_data(sc, ds, units)
     assert R["units"] == units and R["conversions"] == conversions(units)
-    data = {k: np.asarray(v).tolist() for k, v in export._points_source(ds, sc).data.items()}
+    data = {k: np.asarray(v).tolist() for k, v in review_data.point_arrays(ds, sc).items()}
     flat = [0, 13, 35]
-    js = resources.files("explorer").joinpath("review.js").read_text("utf-8")
+    js = resources.files("explorer").joinpath("static", "review.js").read_text("utf-8")
     script = (f"globalThis.window = {{__rwData: {json.dumps(R)}}};\n"
               f"const pts = {{data: {json.dumps(data)}}};\n{js}\n"
               f"console.log(JSON.stringify({json.dumps(flat)}.map((p) => "

@@ -1,10 +1,21 @@
 // Review file logic: swap map slices and assemble a clicked point's balance in the page.
+// (The callbacks that use these functions are in review-maps.js.)
 // Inputs: the page's JSON block "rw-data" (R below: axes, inlet flows, slices' layers, table
 // layout), and the Bokeh models passed as CustomJS args (pts holds the solved outlet flows).
 // No network, no Python: every number comes from data embedded in this file.
 
+function unpackRepeats(v) {
+  // explorer.review_data.pack_repeats wrote a long list of few distinct values as
+  // {rw_table: distinct values, rw_index: one index per entry}; this restores the list.
+  if (Array.isArray(v)) return v.map(unpackRepeats);
+  if (v === null || typeof v !== "object") return v;
+  if ("rw_table" in v && "rw_index" in v) return v.rw_index.map((i) => v.rw_table[i]);
+  for (const k of Object.keys(v)) v[k] = unpackRepeats(v[k]);
+  return v;
+}
+
 const R = (window.__rwData = window.__rwData ||
-           JSON.parse(document.getElementById("rw-data").textContent));
+           unpackRepeats(JSON.parse(document.getElementById("rw-data").textContent)));
 
 const S = R.species;              // gas species, in the order of every flow array
 const MW = R.molar_mass;          // kg/mol per species

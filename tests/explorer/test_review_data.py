@@ -1,0 +1,117 @@
+"""What the review file embeds: read from the Dataset (no solve again), compact, and unpacked
+by the page's script to exactly what was packed."""
+
+from __future__ import annotations
+
+import ast
+import json
+import shutil
+import subprocess
+from importlib import resources
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+import thermo
+from explorer import review_data
+from tests.explorer.helpers import small_scenario
+from tests.thermo.test_train import FULL_TRAIN
+from thermo.scenario import parse_scenario
+
+NODE = shutil.which("node")
+ROOT = Path(__file__).resolve().parents[2]
+
+
+@pytest.fixture(scope="module")
+def train_case():
+    sc = parse_scenario(thermo.load_scenario().text + FULL_TRAIN).with_window(
+        temperature=("760 degC", "940 degC", 3), pressure=("15 bar", "35 bar", 2),
+        steam_to_carbon=(2.0, 4.0, 2))
+    return sc, thermo.sweep(sc)
+
+
+def test_the_review_file_modules_use_no_core_internals():
+    """explorer.export and explorer.review_data import nothing from the train, the balance or
+    the hand-check modules (they read the Dataset and public functions instead)."""
+    banned = {"thermo.train", "thermo.balances", "thermo.extent"}
+    for name in ("export.py", "review_data.py"):
+        tree = ast.parse((ROOT / "explorer" / name).read_text("utf-8"))
+        used = {n.module for n in ast.walk(tree) if isinstance(n, ast.ImportFrom)}
+        used |= {a.name for n in ast.walk(tree) if isinstance(n, ast.Import) for a in n.names}
+        assert not used & banned, (name, used & banned)
+
+
+def test_stage_variables_equal_the_points_train(train_case):
+    """The Dataset's per-stage variables at a grid node equal thermo.point's train stages
+    there (grid == point, to 1e-9 relative as the Dataset contract says)."""
+    sc, ds = train_case
+    assert list(ds["stage"].values) == sc.train.stages()
+    g = ds.isel(temperature=1, pressure=1, steam_to_carbon=0)
+    pt = thermo.point(sc, temperature=f"{float(g.temperature)!r} K",
+                      pressure=f"{float(g.pressure)!r} Pa",
+                      steam_to_carbon=float(g.steam_to_carbon)).to_dict()
+    for k, st in enumerate(pt["train"]["stages"]):
+        assert st["name"] == ds["stage"].values[k]
+        got = g["stage_outlet_flow"].isel(stage=k).values
+        want = [st["outlet_flow_mol_per_s"][s] for s in ds.species.values]
+        np.testing.assert_allclose(got, want, rtol=1e-9, atol=1e-12)
+        for var, key in (("stage_temperature", "temperature_K"), ("stage_duty", "duty_W"),
+                         ("stage_inlet_enthalpy", "inlet_enthalpy_W"),
+                         ("stage_outlet_enthalpy", "outlet_enthalpy_W")):
+            assert float(g[var].isel(stage=k)) == pytest.approx(st[key], rel=1e-9, abs=1e-6)
+
+
+def test_feed_enthalpy_is_the_points_inlet_enthalpy():
+    """Without a pre-reformer the primary's inlet is the mixed feed: the Dataset's
+    feed_enthalpy equals the point's inlet enthalpy (1e-12 relative)."""
+    sc = small_scenario()
+    ds = thermo.sweep(sc)
+    g = ds.isel(temperature=0, pressure=0, steam_to_carbon=1)
+    pt = thermo.point(sc, temperature=f"{float(g.temperature)!r} K",
+                      pressure=f"{float(g.pressure)!r} Pa",
+                      steam_to_carbon=float(g.steam_to_carbon)).to_dict()
+    assert float(g["feed_enthalpy"]) == pytest.approx(pt["inlet"]["enthalpy_W"], rel=1e-12)
+    assert ds["feed_enthalpy"].dims == ("steam_to_carbon",)
+    assert "stage_outlet_flow" not in ds  # the primary alone: no per-stage variables
+
+
+def test_an_old_grid_without_the_new_variables_is_refused_by_name(train_case):
+    """A Dataset lacking what the page needs is an input error naming what is missing."""
+    sc, ds = train_case
+    with pytest.raises(thermo.InputError, match="stage_duty"):
+        review_data.point_arrays(ds.drop_vars("stage_duty"), sc)
+
+
+def _common(sc, ds):
+    _, common = review_data.all_layers(ds, sc.limits, ("h2_yield",))
+    return common
+
+
+def test_packing_shrinks_the_nodes_and_unpacks_exactly():
+    """The grid nodes' lists come back unchanged, and the packed JSON is smaller."""
+    sc = small_scenario()
+    ds = thermo.sweep(sc)
+    common = _common(sc, ds)
+    packed = review_data.pack_repeats(common)
+    assert review_data.unpack_repeats(packed) == common
+    assert len(json.dumps(packed)) < 0.8 * len(json.dumps(common))
+    nodes = next(iter(next(iter(packed.values())).values()))["nodes"]
+    assert any(isinstance(v, dict) and "rw_table" in v for v in nodes.values())
+
+
+@pytest.mark.usefixtures("node")  # skips without Node.js, fails in CI (tests/conftest.py)
+def test_page_script_unpacks_what_python_packed(tmp_path):
+    """unpackRepeats of review.js, run under Node.js on the packed page data, gives the
+    unpacked layers exactly (strings and numbers alike)."""
+    sc = small_scenario()
+    ds = thermo.sweep(sc)
+    common = _common(sc, ds)
+    js = resources.files("explorer").joinpath("static", "review.js").read_text("utf-8")
+    fn = js[js.index("function unpackRepeats"):js.index("const R = ")]
+    file = tmp_path / "unpack.js"
+    file.write_text(fn + f"\nconsole.log(JSON.stringify(unpackRepeats("
+                    f"{json.dumps(review_data.pack_repeats(common))})));\n", "utf-8")
+    out = subprocess.run([NODE, str(file)], capture_output=True, text=True, timeout=60,
+                         check=True).stdout
+    assert json.loads(out) == json.loads(json.dumps(common))
