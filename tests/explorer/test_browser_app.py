@@ -96,6 +96,27 @@ def test_invalid_entry_shows_its_message_and_keeps_the_maps(page, server):
     assert page.evaluate(MAP_STATE) == before
 
 
+def test_three_bad_fields_show_three_messages_beside_their_fields(page, server):
+    """Three refused fields in the form: each shows its own message, quoting what was typed
+    there, as soon as it is left; Apply reports them all and solves nothing."""
+    _ready(page, server[1])
+    open_scenario_form(page)
+    typed = {"Design outlet temperature": "880 degX", "S/C points": "0",
+             "Dry feed flow": "lots kmol/h"}
+    for label, value in typed.items():
+        field = page.get_by_label(label, exact=True)
+        field.fill(value)
+        field.press("Tab")
+    for value in typed.values():
+        page.get_by_text(f"(got '{value}')" if value != "0" else "(got 0)").first.wait_for(
+            timeout=10000)
+    page.get_by_role("button", name="Apply and solve").click()
+    page.get_by_text("Not applied").first.wait_for(timeout=10000)
+    for value in typed.values():
+        got = f"(got '{value}')" if value != "0" else "(got 0)"
+        assert page.get_by_text(got).count() >= 1, value
+
+
 def test_comparison_maps_and_click_show_both_points(page, artifacts):
     """Served with a proposal (the demo feed plus the whole train): the change map is drawn
     and a click on it shows base, proposal and change as the core computes them."""
