@@ -17,13 +17,13 @@ from thermo import carbon as carbon_check
 from thermo.balances import Balance, adiabatic_temperature
 from thermo.constants import P_REF
 from thermo.errors import InputError
-from thermo.extent import REFORMING, SHIFT
 from thermo.plant import (
     GJ_PER_1000NM3_FROM_J_PER_MOL,
     MJ_PER_KG_FROM_J_PER_MOL,
     PlantResult,
     plant_balance,
 )
+from thermo.reactions import REFORMING, SHIFT
 from thermo.scenario import Scenario, load_scenario, validate_point_overrides
 from thermo.species import GAS_SPECIES
 from thermo.train import TrainResult, train_balance

@@ -34,7 +34,7 @@ from scipy.optimize import brentq
 
 from thermo.constants import ELEMENTS, P_REF, T_REF, R
 from thermo.equilibrium import equilibrate
-from thermo.extent import REFORMING, SHIFT, delta_g_RT, delta_h
+from thermo.reactions import REFORMING, SHIFT, delta_g_RT, delta_h
 from thermo.species import (
     GAS_SPECIES,
     GRAPHITE,

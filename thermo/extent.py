@@ -23,108 +23,27 @@ monotone too). Standard state: 1 bar (thermo.constants.P_REF), as NIST-JANAF.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import numpy as np
 from scipy.optimize import brentq
 
-from thermo.constants import P_REF, T_REF, R
-from thermo.species import GRAPHITE, nasa_values
+from thermo.constants import P_REF
+from thermo.reactions import (  # noqa: F401 - the hand check's reactions, re-exported
+    BOUDOUARD,
+    CRACKING,
+    REFORMING,
+    SHIFT,
+    K_from_delta_g,
+    Reaction,
+    delta_g_RT,
+    delta_h,
+    equilibrium_constant,
+)
+from thermo.species import GRAPHITE
 
 #: Above this K the extent is set to its upper bound, below its inverse to its lower bound.
 K_LIMIT = 1e10
-
-
-@dataclass(frozen=True)
-class Reaction:
-    """A reaction as stoichiometric coefficients (negative for reactants).
-
-    Attributes
-    ----------
-    name : str
-        Plain name used in tables.
-    stoich : dict[str, float]
-        Coefficients by species name (``"C(gr)"`` for graphite).
-    """
-
-    name: str
-    stoich: dict[str, float] = field(default_factory=dict)
-
-    @property
-    def gas_mole_change(self) -> float:
-        """Change in gas moles per unit extent [-]."""
-        return sum(v for s, v in self.stoich.items() if s != GRAPHITE)
-
-    def equation(self) -> str:
-        """The reaction written out, e.g. ``"CH4 + H2O = CO + 3 H2"``."""
-
-        def side(items):
-            return " + ".join(f"{'' if abs(v) == 1 else f'{abs(v):g} '}{s}" for s, v in items)
-
-        left = [(s, v) for s, v in self.stoich.items() if v < 0]
-        right = [(s, v) for s, v in self.stoich.items() if v > 0]
-        return f"{side(left)} = {side(right)}"
-
-
-REFORMING = Reaction("steam reforming", {"CH4": -1, "H2O": -1, "CO": 1, "H2": 3})
-SHIFT = Reaction("water-gas shift", {"CO": -1, "H2O": -1, "CO2": 1, "H2": 1})
-CRACKING = Reaction("methane cracking", {"CH4": -1, GRAPHITE: 1, "H2": 2})
-BOUDOUARD = Reaction("Boudouard", {"CO": -2, GRAPHITE: 1, "CO2": 1})
-
-
-def _stoich_sum(reaction: Reaction, T, what: str):
-    """sum of nu_i f_i(T) over the reaction's species, f one NASA function (one evaluation
-    of all its species at once; the terms added in the reaction's order)."""
-    names = tuple(reaction.stoich)
-    values = nasa_values(T, names, what)
-    total = 0
-    for k, v in enumerate(reaction.stoich.values()):
-        total = total + v * values[k]
-    return total
-
-
-def delta_g_RT(reaction: Reaction, T) -> np.ndarray:
-    """Standard Gibbs energy change over RT at 1 bar, sum of nu_i g_i/RT [-]."""
-    return _stoich_sum(reaction, T, "g_RT")
-
-
-def delta_h(reaction: Reaction, T=T_REF) -> np.ndarray:
-    """Standard enthalpy change of reaction [J mol-1] (per unit extent).
-
-    Examples
-    --------
-    Reforming at 298.15 K; NIST-JANAF (Chase 1998) gives +206.2 kJ/mol, the GRI30 data
-    205.9 kJ/mol (their CH4 formation enthalpy is 0.27 kJ/mol less negative):
-
-    >>> round(float(delta_h(REFORMING)) / 1000, 1)
-    205.9
-    """
-    T = np.asarray(T, dtype=float)
-    return R * T * _stoich_sum(reaction, T, "h_RT")
-
-
-def equilibrium_constant(reaction: Reaction, T) -> np.ndarray:
-    """K(T) = exp(-dG°/RT) on the 1 bar standard state [-] (pressures in bar).
-
-    Examples
-    --------
-    Shift at 1100 K is close to 1 (NIST-JANAF puts K = 1 near 1097 K):
-
-    >>> round(float(equilibrium_constant(SHIFT, 1100.0)), 2)
-    0.99
-    """
-    return np.exp(-delta_g_RT(reaction, T))
-
-
-def K_from_delta_g(delta_g_J_per_mol, T) -> np.ndarray:
-    """K = exp(-dG°/(R T)) from a standard Gibbs energy change in J/mol (not kJ) [-].
-
-    Examples
-    --------
-    >>> round(float(K_from_delta_g(-10000.0, 1000.0)), 4)
-    3.3292
-    """
-    return np.exp(-np.asarray(delta_g_J_per_mol, dtype=float) / (R * np.asarray(T, float)))
 
 
 @dataclass(frozen=True)

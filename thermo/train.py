@@ -53,7 +53,7 @@ from thermo.balances import (
 )
 from thermo.constants import P_REF, R
 from thermo.equilibrium import equilibrate
-from thermo.extent import SHIFT, delta_g_RT
+from thermo.reactions import SHIFT, delta_g_RT
 from thermo.scenario import STAGE_NAMES, SecondaryReformer, Train
 from thermo.species import GAS_SPECIES, GRAPHITE, cp_R, formula_matrix, gas_table, h_RT, record
 
