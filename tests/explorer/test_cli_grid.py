@@ -126,3 +126,35 @@ def test_usage_error_quotes_the_arguments_given_to_main(capsys, scenario_file, m
     code, out, err = run(capsys, "grid", scenario_file)
     assert_one_line_error(code, err, "-o")
     assert "--host-option" not in err
+
+
+def test_grid_workers_without_dask_says_what_to_install(tmp_path, monkeypatch, capsys):
+    """Without dask.distributed, --workers ends in one line naming the extra, status 2."""
+    import sys
+
+    from explorer.cli import main
+
+    monkeypatch.setitem(sys.modules, "dask.distributed", None)
+    rc = main(["grid", "-o", str(tmp_path / "g.nc"), "--workers", "2"])
+    err = capsys.readouterr().err.strip().splitlines()
+    assert rc == 2 and len(err) == 1
+    assert 'pip install -e ".[dask]"' in err[0]
+
+
+def test_three_bad_fields_give_three_lines_and_status_2(tmp_path, capsys):
+    """Each line names its field and quotes exactly what was typed in it."""
+    from explorer.cli import main
+    from thermo.scenario import DEMO_PATH
+
+    text = DEMO_PATH.read_text()
+    text = (text.replace('"540 degC"', '"5400 degC"').replace('"22 barg"', '"22 barr"')
+            .replace("steam_to_carbon = 3.0", 'steam_to_carbon = "three"'))
+    path = tmp_path / "bad.toml"
+    path.write_text(text)
+    rc = main(["point", str(path)])
+    lines = capsys.readouterr().err.strip().splitlines()
+    assert rc == 2 and len(lines) == 3
+    for field, typed in (("feed.inlet_temperature", "'5400 degC'"),
+                         ("design_point.pressure", "'22 barr'"),
+                         ("feed.steam_to_carbon", "'three'")):
+        assert any(line.startswith(f"explorer: error: {field} = {typed}") for line in lines)
