@@ -1,0 +1,461 @@
+"""The reforming train's results and its stage solvers (split from :mod:`thermo.train`):
+the stage and train result records, the shift stage (closed form, all else frozen), the
+adiabatic equilibrium of the pre-reformer and the secondary reformer (vectorized Newton on
+the enthalpy with Illinois safeguards) and the equilibrium heat capacity. SI units.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from dataclasses import dataclass
+
+import numpy as np
+
+from thermo.balances import (
+    Balance,
+    outlet_enthalpy,
+    per_point,
+)
+from thermo.constants import R
+from thermo.equilibrium import equilibrate
+from thermo.reactions import SHIFT, delta_g_RT
+from thermo.scenario import STAGE_NAMES
+from thermo.species import GAS_SPECIES, GRAPHITE, cp_R, formula_matrix, gas_table, h_RT, record
+
+_I = {s: i for i, s in enumerate(GAS_SPECIES)}
+
+#: Highest outlet temperature of an adiabatic stage [K]: the gas species' data end at 3500 K.
+T_MAX = 3500.0
+
+#: Relative closure of an adiabatic stage's energy balance: |H_out - H_in| at most this
+#: times the magnitude of the stage's inlet enthalpy flow.
+ADIABATIC_TOLERANCE = 1e-11
+
+
+@dataclass(frozen=True)
+class StageResult:
+    """One stage of the train over N points (arrays; SI units).
+
+    Attributes
+    ----------
+    name : str
+        Stage key (``"pre_reformer"``, ``"primary_reformer"``, ``"secondary_reformer"``,
+        ``"high_temperature_shift"``, ``"low_temperature_shift"``).
+    inlet_flow : ndarray (N, S)
+        Gas entering [mol s-1] (for the secondary reformer, the primary's gas plus the
+        oxidant).
+    added_flow : ndarray (N, S)
+        Stream added at this stage's inlet (the secondary's oxidant; zeros otherwise)
+        [mol s-1].
+    inlet_temperature : ndarray (N,)
+        Temperature of the gas entering, after any reheat or cooling before the stage [K]
+        (the oxidant enters at its own temperature).
+    temperature : ndarray (N,)
+        Outlet temperature [K].
+    equilibrium_temperature : ndarray (N,)
+        Where the outlet composition is equilibrated (T - approach for reforming, T +
+        approach for shift) [K].
+    outlet_flow : ndarray (N, S)
+        Gas leaving [mol s-1].
+    carbon_deposit : ndarray (N,)
+        Graphite formed in the stage [mol s-1] (0 in shift stages).
+    heat_before : ndarray (N,)
+        Heat given to the gas between the previous stage and this one: reheat (> 0) before
+        the primary after a pre-reformer, cooling (< 0) before a shift stage [W].
+    duty : ndarray (N,)
+        Heat supplied to the stage itself, outlet minus inlet enthalpy flow [W]; 0 for the
+        adiabatic stages, < 0 (heat removed) for shift stages.
+    inlet_enthalpy, outlet_enthalpy : ndarray (N,)
+        Enthalpy flows, formation enthalpies included [W].
+    converged : ndarray of bool (N,)
+        The stage's equilibrium (and, for adiabatic stages, its temperature) was found.
+    """
+
+    name: str
+    inlet_flow: np.ndarray
+    added_flow: np.ndarray
+    inlet_temperature: np.ndarray
+    temperature: np.ndarray
+    equilibrium_temperature: np.ndarray
+    outlet_flow: np.ndarray
+    carbon_deposit: np.ndarray
+    heat_before: np.ndarray
+    duty: np.ndarray
+    inlet_enthalpy: np.ndarray
+    outlet_enthalpy: np.ndarray
+    converged: np.ndarray
+
+    @property
+    def label(self) -> str:
+        """Display name of the stage."""
+        return STAGE_NAMES[self.name]
+
+
+@dataclass(frozen=True)
+class TrainResult:
+    """The whole train over N points.
+
+    Attributes
+    ----------
+    stages : list[StageResult]
+        In flow order, the primary reformer included.
+    primary : Balance
+        Full balance of the primary reformer (yields on the fresh feed's hydrocarbon carbon).
+    feed_flow : ndarray (N, S)
+        Fresh mixed feed [mol s-1].
+    product_flow : ndarray (N, S)
+        Gas after the last stage [mol s-1].
+    product_temperature : ndarray (N,)
+        Its temperature [K].
+    h2_product : ndarray (N,)
+        H2 after the last stage per mol hydrocarbon carbon of the fresh feed [-].
+    heat_supplied : ndarray (N,)
+        Heat given to the gas over the train (>= 0): the primary's duty and the reheat of
+        pre-reformed gas as a rule; every positive duty or heat before a stage [W].
+    heat_removed : ndarray (N,)
+        Heat taken from the gas over the train (<= 0): coolers and shift stages as a rule;
+        every negative duty or heat before a stage [W].
+    carbon_deposit : ndarray (N,)
+        Graphite formed in all reforming stages [mol s-1].
+    methane_slip_dry : ndarray (N,)
+        CH4 mole fraction of the dry gas after the last reforming stage [-].
+    converged : ndarray of bool (N,)
+        Every stage converged. Where not, the totals and the product are NaN, and so are the
+        results of the failed stage and of every stage after it.
+    """
+
+    stages: list[StageResult]
+    primary: Balance
+    feed_flow: np.ndarray
+    product_flow: np.ndarray
+    product_temperature: np.ndarray
+    h2_product: np.ndarray
+    heat_supplied: np.ndarray
+    heat_removed: np.ndarray
+    carbon_deposit: np.ndarray
+    methane_slip_dry: np.ndarray
+    converged: np.ndarray
+
+    def stage(self, name: str) -> StageResult | None:
+        """The stage of that name, or None when the train has none."""
+        return next((s for s in self.stages if s.name == name), None)
+
+
+def _mask(st: StageResult, ok: np.ndarray) -> StageResult:
+    """The stage with its results NaN where `ok` is False (inputs kept), flagged `ok`."""
+    if ok.all():
+        return dataclasses.replace(st, converged=ok.copy())
+
+    def nan(a):
+        return np.where(ok if a.ndim == 1 else ok[:, None], a, np.nan)
+
+    fixed_t = st.name != "pre_reformer" and st.name != "secondary_reformer"
+    return dataclasses.replace(
+        st, outlet_flow=nan(st.outlet_flow), carbon_deposit=nan(st.carbon_deposit),
+        heat_before=nan(st.heat_before), duty=nan(st.duty),
+        outlet_enthalpy=nan(st.outlet_enthalpy),
+        temperature=st.temperature if fixed_t else nan(st.temperature),
+        equilibrium_temperature=(st.equilibrium_temperature if fixed_t
+                                 else nan(st.equilibrium_temperature)),
+        converged=ok.copy())
+
+
+def _dry_fraction(n: np.ndarray, species: str) -> np.ndarray:
+    dry = n.sum(axis=1) - n[:, _I["H2O"]]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(dry > 0, n[:, _I[species]] / dry, 0.0)
+
+
+
+
+def shift_equilibrium(gas_flow, temperature) -> np.ndarray:
+    """Gas after CO + H2O = CO2 + H2 reaches equilibrium, all else frozen [mol s-1].
+
+    Parameters
+    ----------
+    gas_flow : array_like (N, S)
+        Gas by species in GAS_SPECIES order [mol s-1].
+    temperature : array_like (N,)
+        Temperature of the equilibrium (stage temperature plus approach) [K].
+
+    Returns
+    -------
+    ndarray (N, S)
+        The shifted gas; only CO, H2O, CO2 and H2 change, by the extent x of the module
+        notes (K on any standard pressure: total moles do not change).
+    """
+    n = np.atleast_2d(np.asarray(gas_flow, dtype=float)).copy()
+    T = per_point(temperature, n.shape[0])
+    K = np.exp(-delta_g_RT(SHIFT, T))
+    a, b = n[:, _I["CO"]], n[:, _I["H2O"]]
+    c, d = n[:, _I["CO2"]], n[:, _I["H2"]]
+    A = 1.0 - K
+    B = c + d + K * (a + b)
+    C = c * d - K * a * b
+    # Physical root: where g(x) = A x^2 + B x + C crosses zero upward, x = -2C / (B + sqrt D)
+    # (the cancellation-free form of (-B + sqrt D) / 2A).
+    D = np.maximum(B * B - 4.0 * A * C, 0.0)
+    den = B + np.sqrt(D)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        x = np.where(den > 0, -2.0 * C / den, 0.0)
+    x = np.clip(x, -np.minimum(c, d), np.minimum(a, b))
+    n[:, _I["CO"]] = a - x
+    n[:, _I["H2O"]] = b - x
+    n[:, _I["CO2"]] = c + x
+    n[:, _I["H2"]] = d + x
+    return n
+
+
+def adiabatic_equilibrium(gas_flow, inlet_enthalpy, pressure, approach=0.0,
+                          bounds=(350.0, 2800.0), guess=None, max_iterations: int = 200,
+                          warm_start=None):
+    """Outlet temperature and composition of adiabatic equilibrium stages, N at once.
+
+    Finds T with H_out(T) = H_in, where the outlet is the Gibbs equilibrium (graphite
+    allowed) at T - approach and its enthalpy is taken at T. From a `guess`, a Newton step
+    with the equilibrium heat capacity as the derivative (:func:`equilibrium_heat_capacity`,
+    analytic) and secant steps after it converge most points in a few equilibrium solves,
+    each warm-started
+    from the last (the first from `warm_start` if given); any point they do not settle, and
+    every point
+    without a guess, is solved by the Illinois variant of regula falsi inside `bounds`
+    (bisection where it stalls). H_out rises with T (the equilibrium heat capacity is
+    positive), so the root in the bracket is unique.
+
+    Parameters
+    ----------
+    gas_flow : array_like (N, S)
+        Gas entering (all streams mixed) [mol s-1].
+    inlet_enthalpy : array_like (N,)
+        Enthalpy flow of the streams entering [W].
+    pressure : array_like (N,)
+        Absolute pressure [Pa].
+    approach : array_like (N,)
+        Approach to equilibrium [K].
+    bounds : (array_like, array_like)
+        Bracket of the outlet temperature [K].
+    guess : array_like (N,), optional
+        A first estimate of the outlet temperature [K].
+    warm_start : array_like (N, E), optional
+        Element potentials to start the first equilibrium solve from (see
+        :func:`~thermo.equilibrium.equilibrate`; NaN entries: elements the start lacks).
+
+    Returns
+    -------
+    (T, result, ok)
+        Outlet temperature [K] (NaN where no root is bracketed), the
+        :class:`~thermo.equilibrium.EquilibriumResult` there, and the per-point success flag.
+    """
+    n = np.atleast_2d(np.asarray(gas_flow, dtype=float))
+    N = n.shape[0]
+    H_in = per_point(inlet_enthalpy, N)
+    P = per_point(pressure, N)
+    dT = per_point(approach, N)
+    b_el = n @ formula_matrix()
+    lo = np.maximum(per_point(bounds[0], N), 300.0 + dT)
+    hi = per_point(bounds[1], N)
+    # Tolerance on the enthalpy balance: relative to the inlet enthalpy flow's magnitude,
+    # with a floor of the sensible heat scale (n R T) for streams whose H_in is near 0.
+    tol = ADIABATIC_TOLERANCE * (np.abs(H_in) + n.sum(axis=1) * R * 1000.0)
+
+    def residual(T, idx, warm=None):
+        eq = equilibrate(T - dT[idx], P[idx], b_el[idx], warm_start=warm)
+        return outlet_enthalpy(eq.moles, eq.carbon, T, P[idx]) - H_in[idx], eq
+
+    def slope(T, idx, eq):
+        return equilibrium_heat_capacity(eq.moles, eq.carbon, T, T - dT[idx], P[idx])
+
+    T = np.full(N, np.nan)
+    warm = np.zeros_like(b_el)
+    if warm_start is not None:
+        warm[:] = warm_start
+    done = np.zeros(N, dtype=bool)
+    if guess is not None:
+        done = _newton(residual, slope, np.clip(per_point(guess, N), lo, hi), lo, hi, tol,
+                       T, warm, warm_start is not None)
+    rest = np.flatnonzero(~done)
+    ok = done.copy()
+    if rest.size:
+        ok[rest] = _illinois(residual, rest, lo[rest], hi[rest], tol[rest], T, warm,
+                             max_iterations)
+    # Final state at the found temperatures (warm-started: a few iterations).
+    Tf = np.where(ok, T, 0.5 * (lo + hi))
+    eq = equilibrate(Tf - dT, P, b_el, warm_start=warm)
+    resid = outlet_enthalpy(eq.moles, eq.carbon, Tf, P) - H_in
+    ok = ok & eq.converged & (np.abs(resid) <= 100.0 * tol)
+    return np.where(ok, Tf, np.nan), eq, ok
+
+
+def equilibrium_heat_capacity(moles, carbon, T, T_eq, P) -> np.ndarray:
+    r"""d H_out / d T of gas (and graphite) kept at equilibrium at fixed P and elements [W K-1].
+
+    The outlet is the equilibrium at T_eq = T - approach (the approach fixed) and its
+    enthalpy is taken at T. With :math:`\ln x_j = a_j\cdot\lambda - c_j`,
+    :math:`c_j = g_j/RT + \ln(P/P^\circ)` and :math:`dc_j/dT = -h_j/(RT^2)` (Gibbs-Helmholtz),
+    the element balances :math:`\sum_j a_{je} n_j = b_e` and :math:`\sum_j x_j = 1` give a
+    linear system in :math:`d\lambda/dT` and :math:`d\ln N/dT` (with graphite, its carbon
+    potential fixes :math:`d\lambda_C/dT = -\tilde h_{gr}/(RT^2)`, :math:`\tilde h_{gr}`
+    including :math:`v(P - P^\circ)`, and the graphite's rate of change is the extra unknown);
+    then :math:`dH/dT = \sum_j n_j c_{p,j} + \sum_j h_j\,dn_j/dT + c_{p,gr} n_{gr} +
+    \tilde h_{gr}\,dn_{gr}/dT` (Smith & Missen 1982 [SMITH-MISSEN1982], ch. 2, for the
+    element-potential form).
+
+    Parameters
+    ----------
+    moles : ndarray (N, S)
+        Equilibrium gas [mol s-1].
+    carbon : ndarray (N,)
+        Graphite [mol s-1].
+    T, T_eq, P : ndarray (N,)
+        Enthalpy temperature, equilibrium temperature [K], pressure [Pa].
+    """
+    n = np.asarray(moles, dtype=float)
+    N, S = n.shape
+    A = formula_matrix()  # (S, E)
+    E = A.shape[1]
+    iC = 0
+    gr = record(GRAPHITE)
+    # Per-point quantities over RT at T_eq (derivative of the composition) and at T (enthalpy).
+    h_eq = gas_table(T_eq, "h_RT").T  # (N, S), h/RT at T_eq
+    dc = -h_eq / T_eq[:, None]  # dc_j/dT
+    h_gr_eq = h_RT(T_eq, GRAPHITE) + gr.molar_volume * (P - gr.standard_pressure) / (R * T_eq)
+    total = n.sum(axis=1)
+    x = n / total[:, None]
+    has_c = np.asarray(carbon) > 0.0
+    present = (n @ A) > 0.0  # (N, E): elements of the gas
+    present[:, iC] |= has_c
+    # Unknowns: dlambda_e/dT (E), dlnN/dT, dn_gr/dT.
+    M = np.zeros((N, E + 2, E + 2))
+    rhs = np.zeros((N, E + 2))
+    AA = (A[:, :, None] * A[:, None, :]).reshape(S, E * E)  # a_je a_jf per species
+    M[:, :E, :E] = (n @ AA).reshape(N, E, E)
+    M[:, :E, E] = n @ A
+    M[:, iC, E + 1] = 1.0
+    rhs[:, :E] = (n * dc) @ A
+    M[:, E, :E] = x @ A
+    rhs[:, E] = (x * dc).sum(axis=1)
+    # Last row: graphite present -> its potential fixes dlambda_C; absent -> dn_gr = 0.
+    M[has_c, E + 1, iC] = 1.0
+    rhs[has_c, E + 1] = -h_gr_eq[has_c] / T_eq[has_c]
+    M[~has_c, E + 1, E + 1] = 1.0
+    # Elements absent from a point: their row and column are zero; pin the unknown to 0.
+    keep = np.ones((N, E + 2))
+    keep[:, :E] = present
+    M *= keep[:, :, None] * keep[:, None, :]
+    diag = np.arange(E)
+    M[:, diag, diag] += 1.0 - keep[:, :E]
+    rhs *= keep
+    # Row scaling by the element rows' magnitude keeps the system well conditioned.
+    scale = np.abs(M).max(axis=2)
+    scale[scale == 0] = 1.0
+    y = np.linalg.solve(M / scale[:, :, None], (rhs / scale)[..., None])[..., 0]
+    dlnn = A @ y[:, :E].T  # (S, N)
+    dn = n * (dlnn.T - dc + y[:, E:E + 1])  # (N, S)
+    h_T = gas_table(T, "h_RT").T * (R * T)[:, None]  # J mol-1 at T
+    cp_T = gas_table(T, "cp_R").T * R
+    h_gr_T = h_RT(T, GRAPHITE) * R * T + gr.molar_volume * (P - gr.standard_pressure)
+    cp_gr = cp_R(T, GRAPHITE) * R
+    return (np.einsum("ns,ns->n", n, cp_T) + np.einsum("ns,ns->n", h_T, dn)
+            + np.asarray(carbon) * cp_gr + h_gr_T * y[:, E + 1])
+
+
+def _newton(residual, slope, T0, lo, hi, tol, T, warm, warm_first, steps: int = 12):
+    """Steps on the enthalpy balance from T0: Newton with the equilibrium heat capacity
+    (:func:`equilibrium_heat_capacity`) first, then secant steps (each point's last two
+    residuals; Newton again where the secant slope is not positive). Fills T and warm and
+    returns the settled points (the others are left to the bracketed solve)."""
+    N = T0.size
+    idx = np.arange(N)
+    f, eq = residual(T0, idx, warm if warm_first else None)
+    warm[:] = eq.element_potentials
+    b = T0.copy()
+    prev_T = np.full(N, np.nan)
+    prev_f = np.full(N, np.nan)
+    done = np.zeros(N, dtype=bool)
+    active = np.isfinite(f) & eq.converged
+    for k in range(steps + 1):
+        settled = active & (np.abs(f) <= tol[idx])
+        T[idx[settled]] = b[idx[settled]]
+        done[idx[settled]] = True
+        active &= ~settled
+        if k == steps or not active.any():
+            break
+        sub = np.flatnonzero(active)
+        at = idx[sub]
+        with np.errstate(invalid="ignore", divide="ignore"):
+            d = (f[sub] - prev_f[at]) / (b[at] - prev_T[at])
+            newton = ~(np.isfinite(d) & (d > 0))
+            if newton.any():
+                d[newton] = slope(b[at[newton]], at[newton], _subset(eq, sub[newton]))
+            new = np.clip(b[at] - f[sub] / d, lo[at], hi[at])
+        ok = np.isfinite(new) & (d > 0) & (new != b[at])
+        prev_T[at], prev_f[at] = b[at], f[sub]
+        idx = at[ok]
+        b[idx] = new[ok]
+        if idx.size == 0:
+            break
+        f, eq = residual(b[idx], idx, warm[idx])
+        warm[idx] = eq.element_potentials
+        active = np.isfinite(f) & eq.converged
+    return done
+
+
+def _subset(eq, k):
+    """The EquilibriumResult `eq` at the points `k`."""
+    return dataclasses.replace(eq, moles=eq.moles[k], carbon=eq.carbon[k],
+                               ln_carbon_activity=eq.ln_carbon_activity[k],
+                               element_potentials=eq.element_potentials[k],
+                               converged=eq.converged[k], iterations=eq.iterations[k])
+
+
+def _illinois(residual, idx, lo, hi, tol, T, warm, max_iterations) -> np.ndarray:
+    """Bracketed Illinois regula falsi on the points `idx`; fills T and warm there and
+    returns their success flags."""
+    f_lo, _ = residual(lo, idx)
+    f_hi, eq_hi = residual(hi, idx)
+    ok = (f_lo <= 0) & (f_hi >= 0)  # H_out rises with T
+    m = idx.size
+    a, fa, b, fb = lo.copy(), f_lo, hi.copy(), f_hi
+    side = np.zeros(m, dtype=int)
+    w = eq_hi.element_potentials.copy()
+    Ts = np.where(ok, b, np.nan)
+    active = ok & (np.abs(fb) > tol)
+    for _ in range(max_iterations):
+        if not active.any():
+            break
+        k = np.flatnonzero(active)
+        ak, bk, fak, fbk = a[k], b[k], fa[k], fb[k]
+        den = fbk - fak
+        with np.errstate(invalid="ignore", divide="ignore"):
+            c = np.where(den != 0, (ak * fbk - bk * fak) / den, 0.5 * (ak + bk))
+        # Bisect where the secant leaves the bracket or one end has been kept three times.
+        bad = ~((c > ak) & (c < bk)) | (np.abs(side[k]) >= 3)
+        c = np.where(bad, 0.5 * (ak + bk), c)
+        fc, eq = residual(c, idx[k], w[k])
+        w[k] = eq.element_potentials
+        # Keep the bracket [a, b] with fa <= 0 <= fb (a is the cold end).
+        neg = fc < 0
+        a[k] = np.where(neg, c, ak)
+        fa[k] = np.where(neg, fc, fak)
+        b[k] = np.where(neg, bk, c)
+        fb[k] = np.where(neg, fbk, fc)
+        # Illinois: halve the residual of the end kept twice in a row.
+        s = side[k]
+        s = np.where(neg, np.where(s > 0, s + 1, 1), np.where(s < 0, s - 1, -1))
+        side[k] = s
+        fb[k] = np.where(neg & (s >= 2), fb[k] / 2.0, fb[k])
+        fa[k] = np.where(~neg & (s <= -2), fa[k] / 2.0, fa[k])
+        Ts[k] = c
+        active[k] = ~((np.abs(fc) <= tol[k]) | (np.abs(bk - ak) <= 1e-12 * c))
+    T[idx] = Ts
+    warm[idx] = w
+    return ok
+
+
+def _unique_rows(*arrays):
+    """Unique rows of the arrays side by side, and the inverse map to all rows."""
+    key = np.column_stack([np.atleast_2d(np.asarray(a, dtype=float).T).T for a in arrays])
+    uniq, inverse = np.unique(key, axis=0, return_inverse=True)
+    return uniq, inverse.reshape(-1)
+
+
