@@ -16,7 +16,7 @@ import thermo
 from explorer import CAUTION
 from explorer.form import ScenarioForm, read_upload, scenario_files
 from explorer.safe import html, paragraphs
-from explorer.state import SHARED_CACHE, ExplorerState, check_window_size
+from explorer.state import FACTS, ExplorerState, check_window_size
 from explorer.static import CAUTION_CSS, PAGE_CSS, SECTION_CSS
 from explorer.views import (
     BalanceView,
@@ -84,7 +84,7 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
     # A served page finds its best point in a worker thread from the start (published by
     # the page's poll), so that building the page does not wait for it.
     state.background_best = served
-    if solve == "now" or scenario in SHARED_CACHE:
+    if solve == "now" or FACTS.has_window(scenario):
         # Solved already (by another session, or by `explorer serve` at start): adopt it
         # before the views exist, so that each draws the window once.
         state.solve_now()

@@ -6,12 +6,19 @@ from __future__ import annotations
 
 import numpy as np
 from bokeh.models import (
+    AllIndices,
+    CDSView,
     ColorBar,
     ColumnDataSource,
     HoverTool,
     Legend,
     LegendItem,
     LinearColorMapper,
+    MultiLine,
+    MultiPolygons,
+    Scatter,
+    Text,
+    UnionRenderers,
 )
 from bokeh.plotting import figure
 
@@ -85,6 +92,12 @@ def hover_tooltips(var: Variable, mode: str, units: str = DEFAULT) -> list[tuple
     ]
 
 
+def _first(models, kind):
+    """The first of `models` of type `kind` (a list scan: Bokeh's select() walks every model
+    of the figure, which costs a slice change tens of milliseconds)."""
+    return next(m for m in models if isinstance(m, kind))
+
+
 def restyle_figure(fig, src: dict, var: Variable, mode: str, levels: np.ndarray,
                    layers: dict[str, dict], x_range: tuple[float, float],
                    y_range: tuple[float, float], units: str = DEFAULT) -> None:
@@ -93,7 +106,7 @@ def restyle_figure(fig, src: dict, var: Variable, mode: str, levels: np.ndarray,
     for k, data in layers.items():
         src[k].data = data
     show_legend_entries(fig, layers, src["selected"].data)
-    bar = fig.select_one({"type": ColorBar})
+    bar = _first(fig.right, ColorBar)
     bar.color_mapper.update(palette=_band_colours(var, len(levels) - 1),
                             low=float(levels[0]), high=float(levels[-1]))
     bar.title = var.unit
@@ -102,7 +115,7 @@ def restyle_figure(fig, src: dict, var: Variable, mode: str, levels: np.ndarray,
     fig.xaxis[0].axis_label = x_axis_label(units)
     fig.x_range.update(start=x_range[0], end=x_range[1])
     fig.y_range.update(start=y_range[0], end=y_range[1])
-    fig.select_one({"type": HoverTool}).tooltips = hover_tooltips(var, mode, units)
+    _first(fig.toolbar.tools, HoverTool).tooltips = hover_tooltips(var, mode, units)
 
 
 def map_figure(var: Variable, mode: str, levels: np.ndarray, layers: dict[str, dict],
@@ -133,50 +146,56 @@ def map_figure(var: Variable, mode: str, levels: np.ndarray, layers: dict[str, d
         axis.major_label_text_font_size = AXIS_PT
         axis.axis_label_text_font_style = "normal"
     layers = {**empty_layers(), **layers}
-    src = {k: ColumnDataSource(v) for k, v in layers.items()}
-    src["selected"] = ColumnDataSource({"x": [], "y": [], "alpha": []})
-    fig.multi_polygons("xs", "ys", fill_color="color", line_color="color",
-                               line_width=0.5, source=src["bands"])
-    fig.multi_line("xs", "ys", line_color="#222222", line_alpha=0.55, line_width=1,
-                   source=src["lines"])
-    infeasible = fig.multi_polygons("xs", "ys", source=src["infeasible"], fill_color="#ffffff",
-                                    fill_alpha=0.3, hatch_pattern="/", hatch_color=HATCH_COLOUR,
-                                    hatch_alpha=0.3, hatch_scale=14, line_color=None)
+    # Stateless helpers shared by every layer of the figure instead of one each (each Bokeh
+    # model costs a page load about a millisecond to make and send).
+    policy, every = UnionRenderers(), AllIndices()
+    src = {k: ColumnDataSource(v, selection_policy=policy) for k, v in layers.items()}
+    src["selected"] = ColumnDataSource({"x": [], "y": [], "alpha": []}, selection_policy=policy)
+
+    def add(kind, source, name=None, **glyph):
+        # One glyph model per layer: the selection, non-selection and muted looks are left
+        # to the browser ("auto"), which halves the models a page sends (issue 16's profile).
+        return fig.add_glyph(source, kind(**glyph), view=CDSView(filter=every),
+                             **({"name": name} if name else {}))
+    xy, lines = {"x": "x", "y": "y"}, {"xs": "xs", "ys": "ys"}
+    add(MultiPolygons, src["bands"], fill_color="color", line_color="color", line_width=0.5,
+        **lines)
+    add(MultiLine, src["lines"], line_color="#222222", line_alpha=0.55, line_width=1, **lines)
+    infeasible = add(MultiPolygons, src["infeasible"], fill_color="#ffffff", fill_alpha=0.3,
+                     hatch_pattern="/", hatch_color=HATCH_COLOUR, hatch_alpha=0.3,
+                     hatch_scale=14, line_color=None, **lines)
     # Labels above the hatching, so that they read cleanly.
-    fig.text("x", "y", "text", source=src["labels"], text_font_size=LABEL_PT,
-             text_align="center", text_baseline="middle", text_color="#111111",
-             background_fill_color="#ffffff", background_fill_alpha=0.8)
-    edge = fig.multi_line("xs", "ys", source=src["edge"], line_color=EDGE_COLOUR, line_width=3.5,
-                          name="edge-line")
-    carbon = fig.multi_line("xs", "ys", source=src["carbon"], line_color=CARBON_COLOUR,
-                            line_width=3, line_dash=[8, 4])
+    add(Text, src["labels"], text="text", text_font_size=LABEL_PT, text_align="center",
+        text_baseline="middle", text_color="#111111", background_fill_color="#ffffff",
+        background_fill_alpha=0.8, **xy)
+    edge = add(MultiLine, src["edge"], name="edge-line", line_color=EDGE_COLOUR,
+               line_width=3.5, **lines)
+    carbon = add(MultiLine, src["carbon"], line_color=CARBON_COLOUR, line_width=3,
+                 line_dash=[8, 4], **lines)
     extra = {
-        "carbon_outlet": fig.multi_line("xs", "ys", source=src["carbon_outlet"],
-                                        line_color=OUTLET_CARBON_COLOUR, line_width=2,
-                                        line_dash="dotted"),
-        "carbon_catalyst": fig.multi_line("xs", "ys", source=src["carbon_catalyst"],
-                                          line_color=REFERENCE_CARBON_COLOUR, line_width=2,
-                                          line_dash="dashdot"),
-        "carbon_graphite": fig.multi_line("xs", "ys", source=src["carbon_graphite"],
-                                          line_color=REFERENCE_CARBON_COLOUR, line_width=2,
-                                          line_dash="dashdot"),
+        "carbon_outlet": add(MultiLine, src["carbon_outlet"], line_color=OUTLET_CARBON_COLOUR,
+                             line_width=2, line_dash="dotted", **lines),
+        "carbon_catalyst": add(MultiLine, src["carbon_catalyst"],
+                               line_color=REFERENCE_CARBON_COLOUR, line_width=2,
+                               line_dash="dashdot", **lines),
+        "carbon_graphite": add(MultiLine, src["carbon_graphite"],
+                               line_color=REFERENCE_CARBON_COLOUR, line_width=2,
+                               line_dash="dashdot", **lines),
     }
-    nodes = fig.scatter("x", "y", source=src["nodes"], size=3.5, fill_color="#000000",
-                        fill_alpha=0.25, line_color=None)
-    selected = fig.scatter("x", "y", source=src["selected"], size=15, marker="circle",
-                           fill_color=None, line_color=SELECTED_COLOUR, line_width=3,
-                           line_alpha="alpha")
-    best = fig.scatter("x", "y", source=src["best"], size=22, marker="marker", angle="angle",
-                       fill_color=BEST_COLOUR, line_color="#111111", line_width=1.5,
-                       fill_alpha="alpha", line_alpha="alpha", name="best-marker")
-    design = fig.scatter("x", "y", source=src["design"], size=17, marker="marker",
-                         angle="angle", fill_color=DESIGN_COLOUR, line_color="#111111",
-                         line_width=1.5, fill_alpha="alpha", line_alpha="alpha",
-                         name="design-marker")
+    nodes = add(Scatter, src["nodes"], size=3.5, fill_color="#000000", fill_alpha=0.25,
+                line_color=None, **xy)
+    selected = add(Scatter, src["selected"], size=15, marker="circle", fill_color=None,
+                   line_color=SELECTED_COLOUR, line_width=3, line_alpha="alpha", **xy)
+    best = add(Scatter, src["best"], name="best-marker", size=22, marker="marker",
+               angle="angle", fill_color=BEST_COLOUR, line_color="#111111", line_width=1.5,
+               fill_alpha="alpha", line_alpha="alpha", **xy)
+    design = add(Scatter, src["design"], name="design-marker", size=17, marker="marker",
+                 angle="angle", fill_color=DESIGN_COLOUR, line_color="#111111",
+                 line_width=1.5, fill_alpha="alpha", line_alpha="alpha", **xy)
     for s_ in (src["best"], src["design"]):
-        fig.text("x", "y", "text", source=s_, text_font_size=LABEL_PT, x_offset=12,
-                 y_offset=-10, text_color="#111111", text_alpha="alpha",
-                 background_fill_color="#ffffff", background_fill_alpha=0.75)
+        add(Text, s_, text="text", text_font_size=LABEL_PT, x_offset=12, y_offset=-10,
+            text_color="#111111", text_alpha="alpha", background_fill_color="#ffffff",
+            background_fill_alpha=0.75, **xy)
     fig.add_tools(HoverTool(renderers=[nodes], tooltips=hover_tooltips(var, mode, units)))
     mapper = LinearColorMapper(palette=_band_colours(var, len(levels) - 1),
                                low=float(levels[0]), high=float(levels[-1]))
@@ -230,5 +249,5 @@ def legend_visibility(layers: dict[str, dict], selected: dict) -> dict[str, bool
 def show_legend_entries(fig, layers: dict[str, dict], selected: dict) -> None:
     """Hide the legend entries of layers the slice does not draw (no sample without data)."""
     vis = legend_visibility(layers, selected)
-    for item in fig.select_one({"type": Legend}).items:
+    for item in _first(fig.below, Legend).items:
         item.visible = vis[item.name]

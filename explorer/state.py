@@ -14,11 +14,12 @@ import param
 import xarray as xr
 
 import thermo
+from explorer.facts import SharedFacts
 from explorer.maps import VARIABLES, scenario_markers
 from thermo.edges import DEFAULT_OBJECTIVE, OBJECTIVES, default_objective
 from thermo.errors import InputError
 from thermo.scenario import Scenario
-from thermo.sweep import SweepCache, apply_limits
+from thermo.sweep import SweepCache
 
 #: Most grid points one app session solves: about 4 s and 0.3 GB on the project's 2-core
 #: machine; larger windows belong to `explorer grid` (a shared server must not be stalled
@@ -40,6 +41,10 @@ def check_window_size(sc: Scenario) -> Scenario:
 #: demo is solved once however many people open it (a content key cannot mix scenarios).
 #: Eight windows of at most APP_MAX_POINTS (about 0.1 GB each) bound it near 1 GB.
 SHARED_CACHE = SweepCache(maxsize=8)
+
+#: What sessions share beyond the solved window: the feasible window of each set of limits,
+#: the design point, its margins and the best points (explorer.facts).
+FACTS = SharedFacts(SHARED_CACHE)
 
 
 class ExplorerState(param.Parameterized):
@@ -92,24 +97,19 @@ class ExplorerState(param.Parameterized):
         # Each set_proposal call is one generation; only the newest one's result is kept.
         self._cmp_generation = 0
         self._cmp_lock = threading.Lock()
-        # (scenario content key, PointResult) of the design point, computed once per key.
-        self._design: tuple = (None, None)
         #: Called whenever work for poll() starts (the served page starts polling then).
         self.wake = lambda: None
-        # (key, result) of the best point and of the design point's margins.
-        self._best: tuple = (None, None)
-        self._margins: tuple = (None, None)
         self._dataset_key = None
         #: Find the best point in a worker thread (served app) instead of in the caller.
         self.background_best = False
-        self._best_thread: threading.Thread | None = None
-        self._best_pending: tuple | None = None
+        #: The best point being found in the background (explorer.facts), until published.
+        self._best_future = None
+        self._best_attempt = self._best_failed = None
 
     # -- solving -----------------------------------------------------------------------
     def solve_now(self) -> None:
         """Solve the current scenario in this thread (notebook use, tests)."""
-        ds = SHARED_CACHE.get(self.scenario)
-        self._adopt(self.scenario, ds)
+        self._adopt(self.scenario, FACTS.window(self.scenario))
 
     def solve_in_background(self) -> None:
         """Start solving the scenario in a worker thread; :meth:`poll` publishes progress."""
@@ -133,12 +133,12 @@ class ExplorerState(param.Parameterized):
 
         def work():
             try:
-                ds = SHARED_CACHE.get(sc, progress=self._on_progress)
+                ds = FACTS.window(sc, progress=self._on_progress)
                 self._pending = ("ok", sc, ds)
             except Exception as err:  # reported to the user by poll()
                 self._pending = ("error", sc, err)
 
-        if sc in SHARED_CACHE:
+        if FACTS.has_window(sc):
             work()  # solved already (another session, or earlier): no worker thread
         else:
             self._thread = threading.Thread(target=work, daemon=True)
@@ -149,8 +149,7 @@ class ExplorerState(param.Parameterized):
         """Whether poll() still has something to publish (a solve or a comparison)."""
         return (self.busy or self._pending is not None or self._cmp_pending is not None
                 or (self._cmp_thread is not None and self._cmp_thread.is_alive())
-                or self._best_pending is not None
-                or (self._best_thread is not None and self._best_thread.is_alive()))
+                or self._best_future is not None)
 
     def _on_progress(self, done: int, total: int) -> None:
         self._done, self._total = done, total
@@ -176,10 +175,13 @@ class ExplorerState(param.Parameterized):
             self.status = f"Solving failed: {payload}. The previous maps are kept."
             return True
         # Same numbers; notes, title or limits may have changed meanwhile: adopt with the
-        # current scenario's text and feasible window.
-        ds = apply_limits(self.scenario, payload)
-        ds.attrs = dict(ds.attrs, scenario=self.scenario.to_toml())
-        self._adopt(self.scenario, ds)
+        # current scenario's text and feasible window (shared by every session).
+        if self.scenario.limits == sc.limits:
+            payload.attrs = dict(payload.attrs, title=self.scenario.title,
+                                 scenario=self.scenario.to_toml())
+            self._adopt(self.scenario, payload)
+        else:
+            self._adopt(self.scenario, FACTS.window(self.scenario))
         return True
 
     def _adopt(self, sc: Scenario, ds: xr.Dataset) -> None:
@@ -292,9 +294,7 @@ class ExplorerState(param.Parameterized):
             self.objective = default_objective(sc)
         self.scenario = sc.with_notes(self.notes) if self.notes != sc.notes else sc
         if same_numbers and self.dataset is not None:
-            ds = apply_limits(sc, self.dataset)
-            ds.attrs = dict(ds.attrs, scenario=self.scenario.text)
-            self.dataset = ds
+            self.dataset = FACTS.window(self.scenario)
             return
         self.selected = None
         self.pinned = []
@@ -347,59 +347,48 @@ class ExplorerState(param.Parameterized):
 
     def design_point(self) -> thermo.PointResult:
         """The core's result at the scenario's design point, exactly where it is (never
-        snapped to the grid)."""
-        sc = self.scenario
-        key = SHARED_CACHE.key(sc)
-        if self._design[0] != key:
-            kwargs = {"temperature": f"{sc.temperature!r} K", "pressure": f"{sc.pressure!r} Pa",
-                      "steam_to_carbon": sc.feed.steam_to_carbon}
-            self._design = (key, thermo.point(sc, **kwargs))
-        return self._design[1]
-
-    def _limits_key(self) -> tuple:
-        return (SHARED_CACHE.key(self.scenario), self.scenario.limits)
+        snapped to the grid); shared by every session (explorer.facts)."""
+        return FACTS.design_point(self.scenario)
 
     def best_point(self):
         """thermo.best_point of the current objective over the solved window (None while
-        solving, or while it is being found in the background); computed once per scenario
-        content, limits and objective."""
+        solving, or while it is being found in the background); found once per scenario
+        content, limits and objective for the whole server (explorer.facts)."""
         if self.dataset is None or self._dataset_key != SHARED_CACHE.key(self.scenario):
             return None  # the dataset is of other numbers (a new scenario is solving)
-        key = (*self._limits_key(), self.objective, id(self.dataset))
-        if self._best[0] == key:
-            return self._best[1]
-        sc, ds, objective = self.scenario, self.dataset, self.objective
-        if not self.background_best:
-            self._best = (key, thermo.best_point(sc, objective, ds=ds))
-            return self._best[1]
-        if self._best_thread is None or not self._best_thread.is_alive():
-            def work():
-                try:
-                    self._best_pending = (key, thermo.best_point(sc, objective, ds=ds))
-                except Exception as err:  # shown as no best point; the maps stay
-                    self._best_pending = (key, None)
-                    self.status = f"Finding the best point failed: {err}"
-
-            self._best_thread = threading.Thread(target=work, daemon=True)
-            self._best_thread.start()
-            self.wake()  # the served page polls while the best point is being found
+        sc, objective = self.scenario, self.objective
+        known = FACTS.known_best_point(sc, objective)
+        if known is not None or not self.background_best:
+            return known if known is not None else FACTS.best_point(sc, objective)
+        attempt = (SHARED_CACHE.key(sc), sc.limits, objective)
+        if self._best_failed == attempt:
+            return None  # failed for these numbers: said once in the status, not retried
+        fut = FACTS.best_point_later(sc, objective)
+        if fut.done():
+            if fut.exception() is None:
+                return fut.result()
+            self._best_failed = attempt
+            self.status = f"Finding the best point failed: {fut.exception()}"
+            return None
+        self._best_future, self._best_attempt = fut, attempt
+        self.wake()  # the served page polls while the best point is being found
         return None
 
     def _poll_best(self) -> None:
         """Publish a best point found in the background (``best_version`` changes)."""
-        pending = self._best_pending
-        if pending is None:
+        fut = self._best_future
+        if fut is None or not fut.done():
             return
-        self._best_pending = None
-        self._best = pending
+        self._best_future = None
+        err = fut.exception()
+        if err is not None:
+            self._best_failed = self._best_attempt
+            self.status = f"Finding the best point failed: {err}"
         self.best_version += 1
 
     def design_margins(self):
-        """thermo.margins at the exact design point."""
-        key = self._limits_key()
-        if self._margins[0] != key:
-            self._margins = (key, thermo.margins(self.scenario, point=self.design_point()))
-        return self._margins[1]
+        """thermo.margins at the exact design point (shared, explorer.facts)."""
+        return FACTS.margins(self.scenario)
 
     def markers(self) -> dict:
         """The best and design points for the maps (explorer.maps.marker_layers)."""

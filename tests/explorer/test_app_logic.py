@@ -11,6 +11,7 @@ or by numpy here, never typed in.
 from __future__ import annotations
 
 import csv
+import dataclasses
 import io
 import json
 import threading
@@ -521,14 +522,20 @@ def test_two_sessions_do_not_share_state():
     assert b.pinned == []
 
 
-def test_second_build_of_the_same_scenario_hits_the_shared_cache():
-    """A second build of the same scenario is one cache hit and no miss, with its Dataset."""
+def test_second_build_of_the_same_scenario_solves_nothing():
+    """A second build of the same scenario reuses the process's shared window: no sweep is
+    run (no cache miss) and no limit is re-applied, and the page still has its Dataset with
+    its own title."""
+    from explorer.state import FACTS
+
     build_app(small_scenario(), solve="now")
-    hits, misses = SHARED_CACHE.hits, SHARED_CACHE.misses
-    page = build_app(small_scenario(), solve="now")
-    assert SHARED_CACHE.hits == hits + 1
+    misses, windows = SHARED_CACHE.misses, FACTS.windows_computed
+    sc = dataclasses.replace(small_scenario(), title="second page")
+    page = build_app(sc, solve="now")
     assert SHARED_CACHE.misses == misses
+    assert FACTS.windows_computed == windows
     assert page.explorer_state.dataset is not None
+    assert page.explorer_state.dataset.attrs["title"] == "second page"
 
 
 # ------------------------------------------------------------------- fourth window axis

@@ -56,9 +56,12 @@ def _feasible_runs(text: str) -> list[tuple[float, float]]:
     return runs
 
 
-def test_answer_and_both_maps_on_the_first_screen_at_1600_by_1000(browser):
+@pytest.mark.parametrize("width, height", [(1600, 1000), (1366, 768)])
+def test_answer_and_both_maps_on_the_first_screen(browser, width, height):
+    """At a desktop screen and a common projector resolution (1366 x 768): the summary and
+    both maps' canvases within the first viewport, and nothing wider than the window."""
     sc = thermo.load_scenario()  # the demo, as a review room opens it
-    ctx = browser.new_context(viewport={"width": 1600, "height": 1000})
+    ctx = browser.new_context(viewport={"width": width, "height": height})
     page = ctx.new_page()
     try:
         with served_app(sc) as url:
@@ -67,10 +70,13 @@ def test_answer_and_both_maps_on_the_first_screen_at_1600_by_1000(browser):
             for name in ("map-0", "map-1"):
                 box = page.evaluate(f"() => ({CANVAS_BOX})('{name}')")
                 assert box["top"] >= 0 and box["left"] >= 0, (name, box)
-                assert box["bottom"] <= 1000 and box["right"] <= 1600, (name, box)
+                assert box["bottom"] <= height and box["right"] <= width, (name, box)
             summary = page.locator("div.rw-summary").inner_text()
             box = page.locator("div.rw-summary").bounding_box()
-            assert box["y"] + box["height"] <= 1000
+            assert box["y"] + box["height"] <= height
+            overflow = page.evaluate(
+                "() => document.scrollingElement.scrollWidth - window.innerWidth")
+            assert overflow <= 0, f"the page is {overflow} px wider than the window"
     finally:
         ctx.close()
     m = re.search(r"Feasible outlet temperature at ([\d.]+) bar abs and S/C ([\d.]+).*?: "
