@@ -11,3 +11,10 @@ CAUTION = (
     "are for screening and review; final designs follow local codes and licensed engineering "
     "practice."
 )
+
+#: The caution's one line at the top of the page (the whole text is at its foot).
+CAUTION_SHORT = (
+    "Equilibrium screening, not a reactor design; hot, pressurized, flammable H2 and toxic "
+    "CO. Final designs follow local codes and licensed engineering practice (full text at "
+    "the foot)."
+)

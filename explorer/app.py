@@ -13,7 +13,7 @@ import os
 import panel as pn
 
 import thermo
-from explorer import CAUTION
+from explorer import CAUTION, CAUTION_SHORT
 from explorer.form import ScenarioForm, read_upload, scenario_files
 from explorer.safe import html, paragraphs
 from explorer.state import FACTS, ExplorerState, check_window_size
@@ -35,6 +35,35 @@ __all__ = ["BalanceView", "ComparisonView", "MapsView", "NotesView", "PinnedView
 def _section(title: str, *objects):
     return pn.Column(pn.pane.Markdown(f"## {title}", stylesheets=[SECTION_CSS]), *objects,
                      sizing_mode="stretch_width")
+
+
+def _folding(title: str, build, *, opened: bool = False) -> pn.Card:
+    """A section that folds away and builds its content the first time it is opened.
+
+    `build` returns the section's objects; until the card opens, nothing of it is built or
+    sent to the browser, which keeps a page load cheap (the issue of the review room: under
+    0.5 s of server time per page). The card's ``unfold()`` opens it from code.
+    """
+    card = pn.Card(title=title, collapsed=not opened, sizing_mode="stretch_width",
+                   header_css_classes=["rw-card-header"])
+
+    def fill(*_):
+        if not card.objects:
+            card.objects = list(build())
+
+    def on_collapsed(event):
+        if not event.new:
+            fill()
+
+    def unfold():
+        fill()
+        card.collapsed = False
+
+    card.param.watch(on_collapsed, "collapsed")
+    card.unfold = unfold
+    if opened:
+        fill()
+    return card
 
 
 def poll_while_working(state: ExplorerState, period_ms: int = 200) -> None:
@@ -91,9 +120,6 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
     summary = SummaryView(state)
     maps = MapsView(state)
     balance = BalanceView(state)
-    compare = ComparisonView(state)
-    pinned = PinnedView(state)
-    notes = NotesView(state)
     # Title and description come from the scenario file: text, never markup.
     title = pn.pane.HTML(html("<h1>{}</h1>", scenario.title), sizing_mode="stretch_width",
                          margin=(0, 10), stylesheets=[PAGE_CSS])
@@ -105,8 +131,10 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
         desc.object = paragraphs(state.scenario.description)
 
     state.param.watch(retitle, ["scenario"])
-    caution = pn.pane.Markdown("**Caution.** " + CAUTION, stylesheets=[CAUTION_CSS],
+    caution = pn.pane.Markdown("**Caution.** " + CAUTION_SHORT, stylesheets=[CAUTION_CSS],
                                sizing_mode="stretch_width", margin=(0, 10))
+    full_caution = pn.pane.Markdown("**Caution.** " + CAUTION, stylesheets=[CAUTION_CSS],
+                                    sizing_mode="stretch_width", margin=(10, 10))
     footer = pn.pane.Markdown(
         "Method: Gibbs energy minimization for an ideal gas plus pure graphite (element "
         "potentials); composition at T minus the approach, enthalpy at T. Carbon verdict: "
@@ -115,32 +143,38 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
         "1 bar. Data: GRI-Mech 3.0 gas polynomials, NASA TM-4513 graphite, IUPAC 2021 atomic "
         f"weights. Reformer window explorer {thermo.__version__}.",
         styles={"font-size": "12px", "color": "#4a5a64"})
-    # The scenario form folds away; its widgets are built the first time it is opened.
-    scenario_card = pn.Card(title="3 Scenario: description, feed, design point, window, "
-                                  "limits and train (open to edit)",
-                            collapsed=True, sizing_mode="stretch_width",
-                            header_css_classes=["rw-card-header"])
+    # The form and the sections a study needs only sometimes fold away; each is built the
+    # first time it opens, and opens by itself when it has something to show.
+    scenario_card = _folding("3 Scenario: description, feed, design point, window, limits "
+                             "and train (open to edit)", lambda: [desc, ScenarioForm(state)])
+    compare = _folding("4 Comparison with a proposal (open to load one)",
+                       lambda: [ComparisonView(state)], opened=proposal is not None)
+    pinned = _folding("5 Pinned points", lambda: [PinnedView(state)],
+                      opened=bool(state.pinned))
+    notes = _folding("6 Review notes (open to write)", lambda: [NotesView(state)],
+                     opened=bool(state.notes))
 
-    def open_form(event):
-        if not event.new and not scenario_card.objects:
-            scenario_card.objects = [desc, ScenarioForm(state)]
+    def unfold_what_has_content(*_):
+        for card, has in ((compare, state.proposal is not None), (pinned, state.pinned),
+                          (notes, state.notes)):
+            if has and card.collapsed:
+                card.unfold()
 
-    scenario_card.param.watch(open_form, "collapsed")
+    state.param.watch(unfold_what_has_content, ["proposal", "pinned", "notes"])
     page = pn.Column(
         title, caution,
         summary,
         _section("1 Operating-window maps", maps),
+        summary.details,
         _section("2 Balance at the selected grid point", balance),
-        scenario_card,
-        _section("4 Comparison with a proposal", compare),
-        _section("5 Pinned points", pinned),
-        _section("6 Review notes", notes),
-        footer,
+        scenario_card, compare, pinned, notes,
+        full_caution, footer,
         sizing_mode="stretch_width",
         styles={"max-width": "1500px", "margin": "0 auto"},
     )
     page.explorer_parts = {"title": title, "description": desc, "summary": summary,
-                           "scenario": scenario_card, "maps": maps, "compare": compare}
+                           "scenario": scenario_card, "maps": maps, "compare": compare,
+                           "pinned": pinned, "notes": notes}
     page.explorer_state = state  # for tests and notebooks
     if solve == "now":
         if proposal is not None:

@@ -49,7 +49,7 @@ from explorer.map_variables import (
 
 #: Map heights in the page [px]: both maps on the first screen at 1366 x 768; taller when
 #: presenting.
-MAP_HEIGHT, PRESENT_HEIGHT = 400, 640
+MAP_HEIGHT, PRESENT_HEIGHT = 370, 640
 
 
 def axis_label(mode: str, units: str = DEFAULT) -> str:

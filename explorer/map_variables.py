@@ -22,8 +22,8 @@ from thermo.sweep import LIMIT_VARIABLES
 
 #: Map orientations: x is always outlet temperature.
 MODES = {
-    "pressure": "temperature vs pressure (at a chosen steam-to-carbon)",
-    "steam_to_carbon": "temperature vs steam-to-carbon (at a chosen pressure)",
+    "pressure": "temperature vs pressure",
+    "steam_to_carbon": "temperature vs steam-to-carbon",
 }
 
 #: Room a contour label takes, as fractions of the map's width and height (11 pt text on a

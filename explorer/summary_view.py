@@ -123,4 +123,10 @@ class SummaryView:
             self.best_balance.object = ""
 
     def __panel__(self):
-        return pn.Column(self.pane, self.best, self.best_card, sizing_mode="stretch_width")
+        return pn.Column(self.pane, self.best, sizing_mode="stretch_width")
+
+    @property
+    def details(self) -> pn.Card:
+        """The folded tables of margins, sensitivities and the best point's balance (the app
+        places them after the maps, so that the answer and both maps fit the first screen)."""
+        return self.best_card

@@ -248,7 +248,8 @@ class MapsView:
         self._maps_row = pn.Row(*self.panes, sizing_mode="stretch_width")
         self._maps_column = pn.Column(sizing_mode="stretch_width")
         return pn.Column(
-            pn.Row(self.mode, self.left, self.right, self.sliders, self.units),
+            pn.FlexBox(self.mode, self.left, self.right, self.sliders, flex_wrap="wrap",
+                       sizing_mode="stretch_width"),
             pn.Row(self.bar, self.status, margin=(0, 0, 0, 0)),
             self._maps_row,
             self._maps_column,
@@ -262,7 +263,7 @@ class MapsView:
                 "points to a design point outside the window). Colour levels are fixed over "
                 "the whole window.",
                 styles={"font-size": "13px", "color": "#4a5a64"}, sizing_mode="stretch_width"),
-                self.present, sizing_mode="stretch_width"),
+                self.units, self.present, sizing_mode="stretch_width"),
             sizing_mode="stretch_width",
         )
 

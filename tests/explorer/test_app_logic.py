@@ -563,3 +563,31 @@ def test_form_adds_edits_and_removes_a_cofeed_axis(app):
     assert form.submit()
     wait_until_solved(s)
     assert "co2_to_carbon" not in s.dataset.dims
+
+
+# ------------------------------------------------------------------- folding sections
+def test_sections_without_content_are_folded_and_unbuilt_until_needed():
+    """Comparison, pinned points and notes stay folded and unbuilt on a page that has none
+    of them (a page load builds only what it shows), and each opens with its view as soon
+    as it has something: a proposal, a pin, a note; or when the user opens it."""
+    page = build_app(small_scenario(), solve="now")
+    parts, state = page.explorer_parts, page.explorer_state
+    for name in ("scenario", "compare", "pinned", "notes"):
+        assert parts[name].collapsed and parts[name].objects == [], name
+    state.pin()
+    assert not parts["pinned"].collapsed
+    assert parts["pinned"].objects
+    state.notes = "checked with the furnace vendor"
+    assert not parts["notes"].collapsed and parts["notes"].objects
+    assert parts["compare"].collapsed and parts["compare"].objects == []
+    parts["compare"].collapsed = False  # the user opens it
+    assert parts["compare"].objects
+
+
+def test_a_page_with_notes_and_a_proposal_opens_those_sections():
+    """A scenario that carries notes, served with a proposal, opens both sections at once."""
+    sc = small_scenario().with_notes("reviewed")
+    page = build_app(sc, solve="now", proposal=small_scenario())
+    parts = page.explorer_parts
+    assert not parts["notes"].collapsed and not parts["compare"].collapsed
+    assert parts["pinned"].collapsed

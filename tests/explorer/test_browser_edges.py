@@ -132,7 +132,7 @@ def test_review_file_marks_best_point_exact_edge_margins_and_outside_design(
     _check_markers(layers, bp)
     page.screenshot(path=str(artifacts / "review-edges.png"), full_page=True)
     # The other orientation redraws both maps (S/C on the y axis) without a script error.
-    page.get_by_text("temperature vs steam-to-carbon (at a chosen pressure)").first.click()
+    page.get_by_text("temperature vs steam-to-carbon").first.click()
     for name in ("map-0", "map-1"):
         page.wait_for_function(
             f"() => Math.max(...({LAYERS})('{name}').edge.ys.flat()) <= 5.0001", timeout=10000)
