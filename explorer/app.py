@@ -119,7 +119,6 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
         state.solve_now()
     summary = SummaryView(state)
     maps = MapsView(state)
-    balance = BalanceView(state)
     # Title and description come from the scenario file: text, never markup.
     title = pn.pane.HTML(html("<h1>{}</h1>", scenario.title), sizing_mode="stretch_width",
                          margin=(0, 10), stylesheets=[PAGE_CSS])
@@ -161,12 +160,16 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
                 card.unfold()
 
     state.param.watch(unfold_what_has_content, ["proposal", "pinned", "notes"])
+    # The balance opens with the first point chosen (a click on a map, a typed point).
+    balance = _folding("2 Balance at the selected grid point (a click on a map opens it)",
+                       lambda: [BalanceView(state)])
+    state.param.watch(lambda *_: balance.collapsed and balance.unfold(), ["selected"])
     page = pn.Column(
         title, caution,
         summary,
         _section("1 Operating-window maps", maps),
         summary.details,
-        _section("2 Balance at the selected grid point", balance),
+        balance,
         scenario_card, compare, pinned, notes,
         full_caution, footer,
         sizing_mode="stretch_width",
@@ -174,7 +177,7 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
     )
     page.explorer_parts = {"title": title, "description": desc, "summary": summary,
                            "scenario": scenario_card, "maps": maps, "compare": compare,
-                           "pinned": pinned, "notes": notes}
+                           "pinned": pinned, "notes": notes, "balance": balance}
     page.explorer_state = state  # for tests and notebooks
     if solve == "now":
         if proposal is not None:

@@ -120,8 +120,14 @@ def restyle_figure(fig, src: dict, var: Variable, mode: str, levels: np.ndarray,
 
 def map_figure(var: Variable, mode: str, levels: np.ndarray, layers: dict[str, dict],
                name: str, x_range: tuple[float, float], y_range: tuple[float, float],
-               width: int = 560, height: int = 430, units: str = DEFAULT):
+               width: int = 560, height: int = 430, units: str = DEFAULT,
+               share: dict | None = None):
     """A Bokeh map with one ColumnDataSource per layer.
+
+    `share` holds the sources of another map of the same window (:func:`shared_with`) to use
+    here instead of new ones: the window's own layers (:data:`WINDOW_LAYERS`: limits, carbon
+    lines, markers, the selected point) are the same on both maps of a page, and each model
+    costs a page load time to make and send.
 
     Returns
     -------
@@ -148,9 +154,13 @@ def map_figure(var: Variable, mode: str, levels: np.ndarray, layers: dict[str, d
     layers = {**empty_layers(), **layers}
     # Stateless helpers shared by every layer of the figure instead of one each (each Bokeh
     # model costs a page load about a millisecond to make and send).
-    policy, every = UnionRenderers(), AllIndices()
-    src = {k: ColumnDataSource(v, selection_policy=policy) for k, v in layers.items()}
-    src["selected"] = ColumnDataSource({"x": [], "y": [], "alpha": []}, selection_policy=policy)
+    share = share or {}
+    policy = share["selected"].selection_policy if share else UnionRenderers()
+    every = share.get("_filter") or AllIndices()
+    src = {k: share.get(k) or ColumnDataSource(v, selection_policy=policy)
+           for k, v in layers.items()}
+    src["selected"] = share.get("selected") or ColumnDataSource(
+        {"x": [], "y": [], "alpha": []}, selection_policy=policy)
 
     def add(kind, source, name=None, **glyph):
         # One glyph model per layer: the selection, non-selection and muted looks are left
@@ -216,6 +226,19 @@ def map_figure(var: Variable, mode: str, levels: np.ndarray, layers: dict[str, d
     fig.toolbar.logo = None
     show_legend_entries(fig, layers, {"x": []})
     return fig, src, mapper
+
+
+#: Layers that depend on the window and its limits only, not on the variable mapped: one
+#: source each can serve both maps of a page (map_figure's `share`).
+WINDOW_LAYERS = ("infeasible", "edge", "carbon", "carbon_outlet", "carbon_catalyst",
+                 "carbon_graphite", "best", "design", "selected")
+
+
+def shared_with(fig, src: dict) -> dict:
+    """What a second map of the same window can take from the map `fig` with sources `src`
+    (map_figure's `share`): its window layers' sources and its view filter."""
+    return {**{k: src[k] for k in WINDOW_LAYERS if k in src},
+            "_filter": fig.renderers[0].view.filter}
 
 
 #: Legend entries, by the layer they name (shown only when the slice draws that layer).

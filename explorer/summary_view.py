@@ -46,11 +46,19 @@ class SummaryView:
                                          sizing_mode="stretch_width")
         self.design_margins = pn.pane.HTML("", stylesheets=[PAGE_CSS],
                                            sizing_mode="stretch_width")
-        # The tables fold away so that the answer and both maps fit the first screen.
-        self.best_card = pn.Card(self.design_margins, self.objective, self.best_balance,
-                                 title="Margins and sensitivities of the design point; the best "
-                                 "point's objective, margins and full balance (open)",
+        # The tables fold away so that the answer and both maps fit the first screen, and
+        # are sent to the browser only once the card is opened (a page load builds what it
+        # shows; the panes are kept current meanwhile).
+        self.best_card = pn.Card(title="Margins and sensitivities of the design point; the "
+                                 "best point's objective, margins and full balance (open)",
                                  collapsed=True, sizing_mode="stretch_width")
+
+        def unfold(event):
+            if not event.new and not self.best_card.objects:
+                self.best_card.objects = [self.design_margins, self.objective,
+                                          self.best_balance]
+
+        self.best_card.param.watch(unfold, "collapsed")
         state.param.watch(self._update, ["dataset", "scenario", "units"])
         state.param.watch(self._update_best, ["dataset", "scenario", "objective",
                                               "best_version", "units"])

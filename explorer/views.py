@@ -15,7 +15,7 @@ from pathlib import Path
 import numpy as np
 import panel as pn
 from bokeh.events import Tap
-from bokeh.models import Legend
+from bokeh.models import CustomJSTickFormatter, Legend
 
 from explorer import display
 from explorer.comparison_view import (  # noqa: F401 - re-exported
@@ -23,7 +23,7 @@ from explorer.comparison_view import (  # noqa: F401 - re-exported
 )
 from explorer.display import SYSTEMS
 from explorer.form import _message_pane
-from explorer.map_figures import MAP_HEIGHT, PRESENT_HEIGHT
+from explorer.map_figures import MAP_HEIGHT, PRESENT_HEIGHT, shared_with
 from explorer.map_variables import var_options as _var_options
 from explorer.maps import (
     MODES,
@@ -86,10 +86,13 @@ class MapsView:
         # A window solved already is drawn into them as they are made (no restyle pass).
         self.panes, self.sources, self.legends = [], [], []
         self.levels: dict[str, np.ndarray] = {}
+        share = None
         for i, key in enumerate((state.left, state.right)):
             var = variable(key, state.units)
             fig, src, _ = map_figure(var, state.mode, *self._first_content(key), f"map-{i}",
-                                     *self._ranges(), height=MAP_HEIGHT, units=state.units)
+                                     *self._ranges(), height=MAP_HEIGHT, units=state.units,
+                                     share=share)
+            share = shared_with(fig, src)
             fig.sizing_mode = "stretch_width"
             fig.on_event(Tap, self._tap)
             self.panes.append(pn.pane.Bokeh(fig, sizing_mode="stretch_width"))
@@ -183,9 +186,16 @@ class MapsView:
                 name = {"steam_to_carbon": "Steam-to-carbon",
                         "oxygen_to_carbon": "O2-to-carbon",
                         "co2_to_carbon": "CO2-to-carbon"}[d]
-            options = dict(zip(labels, range(len(vals)), strict=True))
-            w = pn.widgets.DiscreteSlider(label=name, options=options,
-                                          value=s.fixed.get(d, 0), width=260)
+            if len(vals) == 1:
+                widgets.append(pn.widgets.StaticText(label=name, value=labels[0], width=260))
+                continue
+            # One slider over the axis's indices that shows each index's value (the
+            # browser formats it): a single model, where a composite slider costs a page
+            # three and a script link that Panel then searches for on every page load.
+            label_of = CustomJSTickFormatter(args={"labels": labels},
+                                             code="return labels[tick]")
+            w = pn.widgets.IntSlider(label=name, start=0, end=len(vals) - 1,
+                                     value=s.fixed.get(d, 0), format=label_of, width=260)
             w.param.watch(lambda e, d=d: self._set_fixed(d, e.new), "value")
             widgets.append(w)
         self.sliders[:] = widgets

@@ -572,8 +572,11 @@ def test_sections_without_content_are_folded_and_unbuilt_until_needed():
     as it has something: a proposal, a pin, a note; or when the user opens it."""
     page = build_app(small_scenario(), solve="now")
     parts, state = page.explorer_parts, page.explorer_state
-    for name in ("scenario", "compare", "pinned", "notes"):
+    for name in ("balance", "scenario", "compare", "pinned", "notes"):
         assert parts[name].collapsed and parts[name].objects == [], name
+    ds = state.dataset
+    state.select_display(ds.temperature.values[1] - 273.15, ds.pressure.values[1] / 1e5)
+    assert not parts["balance"].collapsed and parts["balance"].objects
     state.pin()
     assert not parts["pinned"].collapsed
     assert parts["pinned"].objects
@@ -591,3 +594,15 @@ def test_a_page_with_notes_and_a_proposal_opens_those_sections():
     parts = page.explorer_parts
     assert not parts["notes"].collapsed and not parts["compare"].collapsed
     assert parts["pinned"].collapsed
+
+
+def test_margin_tables_are_sent_when_their_card_opens():
+    """The summary's folded tables (margins, sensitivities, the best point's balance) are
+    kept current but join the page only when their card is opened."""
+    page = build_app(small_scenario(), solve="now")
+    summary = page.explorer_parts["summary"]
+    card = summary.details
+    assert card.collapsed and card.objects == []
+    assert "Margins of the design point" in summary.design_margins.object
+    card.collapsed = False
+    assert summary.design_margins in card.objects and summary.best_balance in card.objects
