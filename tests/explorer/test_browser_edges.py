@@ -73,7 +73,12 @@ def _check_markers(layers, bp):
 
 
 def _margin_rows(page):
-    html = page.locator('table[data-table="margins"]').first.evaluate("t => t.outerHTML")
+    """The design point's margin table, opening its folded card first (the app's tables fold
+    until asked for; the review file shows them open)."""
+    table = page.locator('table[data-table="margins"]').first
+    if not table.count():
+        page.get_by_text("Margins and sensitivities of the design point").first.click()
+    html = table.evaluate("t => t.outerHTML", timeout=30000)
     return table_cells(html)
 
 
