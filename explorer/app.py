@@ -160,10 +160,11 @@ def build_app(scenario: Scenario | str | os.PathLike | None = None, *,
                 card.unfold()
 
     state.param.watch(unfold_what_has_content, ["proposal", "pinned", "notes"])
-    # The balance opens with the first point chosen (a click on a map, a typed point).
+    # The balance opens with the first point chosen (a click on a map, a typed point), also
+    # when that is the node already selected (the design point's, at the start).
     balance = _folding("2 Balance at the selected grid point (a click on a map opens it)",
                        lambda: [BalanceView(state)])
-    state.param.watch(lambda *_: balance.collapsed and balance.unfold(), ["selected"])
+    state.param.watch(lambda *_: balance.collapsed and balance.unfold(), ["chosen"])
     page = pn.Column(
         title, caution,
         summary,

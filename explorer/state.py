@@ -77,6 +77,8 @@ class ExplorerState(param.Parameterized):
     objective = param.Selector(default=DEFAULT_OBJECTIVE, objects=list(OBJECTIVES),
                                doc="what the best point makes best (thermo.edges.OBJECTIVES)")
     best_version = param.Integer(default=0, doc="changes when a best point is published")
+    chosen = param.Event(doc="a user chose a point (a click on a map, a typed point), even "
+                             "the one already selected: the page opens the balance")
     typed = param.Boolean(default=False,
                           doc="the selected point was typed (exact), not clicked (grid node)")
 
@@ -344,6 +346,7 @@ class ExplorerState(param.Parameterized):
         idx["temperature"] = i
         idx[self.mode] = j
         self.select_index(idx)
+        self.param.trigger("chosen")
 
     def design_point(self) -> thermo.PointResult:
         """The core's result at the scenario's design point, exactly where it is (never
@@ -411,6 +414,7 @@ class ExplorerState(param.Parameterized):
                 sel[d] = getattr(pt, d)
         self.typed = True
         self.selected = sel
+        self.param.trigger("chosen")
 
     def design_in_window(self) -> list[str]:
         """What of the design point lies outside the window, in words (empty if inside)."""

@@ -587,6 +587,21 @@ def test_sections_without_content_are_folded_and_unbuilt_until_needed():
     assert parts["compare"].objects
 
 
+def test_a_click_on_the_node_already_selected_opens_the_balance():
+    """The page starts with the design point's node selected; a click on that very node (no
+    change of selection) still opens the folded balance, as does a typed point."""
+    page = build_app(small_scenario(), solve="now")
+    parts, state = page.explorer_parts, page.explorer_state
+    before = dict(state.selected)
+    assert parts["balance"].collapsed
+    state.select_display(before["temperature"] - 273.15, before["pressure"] / 1e5)
+    assert state.selected == before
+    assert not parts["balance"].collapsed and parts["balance"].objects
+    page = build_app(small_scenario(), solve="now")
+    page.explorer_state.select_exact("867.5 degC", "23.4 bar", 3.0)
+    assert not page.explorer_parts["balance"].collapsed
+
+
 def test_a_page_with_notes_and_a_proposal_opens_those_sections():
     """A scenario that carries notes, served with a proposal, opens both sections at once."""
     sc = small_scenario().with_notes("reviewed")
