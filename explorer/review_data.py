@@ -275,6 +275,9 @@ def comparison_layers(sc, ds, prop_sc, prop_ds, variables=COMPARE_VARIABLES,
     tolerance = {v: change_tolerance(ds, shown[v]) for v in variables}
     quiet = {v: quiet_change(diff, shown[v], tolerance[v]) for v in variables}
     ch_levels = {v: change_levels(quiet[v], shown[v], tolerance[v]) for v in variables}
+    # Each change map reads one variable of the change (Variable.values): slice only that.
+    alone = {v: quiet[v][["mole_fraction_dry" if v.startswith("dry:") else shown[v].key]]
+           for v in variables}
     out = {"base_common": {m: {} for m in MODES}, "proposal_common": {m: {} for m in MODES},
            "levels": levels, "change_levels": ch_levels}
     values: dict = {}
@@ -293,7 +296,7 @@ def comparison_layers(sc, ds, prop_sc, prop_ds, variables=COMPARE_VARIABLES,
             for v in variables:
                 var = shown[v]
                 sets = (("base", sb, var, levels[v]), ("proposal", sp, var, levels[v]),
-                        ("change", _diff_slice(quiet[v], mode, fixed), change_variable(var),
+                        ("change", _diff_slice(alone[v], mode, fixed), change_variable(var),
                          ch_levels[v]))
                 for name, cut, shown_as, lv in sets:
                     lay = _layers_of(cut, shown_as, mode, lv, units, mode == "pressure")

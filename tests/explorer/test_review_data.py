@@ -153,3 +153,42 @@ def test_layers_and_grid_values_equal_the_per_slice_encoding(case, train_case):
                 assert json.dumps(now, sort_keys=True) == json.dumps(before, sort_keys=True)
                 checked += 1
     assert checked >= 2 * len(names)
+
+
+def test_comparison_layers_equal_the_per_slice_encoding():
+    """The comparison's base, proposal and change layers of every slice (the change sliced
+    from the one variable it maps, values written once per grid point) equal, exactly, the
+    per-slice layers of the whole change rounded by round_layers."""
+    from explorer.maps import (
+        MODES,
+        change_tolerance,
+        change_variable,
+        quiet_change,
+        slice_fields,
+        variables_in,
+    )
+    from thermo.compare import difference, on_base_window
+
+    sc = thermo.load_scenario(ROOT / "scenarios" / "demo.toml")
+    prop = on_base_window(sc, thermo.load_scenario(ROOT / "scenarios" / "demo-proposal.toml"))
+    ds, pds = thermo.sweep(sc), thermo.sweep(prop)
+    names = ("duty", "dry:CO")
+    out = review_data.comparison_layers(sc, ds, prop, pds, names)
+    shown = variables_in()
+    diff = difference(ds, pds)
+    for v in names:
+        quiet = quiet_change(diff, shown[v], change_tolerance(ds, shown[v]))
+        for mode in MODES:
+            for fixed in review_data.slice_keys(ds, mode):
+                key = review_data.key_text(fixed)
+                cuts = {"base": (slice_fields(ds, mode, fixed), shown[v], out["levels"][v]),
+                        "proposal": (slice_fields(pds, mode, fixed), shown[v],
+                                     out["levels"][v]),
+                        "change": (review_data._diff_slice(quiet, mode, fixed),
+                                   change_variable(shown[v]), out["change_levels"][v])}
+                for name, (s, var, levels) in cuts.items():
+                    now = dict(out[name][v][mode][key])
+                    now["values"] = review_data.slice_values(ds, out[name][v]["values"], mode,
+                                                             fixed)
+                    assert json.dumps(now, sort_keys=True) == json.dumps(
+                        _as_before(s, var, mode, levels), sort_keys=True), (name, v, key)
