@@ -5,10 +5,13 @@ Everything here is read from the sweep's Dataset or from public functions of the
 again. :mod:`explorer.export` puts the result into the page; the page's script
 (``static/review.js``) reads it.
 
-Two encodings keep the file small without changing what the page shows or computes:
+Three encodings keep the file small without changing what the page shows or computes:
 
 - map geometry is rounded to :data:`GEOMETRY_DECIMALS` decimals in display units (degC,
   bar, S/C), far below a pixel, and node values to 6 significant digits (hover text);
+- a variable's node values are written once per grid point, in flat grid order
+  (``layers[var]["values"]``, :func:`grid_values`), not once in each map mode's slices;
+  ``sliceValues`` in the script takes the shown slice's values out of it;
 - a long list that repeats few values (the hover text of every grid node, the nodes'
   coordinates) is written once as a table of its distinct values and an index per entry,
   ``{"rw_table": [...], "rw_index": [...]}``; ``unpackRepeats`` in the script expands it
