@@ -70,6 +70,7 @@ from explorer.review_data import (
     pack_repeats,
     page_data,
     point_arrays,
+    slice_values,
     variable_palette,
 )
 from explorer.safe import paragraphs
@@ -135,6 +136,7 @@ def _maps(sc: Scenario, ds: xr.Dataset, R: dict, facts: dict, ranges, mode0: str
     if plant:
         variables = variables + PLANT_EXPORT_VARIABLES
     right0 = "specific_energy" if plant else "methane_slip_dry"
+    fixed0 = _fixed0(sc, ds)
     shown = variables_in(units)  # the map variables as shown in these units
     layers, common = all_layers(ds, sc.limits, variables, scenario_markers(sc, facts["best"]),
                                 units)
@@ -145,7 +147,8 @@ def _maps(sc: Scenario, ds: xr.Dataset, R: dict, facts: dict, ranges, mode0: str
     figs, srcs, mappers = [], [], []
     for i, v in enumerate(("h2_yield", right0)):
         var = shown[v]
-        start = _typed(combine(layers[v][mode0][key0], common[mode0][key0]))
+        start = _typed(combine(_first_slice(ds, layers[v], mode0, fixed0),
+                               common[mode0][key0]))
         fig, src, mapper = map_figure(var, mode0, variable_levels(ds, var), start,
                                       f"map-{i}", *ranges, width=580, height=440, units=units)
         figs.append(fig)
@@ -162,6 +165,7 @@ def _comparison_maps(sc: Scenario, ds: xr.Dataset, prop_sc: Scenario, prop_ds: x
                      units: str = display.DEFAULT) -> tuple[list, list, list, list]:
     """The comparison's three maps (base, proposal, change), layers put into `R`."""
     variables = COMPARE_VARIABLES
+    fixed0 = _fixed0(sc, ds)
     shown = variables_in(units)  # the map variables as shown in these units
     panels = comparison_layers(sc, ds, prop_sc, prop_ds, variables, units)
     R["layers"], R["common"] = panels["base"], panels["base_common"]
@@ -182,7 +186,7 @@ def _comparison_maps(sc: Scenario, ds: xr.Dataset, prop_sc: Scenario, prop_ds: x
              change_variable(shown[v0]))]
     figs, srcs, mappers = [], [], []
     for i, (lay, com, levels, var) in enumerate(sets):
-        start = _typed(combine(lay[v0][mode0][key0], com[mode0][key0]))
+        start = _typed(combine(_first_slice(ds, lay[v0], mode0, fixed0), com[mode0][key0]))
         fig, src, mapper = map_figure(var, mode0, levels, start, f"map-{i}", *ranges,
                                       width=580 if i < 2 else 620, height=420, units=units)
         fig.title.text = prefixes[i] + var.label
@@ -192,6 +196,14 @@ def _comparison_maps(sc: Scenario, ds: xr.Dataset, prop_sc: Scenario, prop_ds: x
     options = [(v, shown[v].title) for v in variables]
     selects = [Select(title="Variable", value=v0, options=options, width=340)]
     return figs, srcs, mappers, selects
+
+
+def _first_slice(ds: xr.Dataset, layers: dict, mode: str, fixed: dict[str, int]) -> dict:
+    """The shown slice's layers of one variable with its node values (taken out of the
+    variable's values of the whole grid, :func:`explorer.review_data.grid_values`)."""
+    fixed = {d: j for d, j in fixed.items() if d != mode}
+    return dict(layers[mode][key_text(fixed)], values=slice_values(ds, layers["values"], mode,
+                                                                   fixed))
 
 
 def _typed(layers: dict) -> dict:

@@ -52,10 +52,18 @@ def y_display(mode: str, values, units: str = DEFAULT):
     return display.to_display(values, "pressure", units) if mode == "pressure" else values
 
 
-def _polys(points, offsets):
-    """contourpy OuterOffset polygons to Bokeh multi_polygons nesting (x and y)."""
+def _rounded(a: np.ndarray, decimals: int | None) -> list:
+    """A 1-D array as a list of floats, rounded by numpy to `decimals` if given."""
+    return (a if decimals is None else np.round(a, decimals)).tolist()
+
+
+def _polys(points, offsets, decimals: int | None = None):
+    """contourpy OuterOffset polygons to Bokeh multi_polygons nesting (x and y), rounded
+    to `decimals` if given."""
     xs, ys = [], []
     for pts, off in zip(points, offsets, strict=True):
+        if decimals is not None:
+            pts = np.round(pts, decimals)
         rings_x = [pts[off[k]:off[k + 1], 0].tolist() for k in range(len(off) - 1)]
         rings_y = [pts[off[k]:off[k + 1], 1].tolist() for k in range(len(off) - 1)]
         xs.append(rings_x)
@@ -134,7 +142,7 @@ def _paths(paths) -> dict:
 
 
 def variable_layers(s: xr.Dataset, var: Variable, mode: str, levels: np.ndarray,
-                    units: str = DEFAULT) -> dict:
+                    units: str = DEFAULT, decimals: int | None = None) -> dict:
     """What one variable draws on a slice: filled bands, contour lines, their labels, and
     the values at the grid nodes (display units).
 
@@ -150,6 +158,10 @@ def variable_layers(s: xr.Dataset, var: Variable, mode: str, levels: np.ndarray,
         Contour levels (:func:`variable_levels` over the whole Dataset).
     units : str
         Unit system of the axes (explorer.display); `var` is already in it.
+    decimals : int, optional
+        Round the geometry (bands, lines, label places) to this many decimals, with numpy
+        (what explorer.review_data.round_layers does to the finished layers, done on the
+        arrays); the node values are left as they are.
     """
     x = x_display(s["temperature"].values, units)
     y = y_display(mode, s[mode].values, units)
@@ -161,8 +173,10 @@ def variable_layers(s: xr.Dataset, var: Variable, mode: str, levels: np.ndarray,
     if len(x) < 2 or len(y) < 2:
         return out
     palette = _band_colours(var, len(levels) - 1)
-    gen = contourpy.contour_generator(x, y, np.ma.masked_invalid(z), fill_type="OuterOffset",
-                                      line_type="Separate")
+    # A mask only where a value is missing (contourpy treats an empty mask as none).
+    finite = np.isfinite(z).all()
+    gen = contourpy.contour_generator(x, y, z if finite else np.ma.masked_invalid(z),
+                                      fill_type="OuterOffset", line_type="Separate")
     bands = out["bands"]
     for i in range(len(levels) - 1):
         lo = levels[i] if i > 0 else -1e300
@@ -170,7 +184,7 @@ def variable_layers(s: xr.Dataset, var: Variable, mode: str, levels: np.ndarray,
         pts, offs = gen.filled(lo, hi)
         if not pts:
             continue
-        xs, ys = _polys(pts, offs)
+        xs, ys = _polys(pts, offs, decimals)
         bands["xs"].append(xs)
         bands["ys"].append(ys)
         bands["color"].append(palette[i])
@@ -183,8 +197,8 @@ def variable_layers(s: xr.Dataset, var: Variable, mode: str, levels: np.ndarray,
     placed: list[tuple[float, float]] = []  # label centres, in fractions of the map
     for level in levels[1:-1]:
         for path in gen.lines(level):
-            lines["xs"].append(path[:, 0].tolist())
-            lines["ys"].append(path[:, 1].tolist())
+            lines["xs"].append(_rounded(path[:, 0], decimals))
+            lines["ys"].append(_rounded(path[:, 1], decimals))
             u, v = (path[:, 0] - x.min()) / span_x, (path[:, 1] - y.min()) / span_y
             if np.sum(np.hypot(np.diff(u), np.diff(v))) <= 0.15:
                 continue
@@ -201,6 +215,9 @@ def variable_layers(s: xr.Dataset, var: Variable, mode: str, levels: np.ndarray,
                     labels["y"].append(float(path[k, 1]))
                     labels["text"].append(_fmt(level, var.digits))
                     break
+    if decimals is not None:
+        for k in ("x", "y"):
+            labels[k] = _rounded(np.asarray(labels[k], dtype=float), decimals)
     return out
 
 

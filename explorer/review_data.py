@@ -5,10 +5,13 @@ Everything here is read from the sweep's Dataset or from public functions of the
 again. :mod:`explorer.export` puts the result into the page; the page's script
 (``static/review.js``) reads it.
 
-Two encodings keep the file small without changing what the page shows or computes:
+Three encodings keep the file small without changing what the page shows or computes:
 
 - map geometry is rounded to :data:`GEOMETRY_DECIMALS` decimals in display units (degC,
   bar, S/C), far below a pixel, and node values to 6 significant digits (hover text);
+- a variable's node values are written once per grid point, in flat grid order
+  (``layers[var]["values"]``, :func:`grid_values`), not once in each map mode's slices;
+  ``sliceValues`` in the script takes the shown slice's values out of it;
 - a long list that repeats few values (the hover text of every grid node, the nodes'
   coordinates) is written once as a table of its distinct values and an index per entry,
   ``{"rw_table": [...], "rw_index": [...]}``; ``unpackRepeats`` in the script expands it
@@ -166,6 +169,46 @@ def key_text(fixed: dict[str, int]) -> str:
     return "|".join(f"{d}={i}" for d, i in fixed.items())
 
 
+def _layers_of(s: xr.Dataset, var, mode: str, levels, units: str, with_values: bool) -> dict:
+    """One variable's layers of a slice, rounded as :func:`round_layers` rounds them (the
+    geometry rounded on the arrays, :func:`explorer.maps.variable_layers`); the node values
+    (:data:`VALUE_DIGITS` significant digits) only if `with_values`."""
+    out = variable_layers(s, var, mode, levels, units, decimals=GEOMETRY_DECIMALS)
+    values = out.pop("values")
+    if with_values:
+        out["values"] = _significant(values)
+    return out
+
+
+def grid_values(ds: xr.Dataset, slices: dict[str, list], mode: str = "pressure") -> list:
+    """One variable's node values in flat grid order (C order over the window's axes, as
+    the points source), from the ``values`` of every slice of map mode `mode` (keyed as
+    :func:`key_text`): each grid point is written once, not once per map mode. The page's
+    script (``sliceValues`` in review.js) takes a slice's values back out of it."""
+    dims = list(ds["h2_yield"].dims)
+    order = [mode, "temperature"] + [d for d in dims if d not in ("temperature", mode)]
+    grid = np.empty([ds.sizes[d] for d in order], dtype=object)
+    for fixed in slice_keys(ds, mode):
+        vals = np.empty(len(slices[key_text(fixed)]), dtype=object)
+        vals[:] = slices[key_text(fixed)]
+        grid[(slice(None), slice(None), *(fixed[d] for d in order[2:]))] = vals.reshape(
+            ds.sizes[mode], ds.sizes["temperature"])
+    return grid.transpose([order.index(d) for d in dims]).ravel().tolist()
+
+
+def slice_values(ds: xr.Dataset, flat: list, mode: str, fixed: dict[str, int]) -> list:
+    """A slice's node values (rows of `mode`, columns of temperature, as a slice's layers
+    hold them) out of :func:`grid_values`' flat list."""
+    dims = list(ds["h2_yield"].dims)
+    grid = np.empty(len(flat), dtype=object)
+    grid[:] = flat
+    grid = grid.reshape([ds.sizes[d] for d in dims])
+    cut = grid[tuple(fixed[d] if d in fixed and d not in (mode, "temperature") else slice(None)
+                     for d in dims)]
+    kept = [d for d in dims if not (d in fixed and d not in (mode, "temperature"))]
+    return cut.transpose(kept.index(mode), kept.index("temperature")).ravel().tolist()
+
+
 def all_layers(ds: xr.Dataset, limits, variables=EXPORT_VARIABLES,
                markers: dict | None = None, units: str = display.DEFAULT) -> tuple[dict, dict]:
     """Layers of every slice, split into what depends on the variable and what does not.
@@ -173,15 +216,18 @@ def all_layers(ds: xr.Dataset, limits, variables=EXPORT_VARIABLES,
     Returns
     -------
     (per_variable, common)
-        ``per_variable[var][mode][key]`` holds bands, lines, labels and the node values;
-        ``common[mode][key]`` the carbon boundary, the infeasible region and its edge, and
-        the grid nodes (:func:`explorer.maps.combine` joins them). Rounded by
-        :func:`round_layers`, not yet packed. Coordinates in the display units of `units`.
+        ``per_variable[var][mode][key]`` holds bands, lines and labels, and
+        ``per_variable[var]["values"]`` the node values of the whole grid
+        (:func:`grid_values`); ``common[mode][key]`` the carbon boundary, the infeasible
+        region and its edge, and the grid nodes (:func:`explorer.maps.combine` joins them
+        with a slice's values). Rounded as by :func:`round_layers`, not yet packed.
+        Coordinates in the display units of `units`.
     """
     shown = variables_in(units)  # the map variables as shown in these units
     levels = {v: variable_levels(ds, shown[v]) for v in variables}
     per_var: dict = {v: {m: {} for m in MODES} for v in variables}
     common: dict = {m: {} for m in MODES}
+    values: dict = {v: {} for v in variables}
     for mode in MODES:
         for fixed in slice_keys(ds, mode):
             key = key_text(fixed)
@@ -189,8 +235,12 @@ def all_layers(ds: xr.Dataset, limits, variables=EXPORT_VARIABLES,
             common[mode][key] = round_layers(window_layers(s, mode, limits, markers,
                                                            units=units))
             for v in variables:
-                per_var[v][mode][key] = round_layers(
-                    variable_layers(s, shown[v], mode, levels[v], units))
+                lay = _layers_of(s, shown[v], mode, levels[v], units, mode == "pressure")
+                if "values" in lay:
+                    values[v][key] = lay.pop("values")
+                per_var[v][mode][key] = lay
+    for v in variables:
+        per_var[v]["values"] = grid_values(ds, values[v])
     return per_var, common
 
 
@@ -228,10 +278,15 @@ def comparison_layers(sc, ds, prop_sc, prop_ds, variables=COMPARE_VARIABLES,
     tolerance = {v: change_tolerance(ds, shown[v]) for v in variables}
     quiet = {v: quiet_change(diff, shown[v], tolerance[v]) for v in variables}
     ch_levels = {v: change_levels(quiet[v], shown[v], tolerance[v]) for v in variables}
+    # Each change map reads one variable of the change (Variable.values): slice only that.
+    alone = {v: quiet[v][["mole_fraction_dry" if v.startswith("dry:") else shown[v].key]]
+           for v in variables}
     out = {"base_common": {m: {} for m in MODES}, "proposal_common": {m: {} for m in MODES},
            "levels": levels, "change_levels": ch_levels}
+    values: dict = {}
     for name in ("base", "proposal", "change"):
         out[name] = {v: {m: {} for m in MODES} for v in variables}
+        values[name] = {v: {} for v in variables}
     for mode in MODES:
         for fixed in slice_keys(ds, mode):
             key = key_text(fixed)
@@ -243,13 +298,17 @@ def comparison_layers(sc, ds, prop_sc, prop_ds, variables=COMPARE_VARIABLES,
                 window_layers(sp, mode, prop_sc.limits, units=units))
             for v in variables:
                 var = shown[v]
-                out["base"][v][mode][key] = round_layers(
-                    variable_layers(sb, var, mode, levels[v], units))
-                out["proposal"][v][mode][key] = round_layers(
-                    variable_layers(sp, var, mode, levels[v], units))
-                out["change"][v][mode][key] = round_layers(variable_layers(
-                    _diff_slice(quiet[v], mode, fixed), change_variable(var), mode,
-                    ch_levels[v], units))
+                sets = (("base", sb, var, levels[v]), ("proposal", sp, var, levels[v]),
+                        ("change", _diff_slice(alone[v], mode, fixed), change_variable(var),
+                         ch_levels[v]))
+                for name, cut, shown_as, lv in sets:
+                    lay = _layers_of(cut, shown_as, mode, lv, units, mode == "pressure")
+                    if "values" in lay:
+                        values[name][v][key] = lay.pop("values")
+                    out[name][v][mode][key] = lay
+    for name in ("base", "proposal", "change"):
+        for v in variables:
+            out[name][v]["values"] = grid_values(ds, values[name][v])
     out["changes"] = [v for v in variables
                       if has_change(quiet[v], shown[v], tolerance[v])]
     out["palettes"] = {v: palette(shown[v], levels[v]) for v in variables}

@@ -7,11 +7,12 @@
 const LAYER_NAMES = ["carbon", "carbon_outlet", "carbon_catalyst", "carbon_graphite",
                      "infeasible", "edge", "best", "design"];
 
-function drawSlice(i, L, C, pal, title, m, hover) {
-  // Map i shows slice layers L (variable) and C (window), palette pal, in mode m.
+function drawSlice(i, L, values, C, pal, title, m, hover) {
+  // Map i shows slice layers L (variable) with the node values, and C (window), palette
+  // pal, in mode m.
   for (const name of ["bands", "lines", "labels"]) srcs[i][name].data = L[name];
   for (const name of LAYER_NAMES) if (C[name] && srcs[i][name]) srcs[i][name].data = C[name];
-  srcs[i].nodes.data = Object.assign({}, C.nodes, {value: L.values});
+  srcs[i].nodes.data = Object.assign({}, C.nodes, {value: values});
   mappers[i].palette = pal.palette;
   mappers[i].low = pal.low;
   mappers[i].high = pal.high;
@@ -35,8 +36,8 @@ function updateMaps() {
   const k = sliceKey(m);
   for (let i = 0; i < 2; i++) {
     const v = selects[i].value;
-    drawSlice(i, R.layers[v][m][k], R.common[m][k], R.palettes[v], R.titles[v], m,
-              R.hover[v]);
+    drawSlice(i, R.layers[v][m][k], sliceValues(R.layers[v].values, m), R.common[m][k],
+              R.palettes[v], R.titles[v], m, R.hover[v]);
   }
 }
 
@@ -80,8 +81,8 @@ function updateCompare() {
     const [layers, common, palettes] = sets[i];
     const [label, unit, digits] = R.hover[v];
     const hover = i === 2 ? ["change in " + label, unit, digits + 1] : [label, unit, digits];
-    drawSlice(i, layers[v][m][k], common[m][k], palettes[v], R.prefixes[i] + R.titles[v], m,
-              hover);
+    drawSlice(i, layers[v][m][k], sliceValues(layers[v].values, m), common[m][k],
+              palettes[v], R.prefixes[i] + R.titles[v], m, hover);
   }
 }
 

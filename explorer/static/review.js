@@ -119,6 +119,23 @@ function flatIndex(idx) {
   return p;
 }
 
+function sliceValues(flat, m) {
+  // The shown slice's node values (rows of the y axis m, columns of temperature) out of a
+  // variable's values of the whole grid in flat order (explorer.review_data.grid_values).
+  const idx = {};
+  for (const d of R.dims) if (d in sliders) idx[d] = sliders[d].value;
+  const nT = R.axes.temperature.length, nY = R.axes[m].length;
+  const out = new Array(nT * nY);
+  for (let j = 0; j < nY; j++) {
+    idx[m] = j;
+    for (let i = 0; i < nT; i++) {
+      idx.temperature = i;
+      out[j * nT + i] = flat[flatIndex(idx)];
+    }
+  }
+  return out;
+}
+
 function ratioIndex(idx) {
   let r = 0;
   for (const d of R.ratio_dims) r = r * R.axes[d].length + idx[d];

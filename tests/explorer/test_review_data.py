@@ -115,3 +115,80 @@ def test_page_script_unpacks_what_python_packed(tmp_path):
     out = subprocess.run([NODE, str(file)], capture_output=True, text=True, timeout=60,
                          check=True).stdout
     assert json.loads(out) == json.loads(json.dumps(common))
+
+
+def _as_before(s, var, mode, levels):
+    """A slice's layers of one variable as the file held them before the geometry was
+    rounded on the arrays: the finished layers rounded by round_layers, values included."""
+    from explorer.maps import variable_layers
+
+    return review_data.round_layers(variable_layers(s, var, mode, levels))
+
+
+@pytest.mark.parametrize("case", ["demo", "train"])
+def test_layers_and_grid_values_equal_the_per_slice_encoding(case, train_case):
+    """Every slice's bands, lines and labels (geometry rounded on the arrays) and its node
+    values (written once per grid point, taken back out per slice) equal, exactly, the
+    per-slice layers rounded by round_layers, in both map modes."""
+    from explorer.maps import MODES, slice_fields, variable_levels, variables_in
+
+    if case == "demo":
+        sc = thermo.load_scenario(ROOT / "scenarios" / "demo.toml")
+        ds = thermo.sweep(sc)
+    else:
+        sc, ds = train_case
+    names = ("h2_yield", "methane_slip_dry", "duty_per_h2", "carbon_activity")
+    per_var, _ = review_data.all_layers(ds, sc.limits, names)
+    shown = variables_in()
+    checked = 0
+    for v in names:
+        levels = variable_levels(ds, shown[v])
+        for mode in MODES:
+            for fixed in review_data.slice_keys(ds, mode):
+                s = slice_fields(ds, mode, fixed)
+                before = _as_before(s, shown[v], mode, levels)
+                now = dict(per_var[v][mode][review_data.key_text(fixed)])
+                now["values"] = review_data.slice_values(ds, per_var[v]["values"], mode,
+                                                         fixed)
+                assert json.dumps(now, sort_keys=True) == json.dumps(before, sort_keys=True)
+                checked += 1
+    assert checked >= 2 * len(names)
+
+
+def test_comparison_layers_equal_the_per_slice_encoding():
+    """The comparison's base, proposal and change layers of every slice (the change sliced
+    from the one variable it maps, values written once per grid point) equal, exactly, the
+    per-slice layers of the whole change rounded by round_layers."""
+    from explorer.maps import (
+        MODES,
+        change_tolerance,
+        change_variable,
+        quiet_change,
+        slice_fields,
+        variables_in,
+    )
+    from thermo.compare import difference, on_base_window
+
+    sc = thermo.load_scenario(ROOT / "scenarios" / "demo.toml")
+    prop = on_base_window(sc, thermo.load_scenario(ROOT / "scenarios" / "demo-proposal.toml"))
+    ds, pds = thermo.sweep(sc), thermo.sweep(prop)
+    names = ("duty", "dry:CO")
+    out = review_data.comparison_layers(sc, ds, prop, pds, names)
+    shown = variables_in()
+    diff = difference(ds, pds)
+    for v in names:
+        quiet = quiet_change(diff, shown[v], change_tolerance(ds, shown[v]))
+        for mode in MODES:
+            for fixed in review_data.slice_keys(ds, mode):
+                key = review_data.key_text(fixed)
+                cuts = {"base": (slice_fields(ds, mode, fixed), shown[v], out["levels"][v]),
+                        "proposal": (slice_fields(pds, mode, fixed), shown[v],
+                                     out["levels"][v]),
+                        "change": (review_data._diff_slice(quiet, mode, fixed),
+                                   change_variable(shown[v]), out["change_levels"][v])}
+                for name, (s, var, levels) in cuts.items():
+                    now = dict(out[name][v][mode][key])
+                    now["values"] = review_data.slice_values(ds, out[name][v]["values"], mode,
+                                                             fixed)
+                    assert json.dumps(now, sort_keys=True) == json.dumps(
+                        _as_before(s, var, mode, levels), sort_keys=True), (name, v, key)
