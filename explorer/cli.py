@@ -110,8 +110,7 @@ def _cmd_best(args: argparse.Namespace) -> int:
 
 def _cmd_grid(args: argparse.Namespace) -> int:
     import thermo
-    from thermo import io
-    from thermo.sweep import sweep
+    from thermo.chunked import sweep_to_netcdf
 
     if args.workers is not None and args.scheduler is not None:
         raise InputError("--workers", args.workers, "either --workers or --scheduler, not both")
@@ -132,17 +131,17 @@ def _cmd_grid(args: argparse.Namespace) -> int:
         _kernel_notice(n)
     bar = _progress_bar(n, "solving window")
     try:
-        ds = sweep(sc, workers=args.workers, scheduler=args.scheduler,
-                   progress=lambda done, total: bar.update(done - bar.n))
+        # Block by block into the file: no process holds the whole window (thermo.chunked).
+        info = sweep_to_netcdf(sc, out, workers=args.workers, scheduler=args.scheduler,
+                               progress=lambda done, total: bar.update(done - bar.n))
     except OSError as err:  # cluster unreachable
         where = args.scheduler or f"{args.workers} local workers"
         raise InputError("--scheduler" if args.scheduler else "--workers", where,
                          f"a reachable dask cluster ({err})") from None
     finally:
         bar.close()
-    io.save(ds, out)
-    bad = int((~ds["converged"]).sum())
-    print(f"wrote {out}: {n} points, {dict(ds.sizes)}; "
+    bad = info["not_converged"]
+    print(f"wrote {out}: {n} points, {info['sizes']}; "
           f"{bad} not converged" + (" (flagged in 'converged')" if bad else ""))
     return 0
 

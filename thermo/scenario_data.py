@@ -29,8 +29,10 @@ COFEEDS: tuple[str, ...] = ("oxygen_to_carbon", "co2_to_carbon")
 #: The demo scenario, loaded when no file is named.
 DEMO_PATH: Path = Path(__file__).resolve().parent.parent / "scenarios" / "demo.toml"
 
-#: Most points in the whole window (product of the axes).
-MAX_WINDOW_POINTS = 2_000_000
+#: Most points in the whole window (product of the axes): 2 x 10^7, an 11 GB grid file that
+#: `explorer grid` writes block by block (thermo.chunked). A whole in-memory sweep holds about
+#: 1 GB per 10^6 points; the app has its own, lower bound (explorer.state.APP_MAX_POINTS).
+MAX_WINDOW_POINTS = 20_000_000
 #: Largest scenario file accepted [bytes]; a real one is a few kB.
 MAX_SCENARIO_BYTES = 1_000_000
 #: How far the composition may sum from 1 before it is refused (it is then normalised).

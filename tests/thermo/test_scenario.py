@@ -594,14 +594,14 @@ def test_approach_must_keep_the_window_inside_the_data_range():
 
 
 def test_total_window_points_limited():
-    """A window above MAX_WINDOW_POINTS is refused naming window, the limit and its 401 x 401 x
-    13 size."""
+    """A window above MAX_WINDOW_POINTS is refused naming window, the limit and its 401 x
+    401 x 125 size."""
     text = variant("points = 6 }", "points = 401 }")
     text = text.replace('to = "40 bar", points = 4', 'to = "40 bar", points = 401')
-    text = text.replace("to = 5.0, points = 8", "to = 5.0, points = 13")  # 401*401*13 > 2e6
+    text = text.replace("to = 5.0, points = 8", "to = 5.0, points = 125")  # 401^2*125 > 2e7
     error = refused(text)
     assert error.field == "window"
-    assert str(sc.MAX_WINDOW_POINTS) in str(error) and "401 x 401 x 13" in str(error)
+    assert str(sc.MAX_WINDOW_POINTS) in str(error) and "401 x 401 x 125" in str(error)
 
 
 def test_bad_toml_names_the_file(tmp_path):
