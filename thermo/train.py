@@ -67,17 +67,48 @@ from thermo.train_stages import (  # noqa: F401 - names of this module, kept imp
     shift_equilibrium,
 )
 
+#: Outlets of the pre-reformer already solved in this process, per stage solver and per
+#: unique (feed, P, inlet T) row (its bytes): (T, gas, graphite, ok, H_in). The stage does not
+#: depend on the primary's temperature, so a window's exact edges (thermo.edges), which
+#: re-evaluate its rows at other temperatures, and later chunks find their rows here. Each
+#: point's solve is independent of the others in its call, so a row taken from here equals
+#: the one its own call would give (bit for bit in calls of two or more rows; single-row calls,
+#: as thermo.point makes, neither read nor fill it, matrix products of one row rounding
+#: differently). Cleared when it holds PRE_CACHE_ROWS rows (about 200 bytes each).
+_PRE_CACHE: dict = {}
+PRE_CACHE_ROWS = 100_000
+
 
 def _pre_reformer(feed, P, T_in, N):
     """Adiabatic pre-reformer on the unique (feed, P, T_in) rows of a grid."""
     uniq, inv = _unique_rows(feed, P, T_in)
     S = len(GAS_SPECIES)
-    n_u, P_u, T_u = uniq[:, :S], uniq[:, S], uniq[:, S + 1]
-    H_u = enthalpy_flow(n_u, T_u)
-    Tout, eq, ok = adiabatic_equilibrium(n_u, H_u, P_u, 0.0,
-                                         bounds=(np.maximum(T_u - 400.0, 350.0), T_MAX),
-                                         guess=T_u)
-    return (Tout[inv], eq.moles[inv], eq.carbon[inv], ok[inv], H_u[inv])
+    solver = adiabatic_equilibrium
+    cache = _PRE_CACHE.setdefault(solver, {}) if uniq.shape[0] > 1 else None
+    keys = [r.tobytes() for r in uniq] if cache is not None else []
+    todo = np.array([k not in cache for k in keys], dtype=bool) if cache is not None \
+        else np.ones(uniq.shape[0], dtype=bool)
+    T_o = np.empty(uniq.shape[0])
+    n_o = np.empty((uniq.shape[0], S))
+    c_o = np.empty(uniq.shape[0])
+    ok_o = np.empty(uniq.shape[0], dtype=bool)
+    H_o = np.empty(uniq.shape[0])
+    if todo.any():
+        new = uniq[todo]
+        n_u, P_u, T_u = new[:, :S], new[:, S], new[:, S + 1]
+        H_u = enthalpy_flow(n_u, T_u)
+        Tout, eq, ok = solver(n_u, H_u, P_u, 0.0,
+                              bounds=(np.maximum(T_u - 400.0, 350.0), T_MAX), guess=T_u)
+        T_o[todo], n_o[todo], c_o[todo], ok_o[todo], H_o[todo] = (Tout, eq.moles, eq.carbon,
+                                                                  ok, H_u)
+        if cache is not None:
+            if len(cache) + new.shape[0] > PRE_CACHE_ROWS:
+                cache.clear()
+            for i in np.flatnonzero(todo):
+                cache[keys[i]] = (T_o[i], n_o[i].copy(), c_o[i], ok_o[i], H_o[i])
+    for i in np.flatnonzero(~todo):
+        T_o[i], n_o[i], c_o[i], ok_o[i], H_o[i] = cache[keys[i]]
+    return (T_o[inv], n_o[inv], c_o[inv], ok_o[inv], H_o[inv])
 
 
 def _secondary(sec: SecondaryReformer, gas, T_gas, P, hc_carbon, warm_start=None):
