@@ -151,7 +151,8 @@ def _ok_fields(ds: xr.Dataset, limits: Limits) -> dict[str, xr.DataArray]:
 
 
 def evaluate(scenario: Scenario, temperature, pressure, steam_to_carbon=None,
-             oxygen_to_carbon=None, co2_to_carbon=None, *, path_nodes=None) -> xr.Dataset:
+             oxygen_to_carbon=None, co2_to_carbon=None, *, path_nodes=None,
+             secondary_guess=None) -> xr.Dataset:
     """The Dataset's per-point variables at N arbitrary points, over a ``point`` dimension.
 
     Parameters
@@ -168,6 +169,9 @@ def evaluate(scenario: Scenario, temperature, pressure, steam_to_carbon=None,
         (:func:`thermo.carbon.path_from_nodes`), and where that applies (bool; elsewhere the
         point's path is solved on its own). Without it every point's carbon path is solved on
         its own (:func:`thermo.carbon.points_check`).
+    secondary_guess : array_like, optional
+        First estimates of the secondary reformer's outlet temperature [K], one per point
+        (NaN where none): a start for its energy balance, not a different answer.
 
     Returns
     -------
@@ -188,7 +192,9 @@ def evaluate(scenario: Scenario, temperature, pressure, steam_to_carbon=None,
     n_in = scenario.feed.inlet_flows(ratio(steam_to_carbon), ratio(oxygen_to_carbon),
                                      ratio(co2_to_carbon))
     n_in = np.broadcast_to(n_in.reshape(n_in.shape[0], -1).T, (T.size, n_in.shape[0]))
-    res = train_results(scenario, np.ascontiguousarray(n_in), T, P)
+    guess = None if secondary_guess is None else \
+        np.broadcast_to(np.asarray(secondary_guess, dtype=float), shape).ravel()
+    res = train_results(scenario, np.ascontiguousarray(n_in), T, P, secondary_guess=guess)
     local = {k[len(_CARBON_LOCAL):]: res.pop(k) for k in list(res)
              if k.startswith(_CARBON_LOCAL)}
     if path_nodes is None:
@@ -257,14 +263,14 @@ class RowEdges:
 
 
 def _row_points(scenario: Scenario, row_coords: dict[str, np.ndarray], rows: np.ndarray,
-                T: np.ndarray, path_nodes=None) -> xr.Dataset:
+                T: np.ndarray, path_nodes=None, secondary_guess=None) -> xr.Dataset:
     """The core at temperatures `T` on rows `rows` (flat row indexes)."""
     shape = tuple(len(v) for v in row_coords.values())
     idx = np.unravel_index(rows, shape) if shape else ()
     coords = {d: row_coords[d][i] for d, i in zip(row_coords, idx, strict=True)}
     return evaluate(scenario, T, coords["pressure"], coords.get("steam_to_carbon"),
                     coords.get("oxygen_to_carbon"), coords.get("co2_to_carbon"),
-                    path_nodes=path_nodes)
+                    path_nodes=path_nodes, secondary_guess=secondary_guess)
 
 
 #: The Dataset's path maxima per carbon of thermo.carbon.offsets: (ln activity variable
@@ -371,15 +377,29 @@ def feasible_intervals(scenario: Scenario, ds: xr.Dataset,
     ok_all = np.stack([ok[n] for n in names]) if names else np.zeros((0, 1, 1), dtype=bool)
     ok_lo = ok_all[lim_i, row_i, step_i].astype(bool)
     path_nodes = _path_nodes(scenario, ds, row_dims, row_i, step_i, T)
+    # The secondary reformer's outlet at each bracket's ends (the grid's, then the bisection's
+    # points): the straight line between them starts its energy balance at the midpoint.
+    sec_var = "secondary_temperature"
+    if sec_var in ds and lo.size:
+        t_sec = np.asarray(ds[sec_var].transpose(*row_dims, "temperature").values,
+                           dtype=float).reshape(-1, T.size)
+        sec_lo, sec_hi = t_sec[row_i, step_i], t_sec[row_i, step_i + 1]
+    else:
+        sec_lo = sec_hi = None
     while lo.size and float(np.max(hi - lo)) > tolerance:
         mid = 0.5 * (lo + hi)
-        pts = _row_points(scenario, row_coords, row_i, mid, path_nodes)
+        guess = None if sec_lo is None else 0.5 * (sec_lo + sec_hi)
+        pts = _row_points(scenario, row_coords, row_i, mid, path_nodes, guess)
         okp = _ok_fields(pts, limits)
         okarr = np.stack([np.asarray(okp[n].values, dtype=bool) for n in names])
         okm = okarr[lim_i, np.arange(lim_i.size)]
         go_up = okm == ok_lo
         lo = np.where(go_up, mid, lo)
         hi = np.where(go_up, hi, mid)
+        if sec_lo is not None:
+            sec_mid = np.asarray(pts[sec_var].values, dtype=float)
+            sec_lo = np.where(go_up, sec_mid, sec_lo)
+            sec_hi = np.where(go_up, sec_hi, sec_mid)
     edge_T = 0.5 * (lo + hi)
     # Per row: the edges of each limit, then the intersection of the limits' feasible sets.
     edge_of = {}  # (name, row, step) -> temperature

@@ -38,6 +38,8 @@ side increases through zero.
 
 from __future__ import annotations
 
+import dataclasses
+
 import numpy as np
 
 from thermo.balances import (
@@ -111,8 +113,13 @@ def _pre_reformer(feed, P, T_in, N):
     return (T_o[inv], n_o[inv], c_o[inv], ok_o[inv], H_o[inv])
 
 
-def _secondary(sec: SecondaryReformer, gas, T_gas, P, hc_carbon, warm_start=None):
-    """Adiabatic secondary reformer: the primary's gas at T plus the oxidant."""
+def _secondary(sec: SecondaryReformer, gas, T_gas, P, hc_carbon, warm_start=None, guess=None,
+               outlet_potentials=None):
+    """Adiabatic secondary reformer: the primary's gas at T plus the oxidant.
+
+    `guess` (K, NaN where none) replaces the primary's temperature as the first estimate of
+    the outlet; `outlet_potentials` (NaN rows where none) replace the primary's element
+    potentials as the first solve's start (a neighbouring point's secondary outlet)."""
     N = gas.shape[0]
     ox = sec.oxidant_flows(hc_carbon).T  # (N, S)
     T_ox = np.full(N, sec.oxidant_temperature)
@@ -121,11 +128,81 @@ def _secondary(sec: SecondaryReformer, gas, T_gas, P, hc_carbon, warm_start=None
     dT = np.full(N, sec.approach)
     lo = np.maximum(np.minimum(T_gas, T_ox) - 400.0, 350.0)
     T0 = np.maximum(T_gas, lo)
+    if guess is not None:
+        g = np.asarray(guess, dtype=float)
+        T0 = np.where(np.isfinite(g), np.clip(g, lo, T_MAX), T0)
     warm = _complete_potentials(warm_start, mixed, T0 - dT, P) if warm_start is not None \
         else None
+    if outlet_potentials is not None:
+        near = np.isfinite(outlet_potentials).all(axis=1)
+        if near.any():
+            warm = np.full((N, outlet_potentials.shape[1]), np.nan) if warm is None else warm
+            warm[near] = outlet_potentials[near]
     T, eq, ok = adiabatic_equilibrium(mixed, H_in, P, dT, bounds=(lo, T_MAX), guess=T0,
                                       warm_start=warm)
     return T, eq, ok, ox, H_in
+
+
+#: Every how many points of a row the secondary reformer is first solved on its own
+#: (:func:`_secondary_rows`); the points between start from the curve through those.
+ROW_ANCHOR_STEP = 3
+
+
+def _row_weights(row: int, anchors: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The columns of a row that are not anchors, and their Lagrange weights (cols, anchors)
+    on the (up to) four anchors around each: cubic interpolation along the row."""
+    cols = np.setdiff1d(np.arange(row), anchors)
+    W = np.zeros((cols.size, anchors.size))
+    m = min(4, anchors.size)
+    for r, j in enumerate(cols):
+        k = int(np.searchsorted(anchors, j)) - 1
+        s = int(np.clip(k - 1, 0, anchors.size - m))
+        nodes = anchors[s:s + m].astype(float)
+        for q in range(m):
+            others = np.delete(nodes, q)
+            W[r, s + q] = np.prod((j - others) / (nodes[q] - others))
+    return cols, W
+
+
+def _secondary_rows(sec: SecondaryReformer, gas, T_gas, P, hc_carbon, warm_start, row: int):
+    """:func:`_secondary` on rows of `row` neighbouring points (a window's last axis), in two
+    passes: every ROW_ANCHOR_STEP-th point of each row (and its last) from the primary's
+    temperature, then the others from the cubic through those outlets (their first solve
+    from the nearest anchor's outlet potentials). The outlets are those of the single pass to
+    the energy balance's tolerance (ADIABATIC_TOLERANCE); fewer equilibrium solves."""
+    N = gas.shape[0]
+    anchors = np.unique(np.r_[np.arange(0, row, ROW_ANCHOR_STEP), row - 1])
+    cols, W = _row_weights(row, anchors)
+    rows = N // row
+    base = (np.arange(rows) * row)[:, None]
+    ia = (base + anchors).ravel()
+    ib = (base + cols).ravel()
+    lam = None if warm_start is None else np.asarray(warm_start, dtype=float)
+
+    def part(i, **kw):
+        return _secondary(sec, gas[i], T_gas[i], P[i], hc_carbon[i],
+                          None if lam is None else lam[i], **kw)
+
+    Ta, eqa, oka, oxa, Ha = part(ia)
+    guess = (Ta.reshape(rows, anchors.size) @ W.T).ravel()
+    nearest = anchors[np.abs(cols[:, None] - anchors[None, :]).argmin(axis=1)]
+    src = (np.arange(rows)[:, None] * anchors.size
+           + np.searchsorted(anchors, nearest)[None, :]).ravel()
+    pot = np.where(oka[src, None], eqa.element_potentials[src], np.nan)
+    Tb, eqb, okb, oxb, Hb = part(ib, guess=guess, outlet_potentials=pot)
+    T = np.empty(N)
+    ok = np.empty(N, dtype=bool)
+    ox = np.empty_like(gas)
+    H_in = np.empty(N)
+    for i, (t, o, x, h) in ((ia, (Ta, oka, oxa, Ha)), (ib, (Tb, okb, oxb, Hb))):
+        T[i], ok[i], ox[i], H_in[i] = t, o, x, h
+    fields = {}
+    for f in dataclasses.fields(eqa):
+        a, b = getattr(eqa, f.name), getattr(eqb, f.name)
+        out = np.empty((N, *a.shape[1:]), dtype=a.dtype)
+        out[ia], out[ib] = a, b
+        fields[f.name] = out
+    return T, type(eqa)(**fields), ok, ox, H_in
 
 
 def _complete_potentials(lam, gas, T, P):
@@ -165,6 +242,7 @@ def train_balance(
     approach=0.0,
     *,
     row: int = 1,
+    secondary_guess=None,
 ) -> TrainResult:
     """Carry N points' feed through the train's stages.
 
@@ -183,7 +261,12 @@ def train_balance(
     approach : array_like (N,)
         Primary reformer approach to equilibrium [K].
     row : int
-        Warm-start rows of the primary's solve (thermo.equilibrium.equilibrate).
+        Warm-start rows of the primary's solve (thermo.equilibrium.equilibrate); rows of
+        two ROW_ANCHOR_STEP or more also solve the secondary reformer in two passes
+        (:func:`_secondary_rows`).
+    secondary_guess : array_like (N,), optional
+        First estimates of the secondary reformer's outlet temperature [K] (NaN where none;
+        the primary's temperature then). Used instead of the two passes along rows.
 
     Returns
     -------
@@ -221,7 +304,12 @@ def train_balance(
     slip = bal.methane_slip_dry
     sec = train.secondary_reformer
     if sec is not None:
-        T_sec, eq, ok, ox, H_in = _secondary(sec, gas, T_gas, P, hc, bal.element_potentials)
+        if secondary_guess is None and row >= 2 * ROW_ANCHOR_STEP and N % row == 0:
+            T_sec, eq, ok, ox, H_in = _secondary_rows(sec, gas, T_gas, P, hc,
+                                                      bal.element_potentials, row)
+        else:
+            T_sec, eq, ok, ox, H_in = _secondary(sec, gas, T_gas, P, hc,
+                                                 bal.element_potentials, guess=secondary_guess)
         T_eval = np.where(ok, T_sec, T_gas)
         h_out = outlet_enthalpy(eq.moles, eq.carbon, T_eval, P)
         stages.append(StageResult("secondary_reformer", gas + ox, ox, T_gas, T_sec,
