@@ -143,9 +143,10 @@ def _secondary(sec: SecondaryReformer, gas, T_gas, P, hc_carbon, warm_start=None
     return T, eq, ok, ox, H_in
 
 
-#: Every how many points of a row the secondary reformer is first solved on its own
-#: (:func:`_secondary_rows`); the points between start from the curve through those.
-ROW_ANCHOR_STEP = 3
+#: Strides of the secondary reformer's passes along a row (:func:`_secondary_rows`): first
+#: every ROW_STRIDES[0]-th point of the row (and its last) from the primary's temperature, then
+#: at each finer stride the points not yet solved from the cubic through those solved.
+ROW_STRIDES = (3, 1)
 
 
 def _row_weights(row: int, anchors: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -164,45 +165,62 @@ def _row_weights(row: int, anchors: np.ndarray) -> tuple[np.ndarray, np.ndarray]
     return cols, W
 
 
+def row_passes(row: int, strides=ROW_STRIDES) -> list[np.ndarray]:
+    """The columns of a row of `row` points solved at each pass of :func:`_secondary_rows`
+    (each sorted; together every column once)."""
+    done = np.zeros(row, dtype=bool)
+    passes = []
+    for k, step in enumerate(strides):
+        cols = np.arange(0, row, step)
+        if k == 0:
+            cols = np.unique(np.r_[cols, row - 1])
+        cols = cols[~done[cols]]
+        if cols.size:
+            passes.append(cols)
+            done[cols] = True
+    rest = np.flatnonzero(~done)
+    if rest.size:
+        passes.append(rest)
+    return passes
+
+
 def _secondary_rows(sec: SecondaryReformer, gas, T_gas, P, hc_carbon, warm_start, row: int):
-    """:func:`_secondary` on rows of `row` neighbouring points (a window's last axis), in two
-    passes: every ROW_ANCHOR_STEP-th point of each row (and its last) from the primary's
-    temperature, then the others from the cubic through those outlets (their first solve
-    from the nearest anchor's outlet potentials). The outlets are those of the single pass to
-    the energy balance's tolerance (ADIABATIC_TOLERANCE); fewer equilibrium solves."""
+    """:func:`_secondary` on rows of `row` neighbouring points (a window's last axis), in
+    passes (:func:`row_passes`): the first from the primary's temperature, each later one from
+    the cubic along the row through the outlets already found (its first solve from the
+    nearest such outlet's element potentials). The outlets are those of a single pass to the
+    energy balance's tolerance (ADIABATIC_TOLERANCE), with fewer equilibrium solves."""
     N = gas.shape[0]
-    anchors = np.unique(np.r_[np.arange(0, row, ROW_ANCHOR_STEP), row - 1])
-    cols, W = _row_weights(row, anchors)
     rows = N // row
     base = (np.arange(rows) * row)[:, None]
-    ia = (base + anchors).ravel()
-    ib = (base + cols).ravel()
     lam = None if warm_start is None else np.asarray(warm_start, dtype=float)
-
-    def part(i, **kw):
-        return _secondary(sec, gas[i], T_gas[i], P[i], hc_carbon[i],
-                          None if lam is None else lam[i], **kw)
-
-    Ta, eqa, oka, oxa, Ha = part(ia)
-    guess = (Ta.reshape(rows, anchors.size) @ W.T).ravel()
-    nearest = anchors[np.abs(cols[:, None] - anchors[None, :]).argmin(axis=1)]
-    src = (np.arange(rows)[:, None] * anchors.size
-           + np.searchsorted(anchors, nearest)[None, :]).ravel()
-    pot = np.where(oka[src, None], eqa.element_potentials[src], np.nan)
-    Tb, eqb, okb, oxb, Hb = part(ib, guess=guess, outlet_potentials=pot)
-    T = np.empty(N)
-    ok = np.empty(N, dtype=bool)
+    T = np.full(N, np.nan)
+    ok = np.zeros(N, dtype=bool)
     ox = np.empty_like(gas)
     H_in = np.empty(N)
-    for i, (t, o, x, h) in ((ia, (Ta, oka, oxa, Ha)), (ib, (Tb, okb, oxb, Hb))):
-        T[i], ok[i], ox[i], H_in[i] = t, o, x, h
-    fields = {}
-    for f in dataclasses.fields(eqa):
-        a, b = getattr(eqa, f.name), getattr(eqb, f.name)
-        out = np.empty((N, *a.shape[1:]), dtype=a.dtype)
-        out[ia], out[ib] = a, b
-        fields[f.name] = out
-    return T, type(eqa)(**fields), ok, ox, H_in
+    fields: dict[str, np.ndarray] = {}
+    solved = np.zeros(0, dtype=int)
+    for cols in row_passes(row):
+        idx = (base + cols).ravel()
+        kw = {}
+        if solved.size:
+            _, W = _row_weights(row, solved)
+            W = W[np.searchsorted(np.setdiff1d(np.arange(row), solved), cols)]
+            kw["guess"] = (T.reshape(rows, row)[:, solved] @ W.T).ravel()
+            nearest = solved[np.abs(cols[:, None] - solved[None, :]).argmin(axis=1)]
+            src = (base + nearest).ravel()
+            kw["outlet_potentials"] = np.where(ok[src, None],
+                                               fields["element_potentials"][src], np.nan)
+        t, eq, o, x, h = _secondary(sec, gas[idx], T_gas[idx], P[idx], hc_carbon[idx],
+                                    None if lam is None else lam[idx], **kw)
+        T[idx], ok[idx], ox[idx], H_in[idx] = t, o, x, h
+        for f in dataclasses.fields(eq):
+            a = getattr(eq, f.name)
+            if f.name not in fields:
+                fields[f.name] = np.empty((N, *a.shape[1:]), dtype=a.dtype)
+            fields[f.name][idx] = a
+        solved = np.union1d(solved, cols)
+    return T, type(eq)(**fields), ok, ox, H_in
 
 
 def _complete_potentials(lam, gas, T, P):
@@ -262,7 +280,7 @@ def train_balance(
         Primary reformer approach to equilibrium [K].
     row : int
         Warm-start rows of the primary's solve (thermo.equilibrium.equilibrate); rows of
-        two ROW_ANCHOR_STEP or more also solve the secondary reformer in two passes
+        twice ROW_STRIDES[0] or more also solve the secondary reformer in two passes
         (:func:`_secondary_rows`).
     secondary_guess : array_like (N,), optional
         First estimates of the secondary reformer's outlet temperature [K] (NaN where none;
@@ -304,7 +322,7 @@ def train_balance(
     slip = bal.methane_slip_dry
     sec = train.secondary_reformer
     if sec is not None:
-        if secondary_guess is None and row >= 2 * ROW_ANCHOR_STEP and N % row == 0:
+        if secondary_guess is None and row >= 2 * ROW_STRIDES[0] and N % row == 0:
             T_sec, eq, ok, ox, H_in = _secondary_rows(sec, gas, T_gas, P, hc,
                                                       bal.element_potentials, row)
         else:
