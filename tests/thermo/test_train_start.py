@@ -134,3 +134,28 @@ def test_edges_with_and_without_the_started_secondary_agree(full):
     for var in ("h2_product", "train_duty", "train_methane_slip_dry"):
         np.testing.assert_allclose(started[var].values, plain[var].values, rtol=1e-9,
                                    err_msg=var)
+
+
+@pytest.mark.parametrize("accept", [0.0, 1e-4, 50.0])
+def test_a_short_last_step_gives_the_same_outlet(full, accept):
+    """Ending a point's iteration on a short step without solving at its end (accept_step)
+    gives the outlet of a solve after every step (0) to SAME_OUTLET_K, and the balance closes
+    (1e-9 of the inlet enthalpy); with an absurd 50 K the balance check at the outlet catches
+    the unfinished points and the bracketed solve finishes them: the same outlets again."""
+    from thermo.balances import enthalpy_flow
+    from thermo.train import adiabatic_equilibrium
+
+    feed, T, P = _rows(full, 6)
+    sec = SecondaryReformer("air", 0.3, 823.15, 0.0)
+    ox = sec.oxidant_flows(full.feed.carbon_flow() * np.ones(T.size)).T
+    gas = feed + ox
+    H = enthalpy_flow(feed, T) + enthalpy_flow(ox, np.full(T.size, 823.15))
+    ref, _, ok0 = adiabatic_equilibrium(gas, H, P, 0.0, bounds=(T - 400.0, 3000.0), guess=T,
+                                        accept_step=0.0)
+    t, eq, ok = adiabatic_equilibrium(gas, H, P, 0.0, bounds=(T - 400.0, 3000.0), guess=T,
+                                      accept_step=accept)
+    assert ok0.all() and ok.all()
+    np.testing.assert_allclose(t, ref, rtol=0, atol=SAME_OUTLET_K)
+    from thermo.balances import outlet_enthalpy
+
+    assert np.all(np.abs(outlet_enthalpy(eq.moles, eq.carbon, t, P) - H) <= 1e-9 * np.abs(H))
