@@ -189,12 +189,33 @@ def row_passes(row: int, strides=None) -> list[np.ndarray]:
     return passes
 
 
+def _row_potentials(lam, ok, W, solved, cols, base, row: int) -> np.ndarray:
+    """First element potentials of the columns `cols` of every row: the cubic along the row
+    (weights `W`, cols x solved) through the solved outlets' potentials `lam` (N, E), and the
+    nearest solved outlet's where one of the cubic's nodes did not converge (NaN where that
+    one did not either)."""
+    rows = base.shape[0]
+    E = lam.shape[1]
+    lam_s = lam.reshape(rows, row, E)[:, solved]
+    bad_s = ~ok.reshape(rows, row)[:, solved]
+    lam_s = np.where(bad_s[..., None], 0.0, lam_s)
+    out = np.einsum("cs,rse->rce", W, lam_s)
+    bad = (bad_s.astype(float) @ (W != 0).T) > 0  # (rows, cols)
+    if bad.any():
+        nearest = solved[np.abs(cols[:, None] - solved[None, :]).argmin(axis=1)]
+        src = base + nearest  # (rows, cols)
+        near = np.where(ok[src][..., None], lam[src], np.nan)
+        out[bad] = near[bad]
+    return out.reshape(-1, E)
+
+
 def _secondary_rows(sec: SecondaryReformer, gas, T_gas, P, hc_carbon, warm_start, row: int):
     """:func:`_secondary` on rows of `row` neighbouring points (a window's last axis), in
     passes (:func:`row_passes`): the first from the primary's temperature, each later one from
     the cubic along the row through the outlets already found (its first solve from the
-    nearest such outlet's element potentials). The outlets are those of a single pass to the
-    energy balance's tolerance (ADIABATIC_TOLERANCE), with fewer equilibrium solves."""
+    cubic through their element potentials, :func:`_row_potentials`). The outlets are those
+    of a single pass to the energy balance's tolerance (ADIABATIC_TOLERANCE), with fewer
+    equilibrium solves."""
     N = gas.shape[0]
     rows = N // row
     base = (np.arange(rows) * row)[:, None]
@@ -212,10 +233,8 @@ def _secondary_rows(sec: SecondaryReformer, gas, T_gas, P, hc_carbon, warm_start
             _, W = _row_weights(row, solved)
             W = W[np.searchsorted(np.setdiff1d(np.arange(row), solved), cols)]
             kw["guess"] = (T.reshape(rows, row)[:, solved] @ W.T).ravel()
-            nearest = solved[np.abs(cols[:, None] - solved[None, :]).argmin(axis=1)]
-            src = (base + nearest).ravel()
-            kw["outlet_potentials"] = np.where(ok[src, None],
-                                               fields["element_potentials"][src], np.nan)
+            kw["outlet_potentials"] = _row_potentials(fields["element_potentials"], ok, W,
+                                                      solved, cols, base, row)
         t, eq, o, x, h = _secondary(sec, gas[idx], T_gas[idx], P[idx], hc_carbon[idx],
                                     None if lam is None else lam[idx], **kw)
         T[idx], ok[idx], ox[idx], H_in[idx] = t, o, x, h
