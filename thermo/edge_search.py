@@ -8,8 +8,8 @@ step. This module holds the narrowing:
   steps, the same for all brackets of a uniform grid).
 * ``"illinois"``: each bracket's next point is where the straight line through the limit's
   margins at its two ends crosses zero (regula falsi), with the Illinois change (the margin
-  kept at an end that stays twice in a row is halved, so both ends close in; Dowell and
-  Jarratt, BIT 11 (1971) 168-174), never nearer than 0.45 of the tolerance to an end (so a
+  kept at an end that stays twice in a row is halved, so both ends close in;
+  [DOWELL-JARRATT1971]), never nearer than 0.45 of the tolerance to an end (so a
   point that lands next to the crossing closes the bracket at the next step), and a plain
   halving where the margins are not finite (the ``converged`` verdict has none) or where two
   steps did not halve the bracket. Brackets narrower than the tolerance drop out of the batch.
