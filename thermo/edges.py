@@ -6,10 +6,11 @@ from), so every number here equals :func:`thermo.point` at the same coordinates.
 
 * :func:`feasible_intervals` finds, for every row of the window (one pressure, one
   steam-to-carbon ratio, one co-feed ratio), the temperatures where each review limit is
-  met exactly, by bisection between grid nodes on the core's values (all rows in one batch
-  per step), and returns the feasible set of the row as a union of exact temperature
-  intervals. :func:`with_edges` stores them in the Dataset as ``feasible_t_low`` /
-  ``feasible_t_high`` [K] over an ``interval`` dimension.
+  met exactly, by Illinois false position (or bisection) between grid nodes on the core's
+  values (all rows in one batch per step, thermo.edge_search), and returns the feasible set
+  of the row as a union of exact temperature intervals. :func:`with_edges` stores them in
+  the Dataset as ``feasible_t_low`` / ``feasible_t_high`` [K] over an ``interval``
+  dimension.
 * :func:`best_point` refines the best feasible grid node of an objective (a small registry,
   :data:`OBJECTIVES`) with ``scipy.optimize.minimize`` (SLSQP, bounded, the review limits as
   inequality constraints).
@@ -29,7 +30,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import xarray as xr
 
-from thermo import carbon
+from thermo import carbon, edge_search
 from thermo.scenario import Limits, Scenario
 from thermo.sweep import (
     _CARBON_LOCAL,
@@ -40,6 +41,10 @@ from thermo.sweep import (
 #: Edges are located to this width [K] (the reported edge is the middle of the last bracket,
 #: so it lies within half of it of the true crossing).
 EDGE_TOLERANCE_K = 0.1
+#: How the edges' brackets are narrowed by default (thermo.edge_search.METHODS): Illinois
+#: false position, which agrees with bisection to EDGE_TOLERANCE_K on every edge of the demo
+#: and hydrogen-plant scenarios (tests/thermo/test_edge_methods.py) with fewer solves.
+EDGE_METHOD = "illinois"
 #: Edges along steam-to-carbon are located to this width [mol per mol].
 EDGE_TOLERANCE_SC = 1e-3
 
@@ -151,7 +156,8 @@ def _ok_fields(ds: xr.Dataset, limits: Limits) -> dict[str, xr.DataArray]:
 
 
 def evaluate(scenario: Scenario, temperature, pressure, steam_to_carbon=None,
-             oxygen_to_carbon=None, co2_to_carbon=None, *, path_nodes=None) -> xr.Dataset:
+             oxygen_to_carbon=None, co2_to_carbon=None, *, path_nodes=None,
+             secondary_guess=None) -> xr.Dataset:
     """The Dataset's per-point variables at N arbitrary points, over a ``point`` dimension.
 
     Parameters
@@ -168,6 +174,9 @@ def evaluate(scenario: Scenario, temperature, pressure, steam_to_carbon=None,
         (:func:`thermo.carbon.path_from_nodes`), and where that applies (bool; elsewhere the
         point's path is solved on its own). Without it every point's carbon path is solved on
         its own (:func:`thermo.carbon.points_check`).
+    secondary_guess : array_like, optional
+        First estimates of the secondary reformer's outlet temperature [K], one per point
+        (NaN where none): a start for its energy balance, not a different answer.
 
     Returns
     -------
@@ -188,7 +197,9 @@ def evaluate(scenario: Scenario, temperature, pressure, steam_to_carbon=None,
     n_in = scenario.feed.inlet_flows(ratio(steam_to_carbon), ratio(oxygen_to_carbon),
                                      ratio(co2_to_carbon))
     n_in = np.broadcast_to(n_in.reshape(n_in.shape[0], -1).T, (T.size, n_in.shape[0]))
-    res = train_results(scenario, np.ascontiguousarray(n_in), T, P)
+    guess = None if secondary_guess is None else \
+        np.broadcast_to(np.asarray(secondary_guess, dtype=float), shape).ravel()
+    res = train_results(scenario, np.ascontiguousarray(n_in), T, P, secondary_guess=guess)
     local = {k[len(_CARBON_LOCAL):]: res.pop(k) for k in list(res)
              if k.startswith(_CARBON_LOCAL)}
     if path_nodes is None:
@@ -257,14 +268,14 @@ class RowEdges:
 
 
 def _row_points(scenario: Scenario, row_coords: dict[str, np.ndarray], rows: np.ndarray,
-                T: np.ndarray, path_nodes=None) -> xr.Dataset:
+                T: np.ndarray, path_nodes=None, secondary_guess=None) -> xr.Dataset:
     """The core at temperatures `T` on rows `rows` (flat row indexes)."""
     shape = tuple(len(v) for v in row_coords.values())
     idx = np.unravel_index(rows, shape) if shape else ()
     coords = {d: row_coords[d][i] for d, i in zip(row_coords, idx, strict=True)}
     return evaluate(scenario, T, coords["pressure"], coords.get("steam_to_carbon"),
                     coords.get("oxygen_to_carbon"), coords.get("co2_to_carbon"),
-                    path_nodes=path_nodes)
+                    path_nodes=path_nodes, secondary_guess=secondary_guess)
 
 
 #: The Dataset's path maxima per carbon of thermo.carbon.offsets: (ln activity variable
@@ -297,6 +308,19 @@ def _path_nodes(scenario: Scenario, ds: xr.Dataset, row_dims, rows, steps, T):
     return T[steps], below, above, extend
 
 
+def _subset_nodes(path_nodes, idx: np.ndarray):
+    """The path nodes of :func:`_path_nodes` for the brackets `idx` (None stays None)."""
+    if path_nodes is None:
+        return None
+    T_below, below, above, extend = path_nodes
+
+    def part(ms):
+        return [carbon.PathMaximum(m.ln_activity[..., idx], m.temperature[..., idx])
+                for m in ms]
+
+    return T_below[idx], part(below), part(above), extend[idx]
+
+
 def _curvature_warning(g: np.ndarray, T: np.ndarray) -> np.ndarray:
     """(rows,) True where the parabola through three neighbouring nodes of `g` (rows, nT)
     changes sign twice inside a step whose two end nodes have the same sign."""
@@ -321,7 +345,8 @@ def _curvature_warning(g: np.ndarray, T: np.ndarray) -> np.ndarray:
 
 
 def feasible_intervals(scenario: Scenario, ds: xr.Dataset,
-                       tolerance: float = EDGE_TOLERANCE_K) -> RowEdges:
+                       tolerance: float = EDGE_TOLERANCE_K,
+                       method: str = EDGE_METHOD) -> RowEdges:
     """Exact feasible temperature intervals of every row of a sweep.
 
     Parameters
@@ -332,6 +357,9 @@ def feasible_intervals(scenario: Scenario, ds: xr.Dataset,
         Its sweep (thermo.sweep).
     tolerance : float
         Width of the last bracket of each edge [K].
+    method : {"bisect", "illinois"}
+        How the brackets are narrowed (:mod:`thermo.edge_search`); both give the edge to
+        half of `tolerance`.
 
     Returns
     -------
@@ -340,9 +368,10 @@ def feasible_intervals(scenario: Scenario, ds: xr.Dataset,
     Notes
     -----
     Each limit is treated on its own: between two neighbouring grid nodes where a limit's
-    verdict differs, its edge is bracketed and bisected on the core's values (all brackets of
-    the window advance together, one batch of the core per step; about
-    ``log2(step / tolerance)`` steps). A row's feasible set is then the intersection of the
+    verdict differs, its edge is bracketed and narrowed on the core's values (all brackets of
+    the window advance together, one batch of the core per step; bisection takes about
+    ``log2(step / tolerance)`` steps, Illinois false position fewer, on the limits'
+    margins). A row's feasible set is then the intersection of the
     limits' feasible sets, so a band narrower than the grid step (one limit's edge and
     another's inside the same step) is found as a band. A limit crossed twice inside one
     step is not seen by its nodes; :attr:`RowEdges.grid_warning` flags where the quadratic
@@ -371,15 +400,37 @@ def feasible_intervals(scenario: Scenario, ds: xr.Dataset,
     ok_all = np.stack([ok[n] for n in names]) if names else np.zeros((0, 1, 1), dtype=bool)
     ok_lo = ok_all[lim_i, row_i, step_i].astype(bool)
     path_nodes = _path_nodes(scenario, ds, row_dims, row_i, step_i, T)
-    while lo.size and float(np.max(hi - lo)) > tolerance:
-        mid = 0.5 * (lo + hi)
-        pts = _row_points(scenario, row_coords, row_i, mid, path_nodes)
+    # The secondary reformer's outlet at each bracket's ends (the grid's, then the refined
+    # points'): the straight line between them starts its energy balance at the next point.
+    sec_var = "secondary_temperature"
+    if sec_var in ds and lo.size:
+        t_sec = np.asarray(ds[sec_var].transpose(*row_dims, "temperature").values,
+                           dtype=float).reshape(-1, T.size)
+        sec_lo, sec_hi = t_sec[row_i, step_i], t_sec[row_i, step_i + 1]
+    else:
+        sec_lo = sec_hi = None
+    # Each limit's margin at the bracket ends (NaN for ``converged``, which has none).
+    margin_nodes = {k: np.asarray(v.transpose(*row_dims, "temperature").values,
+                                  dtype=float).reshape(-1, T.size)
+                    for k, v in limit_margins(ds, limits).items()}
+    g_all = np.stack([margin_nodes.get(n, np.full((R, T.size), np.nan)) for n in names]) \
+        if names else np.zeros((0, 1, 1))
+    g_lo, g_hi = g_all[lim_i, row_i, step_i], g_all[lim_i, row_i, step_i + 1]
+
+    def probe(idx, t, guess):
+        pts = _row_points(scenario, row_coords, row_i[idx], t,
+                          _subset_nodes(path_nodes, idx), guess)
         okp = _ok_fields(pts, limits)
+        mp = {k: np.asarray(v.values, dtype=float) for k, v in limit_margins(pts, limits).items()}
+        k = lim_i[idx]
+        j = np.arange(idx.size)
         okarr = np.stack([np.asarray(okp[n].values, dtype=bool) for n in names])
-        okm = okarr[lim_i, np.arange(lim_i.size)]
-        go_up = okm == ok_lo
-        lo = np.where(go_up, mid, lo)
-        hi = np.where(go_up, hi, mid)
+        garr = np.stack([mp.get(n, np.full(idx.size, np.nan)) for n in names])
+        sec = np.asarray(pts[sec_var].values, dtype=float) if sec_var in pts else None
+        return okarr[k, j], garr[k, j], sec
+
+    lo, hi = edge_search.refine(probe, lo, hi, ok_lo, g_lo, g_hi, tolerance, method,
+                                sec_lo, sec_hi)
     edge_T = 0.5 * (lo + hi)
     # Per row: the edges of each limit, then the intersection of the limits' feasible sets.
     edge_of = {}  # (name, row, step) -> temperature
@@ -432,15 +483,15 @@ LIMIT_DEPENDENT = ("feasible", "feasible_t_low", "feasible_t_high", "feasible_in
 
 
 def with_edges(scenario: Scenario, ds: xr.Dataset,
-               tolerance: float = EDGE_TOLERANCE_K) -> xr.Dataset:
+               tolerance: float = EDGE_TOLERANCE_K, method: str = EDGE_METHOD) -> xr.Dataset:
     """`ds` with the exact feasible intervals of every row added.
 
     Adds ``feasible_t_low`` and ``feasible_t_high`` [K] over the row dims and ``interval``
     (NaN where a row has fewer intervals, all NaN where it has none), ``feasible_intervals``
     (count per row) and ``feasible_grid_warning`` (bool per row, see
-    :func:`feasible_intervals`).
+    :func:`feasible_intervals`); `method` narrows the brackets (:mod:`thermo.edge_search`).
     """
-    re = feasible_intervals(scenario, ds, tolerance)
+    re = feasible_intervals(scenario, ds, tolerance, method)
     R = len(re.intervals)
     M = max(1, max((len(v) for v in re.intervals), default=0))
     low = np.full((R, M), np.nan)

@@ -184,11 +184,14 @@ def solve_chunk(scenario: Scenario, start: int, stop: int) -> dict[str, np.ndarr
     return train_results(scenario, n_in, T, P, row=row)
 
 
-def train_results(scenario: Scenario, n_in, T, P, row: int = 1) -> dict[str, np.ndarray]:
+def train_results(scenario: Scenario, n_in, T, P, row: int = 1,
+                  secondary_guess=None) -> dict[str, np.ndarray]:
     """The Dataset's per-point variables at N points of a scenario (its feed temperature,
-    approach and train), flat arrays over the points; :func:`thermo.point` uses the same."""
+    approach and train), flat arrays over the points; :func:`thermo.point` uses the same.
+    `secondary_guess`: first estimates of the secondary reformer's outlet [K]
+    (:func:`thermo.train.train_balance`)."""
     tr = train_balance(scenario.train, n_in, T, P, scenario.feed.inlet_temperature,
-                       scenario.approach, row=row)
+                       scenario.approach, row=row, secondary_guess=secondary_guess)
     bal = tr.primary
     out = {k: getattr(bal, k) for k in _SCALARS + _PER_SPECIES if k != "product_flow"}
     h2 = bal.outlet_flow[:, GAS_SPECIES.index("H2")]

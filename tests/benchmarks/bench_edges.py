@@ -9,8 +9,11 @@ run each, in this process: the plain sweep (solve and assemble the Dataset, no e
 exact feasible intervals of every row (``thermo.edges.with_edges``), the best point of each
 objective from the best grid nodes (``thermo.best_point``, margins off) and the margins and
 sensitivities at the design point (``thermo.margins``). Each time is also given as a ratio to
-the plain sweep of the same window measured just before it. Figures only: nothing here
-asserts a time.
+the plain sweep of the same window measured just before it. The exact intervals are timed
+with both ways of narrowing the brackets (``method="bisect"`` and ``"illinois"``,
+thermo.edge_search), ``--repeat`` interleaved runs of each (default 5), medians and their
+ratio, with the largest difference of their edges. Figures only: nothing here asserts a
+time.
 """
 
 from __future__ import annotations
@@ -22,10 +25,13 @@ ROOT = Path(__file__).resolve().parents[2]
 if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
+import argparse  # noqa: E402
 import os  # noqa: E402
 import platform  # noqa: E402
 import time  # noqa: E402
 from datetime import UTC, datetime  # noqa: E402
+
+import numpy as np  # noqa: E402
 
 import thermo  # noqa: E402
 from tests.benchmarks.common import code_version  # noqa: E402
@@ -53,7 +59,23 @@ def timed(f):
     return out, time.perf_counter() - t
 
 
+def edge_difference(a, b) -> float:
+    """Largest difference of two RowEdges' edges [K] (inf where their counts differ)."""
+    worst = 0.0
+    for name in a.edges:
+        for ea, eb in zip(a.edges[name], b.edges[name], strict=True):
+            if len(ea) != len(eb):
+                return float("inf")
+            if ea:
+                worst = max(worst, float(np.max(np.abs(np.subtract(ea, eb)))))
+    return worst
+
+
 def main() -> None:
+    ap = argparse.ArgumentParser()
+    ap.add_argument("--repeat", type=int, default=5,
+                    help="interleaved timings of each edge method; medians reported")
+    a = ap.parse_args()
     print(f"bench_edges {datetime.now(UTC):%Y-%m-%d %H:%M} UTC, {platform.node()}, "
           f"{os.cpu_count()} CPUs, load {os.getloadavg()[0]:.2f}")
     print(code_version())
@@ -63,11 +85,26 @@ def main() -> None:
         sc = base if window is None else base.with_window(**window)
         ds, t_sweep = timed(lambda sc=sc: plain_sweep(sc))
         ds["feasible"] = thermo.sweep.__globals__["feasible_mask"](ds, sc.limits)
+        times = {m: [] for m in ("bisect", "illinois")}
+        found = {}
+        for _ in range(max(a.repeat, 1)):  # interleaved, so both share the machine's load
+            for m in times:
+                found[m], t = timed(lambda sc=sc, ds=ds, m=m: edges.feasible_intervals(
+                    sc, ds, method=m))
+                times[m].append(t)
+        med = {m: float(np.median(v)) for m, v in times.items()}
         ds, t_edges = timed(lambda sc=sc, ds=ds: edges.with_edges(sc, ds))
         n_iv = int(ds["feasible_intervals"].sum())
         print(f"{name}: {sc.window.size():,} points; plain sweep {t_sweep:.2f} s")
-        print(f"  exact intervals of {ds['feasible_intervals'].size} rows ({n_iv} intervals): "
-              f"{t_edges:.2f} s = {t_edges / t_sweep:.2f} x the sweep")
+        print(f"  exact intervals of {ds['feasible_intervals'].size} rows ({n_iv} intervals, "
+              f"default {edges.EDGE_METHOD}): {t_edges:.2f} s = {t_edges / t_sweep:.2f} x "
+              "the sweep")
+        for m, v in times.items():
+            print(f"    {m}: median {med[m]:.3f} s of {len(v)} "
+                  f"({', '.join(f'{x:.3f}' for x in v)})")
+        print(f"    bisect / illinois time ratio (medians): {med['bisect'] / med['illinois']:.2f};"
+              f" largest edge difference {edge_difference(found['bisect'], found['illinois']):.3f}"
+              " K")
         for obj in edges.objectives_for(sc):
             bp, t = timed(lambda sc=sc, ds=ds, obj=obj: thermo.best_point(
                 sc, obj, ds=ds, with_margins=False))

@@ -11,7 +11,16 @@ Run on its own (not collected by pytest)::
     on a random sample of the same inlets; the sample also gives the largest outlet
     temperature difference.
 (b) Whole sweeps of the same window: the demo scenario alone, and with the four-stage train
-    of tests/thermo/test_train.py, so the train's cost shows as a ratio.
+    of tests/thermo/test_train.py, so the train's cost shows as a ratio (``--repeat``
+    interleaved runs of each, default 3; the ratio of the medians, of wall time and of the
+    process's CPU time). The pre-reformer's
+    outlets kept by earlier sweeps of the process (thermo.train._PRE_CACHE) are dropped
+    before each run, so every run pays for its own.
+
+(c) The equilibrium solves of one sweep of each (points sent to
+    ``thermo.equilibrium.equilibrate`` by the balances, the train's stages and the carbon
+    path, and the solver's Newton iterations summed over them): a count that the machine's
+    load does not move.
 
 Figures only: nothing here asserts a time.
 """
@@ -26,11 +35,13 @@ if str(ROOT) not in sys.path:
     sys.path.insert(0, str(ROOT))
 
 import argparse  # noqa: E402
+import os  # noqa: E402
 import time  # noqa: E402
 
 import numpy as np  # noqa: E402
 
 import thermo  # noqa: E402
+import thermo.train  # noqa: E402
 from tests.benchmarks.common import code_version  # noqa: E402
 from tests.thermo import cantera_ref  # noqa: E402
 from tests.thermo.test_train import FULL_TRAIN  # noqa: E402
@@ -52,9 +63,37 @@ def _cantera_hp(moles, H, P):
     return g.T
 
 
+def count_solves(scenario) -> tuple[int, int]:
+    """(points, solver iterations) sent to the equilibrium solver by one sweep."""
+    import importlib
+
+    mods = [importlib.import_module(m) for m in
+            ("thermo.balances", "thermo.carbon_path", "thermo.train_stages")]
+    orig = mods[0].equilibrate
+    seen = [0, 0]
+
+    def counted(T, *args, **kw):
+        out = orig(T, *args, **kw)
+        seen[0] += int(np.size(out.iterations))
+        seen[1] += int(np.sum(out.iterations))
+        return out
+
+    for m in mods:
+        m.equilibrate = counted
+    try:
+        thermo.train._PRE_CACHE.clear()
+        thermo.sweep(scenario)
+    finally:
+        for m in mods:
+            m.equilibrate = orig
+    return seen[0], seen[1]
+
+
 def main() -> None:
     ap = argparse.ArgumentParser()
     ap.add_argument("--sample", type=int, default=300)
+    ap.add_argument("--repeat", type=int, default=3,
+                    help="interleaved timings of each sweep in (b); medians reported")
     a = ap.parse_args()
     print(code_version())
     sc = thermo.load_scenario().with_window(**WINDOW)
@@ -91,17 +130,30 @@ def main() -> None:
           f"{np.abs(T_out[pick] - T_ct).max():.2e} K")
     train_sc = parse_scenario(sc.to_toml() + FULL_TRAIN)
     thermo.sweep(train_sc.with_window(temperature=("800 degC", "900 degC", 3)))  # warm
-    times = {}
-    for name, s in (("primary only", sc), ("four-stage train", train_sc)):
-        t0 = time.perf_counter()
-        ds = thermo.sweep(s)
-        times[name] = time.perf_counter() - t0
-        print(f"(b) sweep, {name}: {ds['converged'].size:,} points in {times[name]:.2f} s "
-              f"({ds['converged'].size / times[name]:,.0f} points/s), converged "
-              f"{float(ds['converged'].mean()):.4f}")
-    ratio = times["four-stage train"] / times["primary only"]
-    print(f"    train / primary time ratio: {ratio:.1f}")
-
+    times = {"primary only": [], "four-stage train": []}
+    cpu = {name: [] for name in times}
+    for _ in range(max(a.repeat, 1)):  # interleaved, so that both share the machine's load
+        for name, s in (("primary only", sc), ("four-stage train", train_sc)):
+            thermo.train._PRE_CACHE.clear()
+            t0, c0 = time.perf_counter(), time.process_time()
+            ds = thermo.sweep(s)
+            times[name].append(time.perf_counter() - t0)
+            cpu[name].append(time.process_time() - c0)
+            conv = float(ds["converged"].mean())
+    for name, ts in times.items():
+        t = float(np.median(ts))
+        print(f"(b) sweep, {name}: 16,000 points in {t:.2f} s median of {len(ts)} "
+              f"({16000 / t:,.0f} points/s; each run {', '.join(f'{x:.2f}' for x in ts)})")
+    print(f"    converged (train): {conv:.4f}; load average {os.getloadavg()[0]:.1f}")
+    ratio = np.median(times["four-stage train"]) / np.median(times["primary only"])
+    print(f"    train / primary time ratio (medians): {ratio:.2f}")
+    counts = {name: count_solves(s) for name, s in (("primary only", sc),
+                                                    ("four-stage train", train_sc))}
+    for name, (pts, its) in counts.items():
+        print(f"(c) equilibrium solves, {name}: {pts:,} points, {its:,} solver iterations")
+    ratio = np.median(cpu["four-stage train"]) / np.median(cpu["primary only"])
+    print(f"    train / primary CPU-time ratio (medians, this process's CPU time, less "
+          f"sensitive to other load): {ratio:.2f}")
 
 if __name__ == "__main__":
     main()
