@@ -345,7 +345,11 @@ def sweep(
             done += b - a
             if progress is not None:
                 progress(done, n)
-    return apply_limits(scenario, assemble(scenario, results))
+    from thermo.edges import with_edges
+
+    # assemble() already holds this scenario's grid mask: only the exact intervals remain
+    # (apply_limits would copy the Dataset and compute the same mask again).
+    return with_edges(scenario, assemble(scenario, results))
 
 
 def _solve_distributed(scenario, chunks, workers, scheduler, progress, n):
@@ -387,39 +391,40 @@ def assemble(scenario: Scenario, results: list[dict[str, np.ndarray]]) -> xr.Dat
     local = {k[len(_CARBON_LOCAL):]: flat.pop(k) for k in list(flat)
              if k.startswith(_CARBON_LOCAL)}
     flat.update(carbon.window_check(scenario, local, axes))
+    # Each variable's attrs go in with its data (dims, values, attrs): no DataArray is built
+    # per variable to set them afterwards.
+    attrs = {k: {"units": u, "long_name": ln} for k, (u, ln) in _VARIABLES.items()}
+    attrs.update({k: {"units": u, "long_name": ln}
+                  for k, (_, u, ln) in {**PLANT_VARIABLES, **STAGE_VARIABLES}.items()})
+    attrs["carbon_verdict_ln_activity"] = dict(attrs.get("carbon_verdict_ln_activity", {}),
+                                               reference=scenario.carbon.reference)
+    attrs["carbon_binding"] = dict(attrs.get("carbon_binding", {}),
+                                   flag_values=np.arange(len(carbon.BINDING), dtype=np.int8),
+                                   flag_meanings=" ".join(carbon.BINDING))
     data_vars = {}
     for k, v in flat.items():
+        a = attrs.get(k, {})
         if k in PLANT_CONSTANTS:
-            data_vars[k] = ((), v[0])
+            data_vars[k] = ((), v[0], a)
         elif k in _PER_SPECIES:
-            data_vars[k] = (dims + ["species"], v.reshape(shape + (len(GAS_SPECIES),)))
+            data_vars[k] = (dims + ["species"], v.reshape(shape + (len(GAS_SPECIES),)), a)
         elif k in STAGE_VARIABLES:
             extra = ["stage"] + (["species"] if v.ndim == 3 else [])
-            data_vars[k] = (dims + extra, v.reshape(shape + v.shape[1:]))
+            data_vars[k] = (dims + extra, v.reshape(shape + v.shape[1:]), a)
         else:
-            data_vars[k] = (dims, v.reshape(shape))
+            data_vars[k] = (dims, v.reshape(shape), a)
     ratio_dims = [d for d in dims if d in RATIO_AXES]
     inlet = _inlet_by_ratio(scenario, axes)
-    data_vars["inlet_flow"] = (ratio_dims + ["species"], inlet)
+    data_vars["inlet_flow"] = (ratio_dims + ["species"], inlet, attrs["inlet_flow"])
     flat_in = inlet.reshape(-1, len(GAS_SPECIES))
     h_feed = enthalpy_flow(flat_in, np.full(len(flat_in), scenario.feed.inlet_temperature))
-    data_vars["feed_enthalpy"] = (ratio_dims, h_feed.reshape(inlet.shape[:-1]))
+    data_vars["feed_enthalpy"] = (ratio_dims, h_feed.reshape(inlet.shape[:-1]),
+                                  attrs["feed_enthalpy"])
     coords = {d: axes[d] for d in dims}
     coords["species"] = np.array(GAS_SPECIES, dtype=object)
     if "stage_duty" in flat:
         coords["stage"] = np.array(scenario.train.stages(), dtype=object)
     ds = xr.Dataset(data_vars, coords=coords)
-    for k, (u, ln) in _VARIABLES.items():
-        if k in ds:
-            ds[k].attrs = {"units": u, "long_name": ln}
-    for k, (_, u, ln) in {**PLANT_VARIABLES, **STAGE_VARIABLES}.items():
-        if k in ds:
-            ds[k].attrs = {"units": u, "long_name": ln}
-    ds["converged"].attrs = {"units": "1", "long_name": _VARIABLES["converged"][1]}
-    ds["carbon_verdict_ln_activity"].attrs["reference"] = scenario.carbon.reference
-    ds["carbon_binding"].attrs.update(
-        flag_values=np.arange(len(carbon.BINDING), dtype=np.int8),
-        flag_meanings=" ".join(carbon.BINDING))
     coord_attrs = {
         "temperature": ("K", "reformer outlet temperature"),
         "pressure": ("Pa", "reformer outlet pressure, absolute"),
