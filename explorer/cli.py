@@ -162,9 +162,10 @@ def _load_proposal(path: str | None, base):
 def _cmd_export(args: argparse.Namespace) -> int:
     import thermo
     from explorer.export import write_review
+    from explorer.state import check_window_size
     from thermo.sweep import sweep
 
-    sc = thermo.load_scenario(args.scenario)
+    sc = check_window_size(thermo.load_scenario(args.scenario), "a review file")
     proposal = _load_proposal(args.compare, sc)
     out = _output_path(args.output, ".html")
     _kernel_notice(sc.window.size())

@@ -27,12 +27,14 @@ from thermo.sweep import SweepCache
 APP_MAX_POINTS = 300_000
 
 
-def check_window_size(sc: Scenario) -> Scenario:
-    """Refuse a window too large for an interactive session, with what to do instead."""
+def check_window_size(sc: Scenario, where: str = "the app") -> Scenario:
+    """Refuse a window too large for an interactive session or a review file (`where`),
+    with what to do instead: the whole window lives in one process there, while
+    `explorer grid` writes it block by block."""
     n = sc.window.size()
     if n > APP_MAX_POINTS:
         raise InputError("window", f"{n:,} points",
-                         f"at most {APP_MAX_POINTS:,} points in the app; solve larger windows "
+                         f"at most {APP_MAX_POINTS:,} points in {where}; solve larger windows "
                          "with 'explorer grid' and study the NetCDF file")
     return sc
 

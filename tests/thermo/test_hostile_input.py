@@ -58,3 +58,21 @@ def test_app_refuses_a_window_too_large_for_a_session():
     assert sc.window.size() > APP_MAX_POINTS
     with pytest.raises(InputError, match="explorer grid"):
         check_window_size(sc)
+
+
+def test_review_file_refuses_a_window_too_large_for_one_process(tmp_path, capsys):
+    """explorer export of a window above APP_MAX_POINTS exits 2 with one line naming the
+    window and pointing to explorer grid, and writes no file (the window limit of scenario
+    files is higher because explorer grid writes block by block)."""
+    from thermo import load_scenario
+
+    sc = load_scenario().with_window(temperature=("700 degC", "950 degC", 200),
+                                     pressure=("10 bar", "40 bar", 100),
+                                     steam_to_carbon=(1.0, 5.0, 20))
+    path = tmp_path / "large.toml"
+    path.write_text(sc.to_toml(), "utf-8")
+    out = tmp_path / "review.html"
+    assert main(["export", str(path), "-o", str(out)]) == 2
+    err = capsys.readouterr().err
+    assert "window" in err and "a review file" in err and "explorer grid" in err
+    assert "Traceback" not in err and not out.exists()
