@@ -44,8 +44,7 @@ def _folding(title: str, build, *, opened: bool = False) -> pn.Card:
     sent to the browser, which keeps a page load cheap (the issue of the review room: under
     0.5 s of server time per page). The card's ``unfold()`` opens it from code.
     """
-    card = pn.Card(title=title, collapsed=not opened, sizing_mode="stretch_width",
-                   header_css_classes=["rw-card-header"])
+    card = pn.Card(title=title, collapsed=not opened, sizing_mode="stretch_width")
 
     def fill(*_):
         if not card.objects:
