@@ -134,8 +134,12 @@ def _cmd_grid(args: argparse.Namespace) -> int:
         # Block by block into the file: no process holds the whole window (thermo.chunked).
         info = sweep_to_netcdf(sc, out, workers=args.workers, scheduler=args.scheduler,
                                progress=lambda done, total: bar.update(done - bar.n))
-    except OSError as err:  # cluster unreachable
-        where = args.scheduler or f"{args.workers} local workers"
+    except OSError as err:
+        if err.filename is not None or (args.workers is None and args.scheduler is None):
+            # The file could not be written (a full disk, a folder gone): not the cluster.
+            raise InputError("-o", str(out), "a file that can be written "
+                             f"({err.strerror or err})") from None
+        where = args.scheduler or f"{args.workers} local workers"  # cluster unreachable
         raise InputError("--scheduler" if args.scheduler else "--workers", where,
                          f"a reachable dask cluster ({err})") from None
     finally:

@@ -92,6 +92,29 @@ def test_output_in_a_missing_folder_is_a_user_error(capsys, tmp_path, scenario_f
     assert not target.parent.exists()
 
 
+@pytest.mark.parametrize("cluster", [[], ["--workers", "2"]])
+def test_a_file_that_cannot_be_written_names_the_output_not_the_cluster(
+        capsys, tmp_path, scenario_file, monkeypatch, cluster):
+    """A write failure (here a full disk, raised where the file is written) is a one-line
+    error naming -o and the reason, also with workers: not a report of an unreachable
+    cluster."""
+    import errno
+
+    import thermo.chunked
+
+    target = tmp_path / "g.nc"
+
+    def full_disk(*args, **kwargs):
+        raise OSError(errno.ENOSPC, "No space left on device", str(target))
+
+    monkeypatch.setattr(thermo.chunked, "sweep_to_netcdf", full_disk)
+    if cluster:
+        pytest.importorskip("dask.distributed")
+    code, out, err = run(capsys, "grid", scenario_file, "-o", target, *cluster)
+    assert_one_line_error(code, err, "-o", "No space left on device")
+    assert "cluster" not in err
+
+
 def test_unreachable_scheduler_leaves_the_previous_file(capsys, tmp_path, scenario_file):
     """Port 9 (discard) has no dask scheduler: grid gives up with a one-line error naming the
     address, leaves the previous file and no temporary one, and does so within 60 s (its 20 s
