@@ -31,10 +31,12 @@ import numpy as np
 import xarray as xr
 
 from thermo import carbon, edge_search
+from thermo.equilibrium import ELEMENTS
 from thermo.scenario import Limits, Scenario
 from thermo.sweep import (
     _CARBON_LOCAL,
     LIMIT_VARIABLES,
+    PRIMARY_POTENTIALS,
     train_results,
 )
 
@@ -160,6 +162,19 @@ def evaluate(scenario: Scenario, temperature, pressure, steam_to_carbon=None,
              secondary_guess=None) -> xr.Dataset:
     """The Dataset's per-point variables at N arbitrary points, over a ``point`` dimension.
 
+    See :func:`evaluate_warm` (the same, with warm starts of the primary) for the parameters
+    and the Dataset."""
+    return evaluate_warm(scenario, temperature, pressure, steam_to_carbon, oxygen_to_carbon,
+                         co2_to_carbon, path_nodes=path_nodes,
+                         secondary_guess=secondary_guess)[0]
+
+
+def evaluate_warm(scenario: Scenario, temperature, pressure, steam_to_carbon=None,
+                  oxygen_to_carbon=None, co2_to_carbon=None, *, path_nodes=None,
+                  secondary_guess=None, warm_start=None) -> tuple[xr.Dataset, np.ndarray]:
+    """:func:`evaluate`, each point's primary equilibrium started from `warm_start`, and the
+    primary's converged element potentials.
+
     Parameters
     ----------
     scenario : Scenario
@@ -177,12 +192,19 @@ def evaluate(scenario: Scenario, temperature, pressure, steam_to_carbon=None,
     secondary_guess : array_like, optional
         First estimates of the secondary reformer's outlet temperature [K], one per point
         (NaN where none): a start for its energy balance, not a different answer.
+    warm_start : array_like (N, E), optional
+        Element potentials of nearby solved points (a bracket's previous point) to start
+        each point's primary equilibrium from (thermo.equilibrium.ELEMENTS order; a row with
+        a NaN for an element of the feed starts from the basis guesses): the outlet is the
+        same to the solver's tolerance, in fewer Newton iterations.
 
     Returns
     -------
     xarray.Dataset
         The variables of :func:`thermo.sweep.train_results` (scalars only), with the attrs
         the limit quantities read.
+    ndarray (N, E)
+        The primary's element potentials (NaN for elements absent from the feed).
     """
     arrays = [np.asarray(a, dtype=float) for a in
               (temperature, pressure, steam_to_carbon, oxygen_to_carbon, co2_to_carbon)
@@ -199,7 +221,11 @@ def evaluate(scenario: Scenario, temperature, pressure, steam_to_carbon=None,
     n_in = np.broadcast_to(n_in.reshape(n_in.shape[0], -1).T, (T.size, n_in.shape[0]))
     guess = None if secondary_guess is None else \
         np.broadcast_to(np.asarray(secondary_guess, dtype=float), shape).ravel()
-    res = train_results(scenario, np.ascontiguousarray(n_in), T, P, secondary_guess=guess)
+    start = None if warm_start is None else \
+        np.broadcast_to(np.asarray(warm_start, dtype=float), (T.size, len(ELEMENTS)))
+    res = train_results(scenario, np.ascontiguousarray(n_in), T, P, secondary_guess=guess,
+                        warm_start=start, with_potentials=True)
+    lam = res.pop(PRIMARY_POTENTIALS)
     local = {k[len(_CARBON_LOCAL):]: res.pop(k) for k in list(res)
              if k.startswith(_CARBON_LOCAL)}
     if path_nodes is None:
@@ -222,7 +248,7 @@ def evaluate(scenario: Scenario, temperature, pressure, steam_to_carbon=None,
     ds = xr.Dataset(data, coords={"temperature": ("point", T), "pressure": ("point", P)})
     ds["converged"] = ds["converged"].astype(bool)
     ds.attrs["hydrocarbon_carbon_mol_per_s"] = scenario.feed.carbon_flow()
-    return ds
+    return ds, lam
 
 
 # ---------------------------------------------------------------------------------------------
@@ -268,14 +294,17 @@ class RowEdges:
 
 
 def _row_points(scenario: Scenario, row_coords: dict[str, np.ndarray], rows: np.ndarray,
-                T: np.ndarray, path_nodes=None, secondary_guess=None) -> xr.Dataset:
-    """The core at temperatures `T` on rows `rows` (flat row indexes)."""
+                T: np.ndarray, path_nodes=None, secondary_guess=None,
+                warm_start=None) -> tuple[xr.Dataset, np.ndarray]:
+    """The core at temperatures `T` on rows `rows` (flat row indexes), and the primary's
+    element potentials (:func:`evaluate_warm`)."""
     shape = tuple(len(v) for v in row_coords.values())
     idx = np.unravel_index(rows, shape) if shape else ()
     coords = {d: row_coords[d][i] for d, i in zip(row_coords, idx, strict=True)}
-    return evaluate(scenario, T, coords["pressure"], coords.get("steam_to_carbon"),
-                    coords.get("oxygen_to_carbon"), coords.get("co2_to_carbon"),
-                    path_nodes=path_nodes, secondary_guess=secondary_guess)
+    return evaluate_warm(scenario, T, coords["pressure"], coords.get("steam_to_carbon"),
+                         coords.get("oxygen_to_carbon"), coords.get("co2_to_carbon"),
+                         path_nodes=path_nodes, secondary_guess=secondary_guess,
+                         warm_start=warm_start)
 
 
 #: The Dataset's path maxima per carbon of thermo.carbon.offsets: (ln activity variable
@@ -417,10 +446,17 @@ def feasible_intervals(scenario: Scenario, ds: xr.Dataset,
         if names else np.zeros((0, 1, 1))
     g_lo, g_hi = g_all[lim_i, row_i, step_i], g_all[lim_i, row_i, step_i + 1]
 
+    # The primary's element potentials at each bracket's last solved point (NaN: none yet,
+    # the first step starts from the basis guesses): the next point of the bracket, at most
+    # one grid step away, starts its equilibrium there.
+    potentials = np.full((lo.size, len(ELEMENTS)), np.nan)
+
     def probe(idx, t, guess):
-        pts = _row_points(scenario, row_coords, row_i[idx], t,
-                          _subset_nodes(path_nodes, idx), guess)
+        pts, lam = _row_points(scenario, row_coords, row_i[idx], t,
+                               _subset_nodes(path_nodes, idx), guess, potentials[idx])
         okp = _ok_fields(pts, limits)
+        conv = np.asarray(okp["converged"].values, dtype=bool)
+        potentials[idx] = np.where(conv[:, None], lam, potentials[idx])
         mp = {k: np.asarray(v.values, dtype=float) for k, v in limit_margins(pts, limits).items()}
         k = lim_i[idx]
         j = np.arange(idx.size)

@@ -185,15 +185,23 @@ def solve_chunk(scenario: Scenario, start: int, stop: int) -> dict[str, np.ndarr
 
 
 def train_results(scenario: Scenario, n_in, T, P, row: int = 1,
-                  secondary_guess=None) -> dict[str, np.ndarray]:
+                  secondary_guess=None, *, warm_start=None,
+                  with_potentials: bool = False) -> dict[str, np.ndarray]:
     """The Dataset's per-point variables at N points of a scenario (its feed temperature,
     approach and train), flat arrays over the points; :func:`thermo.point` uses the same.
     `secondary_guess`: first estimates of the secondary reformer's outlet [K]
-    (:func:`thermo.train.train_balance`)."""
+    (:func:`thermo.train.train_balance`). `warm_start` (N, E): element potentials to start
+    the primary's equilibrium from (nearby solved points, NaN rows none; the outlet is the
+    same to the solver's tolerance). With `with_potentials` the primary's converged
+    potentials come back under :data:`PRIMARY_POTENTIALS` (not a Dataset variable: the
+    caller pops it)."""
     tr = train_balance(scenario.train, n_in, T, P, scenario.feed.inlet_temperature,
-                       scenario.approach, row=row, secondary_guess=secondary_guess)
+                       scenario.approach, row=row, secondary_guess=secondary_guess,
+                       warm_start=warm_start)
     bal = tr.primary
     out = {k: getattr(bal, k) for k in _SCALARS + _PER_SPECIES if k != "product_flow"}
+    if with_potentials:
+        out[PRIMARY_POTENTIALS] = bal.element_potentials
     h2 = bal.outlet_flow[:, GAS_SPECIES.index("H2")]
     with np.errstate(divide="ignore", invalid="ignore"):
         out["duty_per_h2"] = np.where(h2 > 0, bal.duty / h2, np.nan)
@@ -219,6 +227,8 @@ def train_results(scenario: Scenario, n_in, T, P, row: int = 1,
     return out
 
 
+#: Key of the primary's element potentials in :func:`train_results` (on request only).
+PRIMARY_POTENTIALS = "_primary_element_potentials"
 #: Prefix of the carbon check's per-point parts in chunk results (not Dataset variables).
 _CARBON_LOCAL = "_carbon_"
 
