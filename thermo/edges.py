@@ -375,7 +375,7 @@ def _curvature_warning(g: np.ndarray, T: np.ndarray) -> np.ndarray:
 
 def feasible_intervals(scenario: Scenario, ds: xr.Dataset,
                        tolerance: float = EDGE_TOLERANCE_K,
-                       method: str = EDGE_METHOD) -> RowEdges:
+                       method: str = EDGE_METHOD, node_potentials=None) -> RowEdges:
     """Exact feasible temperature intervals of every row of a sweep.
 
     Parameters
@@ -389,6 +389,12 @@ def feasible_intervals(scenario: Scenario, ds: xr.Dataset,
     method : {"bisect", "illinois"}
         How the brackets are narrowed (:mod:`thermo.edge_search`); both give the edge to
         half of `tolerance`.
+    node_potentials : array_like (points, E), optional
+        The primary's element potentials at the grid nodes, flat in C order over
+        ``ds["converged"].dims`` (thermo.sweep.solve_chunk's): each bracket's first point
+        starts its equilibrium from its lower node's (without them, from the basis guesses).
+        Later points start from the bracket's last solved point. Starts change the Newton
+        iterations, not the answers beyond the solver's tolerance.
 
     Returns
     -------
@@ -450,6 +456,13 @@ def feasible_intervals(scenario: Scenario, ds: xr.Dataset,
     # the first step starts from the basis guesses): the next point of the bracket, at most
     # one grid step away, starts its equilibrium there.
     potentials = np.full((lo.size, len(ELEMENTS)), np.nan)
+    if node_potentials is not None and lo.size:
+        dims = ds["converged"].dims
+        nodes = np.asarray(node_potentials, dtype=float).reshape(
+            ds["converged"].shape + (len(ELEMENTS),))
+        nodes = np.moveaxis(nodes, dims.index("temperature"), -2).reshape(R, T.size, -1)
+        potentials = np.where(ok["converged"][row_i, step_i][:, None],
+                              nodes[row_i, step_i], np.nan)
 
     def probe(idx, t, guess):
         pts, lam = _row_points(scenario, row_coords, row_i[idx], t,
@@ -519,15 +532,17 @@ LIMIT_DEPENDENT = ("feasible", "feasible_t_low", "feasible_t_high", "feasible_in
 
 
 def with_edges(scenario: Scenario, ds: xr.Dataset,
-               tolerance: float = EDGE_TOLERANCE_K, method: str = EDGE_METHOD) -> xr.Dataset:
+               tolerance: float = EDGE_TOLERANCE_K, method: str = EDGE_METHOD,
+               node_potentials=None) -> xr.Dataset:
     """`ds` with the exact feasible intervals of every row added.
 
     Adds ``feasible_t_low`` and ``feasible_t_high`` [K] over the row dims and ``interval``
     (NaN where a row has fewer intervals, all NaN where it has none), ``feasible_intervals``
     (count per row) and ``feasible_grid_warning`` (bool per row, see
-    :func:`feasible_intervals`); `method` narrows the brackets (:mod:`thermo.edge_search`).
+    :func:`feasible_intervals`); `method` narrows the brackets (:mod:`thermo.edge_search`);
+    `node_potentials` start the brackets' first points (:func:`feasible_intervals`).
     """
-    re = feasible_intervals(scenario, ds, tolerance, method)
+    re = feasible_intervals(scenario, ds, tolerance, method, node_potentials)
     R = len(re.intervals)
     M = max(1, max((len(v) for v in re.intervals), default=0))
     low = np.full((R, M), np.nan)

@@ -163,13 +163,16 @@ def _inlet_by_ratio(scenario: Scenario, axes: dict[str, np.ndarray]) -> np.ndarr
     return np.moveaxis(flows, 0, -1)
 
 
-def solve_chunk(scenario: Scenario, start: int, stop: int) -> dict[str, np.ndarray]:
+def solve_chunk(scenario: Scenario, start: int, stop: int,
+                with_potentials: bool = False) -> dict[str, np.ndarray]:
     """Solve flat window points ``start:stop`` (C order over the window dims).
 
-    Returns a dict of arrays over those points: the per-point and per-species variables.
-    Public so dask workers can run it; it depends only on its arguments. Along the last
-    window axis each point starts from its neighbour's answer (rows of that axis; `start`
-    should be a multiple of its length, which :func:`sweep` ensures).
+    Returns a dict of arrays over those points: the per-point and per-species variables
+    (and, with `with_potentials`, the primary's element potentials under
+    :data:`PRIMARY_POTENTIALS`, which the caller pops before :func:`assemble`). Public so
+    dask workers can run it; it depends only on its arguments. Along the last window axis
+    each point starts from its neighbour's answer (rows of that axis; `start` should be a
+    multiple of its length, which :func:`sweep` ensures).
     """
     axes = window_axes(scenario)
     shape = tuple(len(v) for v in axes.values())
@@ -181,7 +184,7 @@ def solve_chunk(scenario: Scenario, start: int, stop: int) -> dict[str, np.ndarr
     ratio_idx = tuple(idx[names.index(d)] for d in names if d in RATIO_AXES)
     n_in = inlet[ratio_idx]
     row = shape[-1] if start % shape[-1] == 0 else 1
-    return train_results(scenario, n_in, T, P, row=row)
+    return train_results(scenario, n_in, T, P, row=row, with_potentials=with_potentials)
 
 
 def train_results(scenario: Scenario, n_in, T, P, row: int = 1,
@@ -351,15 +354,17 @@ def sweep(
         results = []
         done = 0
         for a, b in chunks:
-            results.append(solve_chunk(scenario, a, b))
+            results.append(solve_chunk(scenario, a, b, True))
             done += b - a
             if progress is not None:
                 progress(done, n)
     from thermo.edges import with_edges
 
+    # The grid's element potentials start the exact edges' first points (thermo.edges).
+    potentials = np.concatenate([r.pop(PRIMARY_POTENTIALS) for r in results])
     # assemble() already holds this scenario's grid mask: only the exact intervals remain
     # (apply_limits would copy the Dataset and compute the same mask again).
-    return with_edges(scenario, assemble(scenario, results))
+    return with_edges(scenario, assemble(scenario, results), node_potentials=potentials)
 
 
 def _solve_distributed(scenario, chunks, workers, scheduler, progress, n):
@@ -373,7 +378,7 @@ def _solve_distributed(scenario, chunks, workers, scheduler, progress, n):
                                host="127.0.0.1", dashboard_address=None)
         client = Client(cluster)
     try:
-        futures = [client.submit(solve_chunk, scenario, a, b, pure=False) for a, b in chunks]
+        futures = [client.submit(solve_chunk, scenario, a, b, True, pure=False) for a, b in chunks]
         index = {f.key: i for i, f in enumerate(futures)}
         results: list = [None] * len(futures)
         done = 0

@@ -20,7 +20,7 @@ import pytest
 import thermo
 import thermo.balances
 from thermo import edges
-from thermo.sweep import LIMIT_VARIABLES
+from thermo.sweep import LIMIT_VARIABLES, PRIMARY_POTENTIALS, _chunks, solve_chunk
 
 ROOT = Path(__file__).resolve().parents[2]
 SCENARIOS = {"demo": None, "ammonia front end": ROOT / "scenarios" / "ammonia-front-end.toml"}
@@ -71,11 +71,16 @@ def test_evaluate_warm_equals_cold(name):
 
 @pytest.mark.parametrize("name", list(SCENARIOS))
 def test_edges_warm_equal_cold(name, monkeypatch):
-    """Every edge of every limit and row with warm starts lies within half of
-    EDGE_TOLERANCE_K of the one with cold starts (same counts), and the warm starts take
+    """Every edge of every limit and row with warm starts (from each bracket's last point;
+    and also the first points from the grid's potentials) lies within half of
+    EDGE_TOLERANCE_K of the one with cold starts (same counts), and each kind of start takes
     fewer Newton iterations per solved point."""
     sc = scenario(name)
     ds = thermo.sweep(sc)
+    n_pts = ds["converged"].size
+    row = ds.sizes[ds["converged"].dims[-1]]
+    chunks = [solve_chunk(sc, a, b, True) for a, b in _chunks(n_pts, max(row, 4096 // row * row))]
+    nodes = np.concatenate([c[PRIMARY_POTENTIALS] for c in chunks])
     iters = []
     solve = thermo.balances.equilibrate
 
@@ -88,6 +93,9 @@ def test_edges_warm_equal_cold(name, monkeypatch):
     warm = edges.feasible_intervals(sc, ds)
     it_warm = np.concatenate(iters)
     iters.clear()
+    grid = edges.feasible_intervals(sc, ds, node_potentials=nodes)  # first points too
+    it_grid = np.concatenate(iters)
+    iters.clear()
     evaluate_warm = edges.evaluate_warm
 
     def cold_only(*a, warm_start=None, **k):
@@ -97,13 +105,19 @@ def test_edges_warm_equal_cold(name, monkeypatch):
     cold = edges.feasible_intervals(sc, ds)
     it_cold = np.concatenate(iters)
     n = 0
-    for lim in cold.edges:
-        for ew, ec in zip(warm.edges[lim], cold.edges[lim], strict=True):
-            assert len(ew) == len(ec), lim
-            if ec:
-                n += len(ec)
-                assert np.abs(np.subtract(ew, ec)).max() <= 0.5 * edges.EDGE_TOLERANCE_K, lim
+    for found in (warm, grid):
+        for lim in cold.edges:
+            for ew, ec in zip(found.edges[lim], cold.edges[lim], strict=True):
+                assert len(ew) == len(ec), lim
+                if ec:
+                    n += len(ec)
+                    assert np.abs(np.subtract(ew, ec)).max() <= 0.5 * edges.EDGE_TOLERANCE_K
+        assert [len(v) for v in found.intervals] == [len(v) for v in cold.intervals]
     assert n > 0
-    assert [len(v) for v in warm.intervals] == [len(v) for v in cold.intervals]
-    assert it_warm.size == it_cold.size
+    assert it_warm.size == it_cold.size == it_grid.size
     assert it_warm.mean() < 0.8 * it_cold.mean()
+    assert it_grid.mean() < 0.8 * it_warm.mean()
+    # thermo.sweep starts its edges from its grid's potentials: the same intervals.
+    for v in ("feasible_t_low", "feasible_t_high"):
+        np.testing.assert_allclose(ds[v].values, edges.with_edges(sc, ds)[v].values,
+                                   rtol=0, atol=0.5 * edges.EDGE_TOLERANCE_K, err_msg=v)
