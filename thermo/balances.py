@@ -223,6 +223,7 @@ def reformer_balance(
     *,
     row: int = 1,
     hydrocarbon_carbon=None,
+    warm_start=None,
 ) -> Balance:
     """Equilibrium outlet and complete balance of N reformer points.
 
@@ -245,6 +246,10 @@ def reformer_balance(
         Carbon in the hydrocarbons of the fresh feed [mol s-1], the basis of the yields and
         the conversion; taken from `inlet_flow` when omitted (give it when the inlet is a
         pre-reformed gas).
+    warm_start : array_like (N, E), optional
+        Element potentials of nearby solved points to start each equilibrium from
+        (thermo.equilibrium.equilibrate; NaN rows start from the basis guesses); the
+        converged outlet is the same to the solver's tolerance.
 
     Returns
     -------
@@ -259,7 +264,7 @@ def reformer_balance(
     T_eq = T - dT
     A = formula_matrix()
     b = n_in @ A
-    eq = equilibrate(T_eq, P, b, row=row)
+    eq = equilibrate(T_eq, P, b, row=row, warm_start=warm_start)
     n_out = eq.moles
     x = n_out / n_out.sum(axis=1, keepdims=True)
     dry = n_out.copy()

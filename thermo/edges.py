@@ -31,10 +31,12 @@ import numpy as np
 import xarray as xr
 
 from thermo import carbon, edge_search
+from thermo.equilibrium import ELEMENTS
 from thermo.scenario import Limits, Scenario
 from thermo.sweep import (
     _CARBON_LOCAL,
     LIMIT_VARIABLES,
+    PRIMARY_POTENTIALS,
     train_results,
 )
 
@@ -160,6 +162,19 @@ def evaluate(scenario: Scenario, temperature, pressure, steam_to_carbon=None,
              secondary_guess=None) -> xr.Dataset:
     """The Dataset's per-point variables at N arbitrary points, over a ``point`` dimension.
 
+    See :func:`evaluate_warm` (the same, with warm starts of the primary) for the parameters
+    and the Dataset."""
+    return evaluate_warm(scenario, temperature, pressure, steam_to_carbon, oxygen_to_carbon,
+                         co2_to_carbon, path_nodes=path_nodes,
+                         secondary_guess=secondary_guess)[0]
+
+
+def evaluate_warm(scenario: Scenario, temperature, pressure, steam_to_carbon=None,
+                  oxygen_to_carbon=None, co2_to_carbon=None, *, path_nodes=None,
+                  secondary_guess=None, warm_start=None) -> tuple[xr.Dataset, np.ndarray]:
+    """:func:`evaluate`, each point's primary equilibrium started from `warm_start`, and the
+    primary's converged element potentials.
+
     Parameters
     ----------
     scenario : Scenario
@@ -177,12 +192,19 @@ def evaluate(scenario: Scenario, temperature, pressure, steam_to_carbon=None,
     secondary_guess : array_like, optional
         First estimates of the secondary reformer's outlet temperature [K], one per point
         (NaN where none): a start for its energy balance, not a different answer.
+    warm_start : array_like (N, E), optional
+        Element potentials of nearby solved points (a bracket's previous point) to start
+        each point's primary equilibrium from (thermo.equilibrium.ELEMENTS order; a row with
+        a NaN for an element of the feed starts from the basis guesses): the outlet is the
+        same to the solver's tolerance, in fewer Newton iterations.
 
     Returns
     -------
     xarray.Dataset
         The variables of :func:`thermo.sweep.train_results` (scalars only), with the attrs
         the limit quantities read.
+    ndarray (N, E)
+        The primary's element potentials (NaN for elements absent from the feed).
     """
     arrays = [np.asarray(a, dtype=float) for a in
               (temperature, pressure, steam_to_carbon, oxygen_to_carbon, co2_to_carbon)
@@ -199,7 +221,11 @@ def evaluate(scenario: Scenario, temperature, pressure, steam_to_carbon=None,
     n_in = np.broadcast_to(n_in.reshape(n_in.shape[0], -1).T, (T.size, n_in.shape[0]))
     guess = None if secondary_guess is None else \
         np.broadcast_to(np.asarray(secondary_guess, dtype=float), shape).ravel()
-    res = train_results(scenario, np.ascontiguousarray(n_in), T, P, secondary_guess=guess)
+    start = None if warm_start is None else \
+        np.broadcast_to(np.asarray(warm_start, dtype=float), (T.size, len(ELEMENTS)))
+    res = train_results(scenario, np.ascontiguousarray(n_in), T, P, secondary_guess=guess,
+                        warm_start=start, with_potentials=True)
+    lam = res.pop(PRIMARY_POTENTIALS)
     local = {k[len(_CARBON_LOCAL):]: res.pop(k) for k in list(res)
              if k.startswith(_CARBON_LOCAL)}
     if path_nodes is None:
@@ -222,7 +248,7 @@ def evaluate(scenario: Scenario, temperature, pressure, steam_to_carbon=None,
     ds = xr.Dataset(data, coords={"temperature": ("point", T), "pressure": ("point", P)})
     ds["converged"] = ds["converged"].astype(bool)
     ds.attrs["hydrocarbon_carbon_mol_per_s"] = scenario.feed.carbon_flow()
-    return ds
+    return ds, lam
 
 
 # ---------------------------------------------------------------------------------------------
@@ -268,14 +294,17 @@ class RowEdges:
 
 
 def _row_points(scenario: Scenario, row_coords: dict[str, np.ndarray], rows: np.ndarray,
-                T: np.ndarray, path_nodes=None, secondary_guess=None) -> xr.Dataset:
-    """The core at temperatures `T` on rows `rows` (flat row indexes)."""
+                T: np.ndarray, path_nodes=None, secondary_guess=None,
+                warm_start=None) -> tuple[xr.Dataset, np.ndarray]:
+    """The core at temperatures `T` on rows `rows` (flat row indexes), and the primary's
+    element potentials (:func:`evaluate_warm`)."""
     shape = tuple(len(v) for v in row_coords.values())
     idx = np.unravel_index(rows, shape) if shape else ()
     coords = {d: row_coords[d][i] for d, i in zip(row_coords, idx, strict=True)}
-    return evaluate(scenario, T, coords["pressure"], coords.get("steam_to_carbon"),
-                    coords.get("oxygen_to_carbon"), coords.get("co2_to_carbon"),
-                    path_nodes=path_nodes, secondary_guess=secondary_guess)
+    return evaluate_warm(scenario, T, coords["pressure"], coords.get("steam_to_carbon"),
+                         coords.get("oxygen_to_carbon"), coords.get("co2_to_carbon"),
+                         path_nodes=path_nodes, secondary_guess=secondary_guess,
+                         warm_start=warm_start)
 
 
 #: The Dataset's path maxima per carbon of thermo.carbon.offsets: (ln activity variable
@@ -346,7 +375,7 @@ def _curvature_warning(g: np.ndarray, T: np.ndarray) -> np.ndarray:
 
 def feasible_intervals(scenario: Scenario, ds: xr.Dataset,
                        tolerance: float = EDGE_TOLERANCE_K,
-                       method: str = EDGE_METHOD) -> RowEdges:
+                       method: str = EDGE_METHOD, node_potentials=None) -> RowEdges:
     """Exact feasible temperature intervals of every row of a sweep.
 
     Parameters
@@ -360,6 +389,12 @@ def feasible_intervals(scenario: Scenario, ds: xr.Dataset,
     method : {"bisect", "illinois"}
         How the brackets are narrowed (:mod:`thermo.edge_search`); both give the edge to
         half of `tolerance`.
+    node_potentials : array_like (points, E), optional
+        The primary's element potentials at the grid nodes, flat in C order over
+        ``ds["converged"].dims`` (thermo.sweep.solve_chunk's): each bracket's first point
+        starts its equilibrium from its lower node's (without them, from the basis guesses).
+        Later points start from the bracket's last solved point. Starts change the Newton
+        iterations, not the answers beyond the solver's tolerance.
 
     Returns
     -------
@@ -417,10 +452,24 @@ def feasible_intervals(scenario: Scenario, ds: xr.Dataset,
         if names else np.zeros((0, 1, 1))
     g_lo, g_hi = g_all[lim_i, row_i, step_i], g_all[lim_i, row_i, step_i + 1]
 
+    # The primary's element potentials at each bracket's last solved point (NaN: none yet,
+    # the first step starts from the basis guesses): the next point of the bracket, at most
+    # one grid step away, starts its equilibrium there.
+    potentials = np.full((lo.size, len(ELEMENTS)), np.nan)
+    if node_potentials is not None and lo.size:
+        dims = ds["converged"].dims
+        nodes = np.asarray(node_potentials, dtype=float).reshape(
+            ds["converged"].shape + (len(ELEMENTS),))
+        nodes = np.moveaxis(nodes, dims.index("temperature"), -2).reshape(R, T.size, -1)
+        potentials = np.where(ok["converged"][row_i, step_i][:, None],
+                              nodes[row_i, step_i], np.nan)
+
     def probe(idx, t, guess):
-        pts = _row_points(scenario, row_coords, row_i[idx], t,
-                          _subset_nodes(path_nodes, idx), guess)
+        pts, lam = _row_points(scenario, row_coords, row_i[idx], t,
+                               _subset_nodes(path_nodes, idx), guess, potentials[idx])
         okp = _ok_fields(pts, limits)
+        conv = np.asarray(okp["converged"].values, dtype=bool)
+        potentials[idx] = np.where(conv[:, None], lam, potentials[idx])
         mp = {k: np.asarray(v.values, dtype=float) for k, v in limit_margins(pts, limits).items()}
         k = lim_i[idx]
         j = np.arange(idx.size)
@@ -483,15 +532,17 @@ LIMIT_DEPENDENT = ("feasible", "feasible_t_low", "feasible_t_high", "feasible_in
 
 
 def with_edges(scenario: Scenario, ds: xr.Dataset,
-               tolerance: float = EDGE_TOLERANCE_K, method: str = EDGE_METHOD) -> xr.Dataset:
+               tolerance: float = EDGE_TOLERANCE_K, method: str = EDGE_METHOD,
+               node_potentials=None) -> xr.Dataset:
     """`ds` with the exact feasible intervals of every row added.
 
     Adds ``feasible_t_low`` and ``feasible_t_high`` [K] over the row dims and ``interval``
     (NaN where a row has fewer intervals, all NaN where it has none), ``feasible_intervals``
     (count per row) and ``feasible_grid_warning`` (bool per row, see
-    :func:`feasible_intervals`); `method` narrows the brackets (:mod:`thermo.edge_search`).
+    :func:`feasible_intervals`); `method` narrows the brackets (:mod:`thermo.edge_search`);
+    `node_potentials` start the brackets' first points (:func:`feasible_intervals`).
     """
-    re = feasible_intervals(scenario, ds, tolerance, method)
+    re = feasible_intervals(scenario, ds, tolerance, method, node_potentials)
     R = len(re.intervals)
     M = max(1, max((len(v) for v in re.intervals), default=0))
     low = np.full((R, M), np.nan)

@@ -163,13 +163,16 @@ def _inlet_by_ratio(scenario: Scenario, axes: dict[str, np.ndarray]) -> np.ndarr
     return np.moveaxis(flows, 0, -1)
 
 
-def solve_chunk(scenario: Scenario, start: int, stop: int) -> dict[str, np.ndarray]:
+def solve_chunk(scenario: Scenario, start: int, stop: int,
+                with_potentials: bool = False) -> dict[str, np.ndarray]:
     """Solve flat window points ``start:stop`` (C order over the window dims).
 
-    Returns a dict of arrays over those points: the per-point and per-species variables.
-    Public so dask workers can run it; it depends only on its arguments. Along the last
-    window axis each point starts from its neighbour's answer (rows of that axis; `start`
-    should be a multiple of its length, which :func:`sweep` ensures).
+    Returns a dict of arrays over those points: the per-point and per-species variables
+    (and, with `with_potentials`, the primary's element potentials under
+    :data:`PRIMARY_POTENTIALS`, which the caller pops before :func:`assemble`). Public so
+    dask workers can run it; it depends only on its arguments. Along the last window axis
+    each point starts from its neighbour's answer (rows of that axis; `start` should be a
+    multiple of its length, which :func:`sweep` ensures).
     """
     axes = window_axes(scenario)
     shape = tuple(len(v) for v in axes.values())
@@ -181,19 +184,27 @@ def solve_chunk(scenario: Scenario, start: int, stop: int) -> dict[str, np.ndarr
     ratio_idx = tuple(idx[names.index(d)] for d in names if d in RATIO_AXES)
     n_in = inlet[ratio_idx]
     row = shape[-1] if start % shape[-1] == 0 else 1
-    return train_results(scenario, n_in, T, P, row=row)
+    return train_results(scenario, n_in, T, P, row=row, with_potentials=with_potentials)
 
 
 def train_results(scenario: Scenario, n_in, T, P, row: int = 1,
-                  secondary_guess=None) -> dict[str, np.ndarray]:
+                  secondary_guess=None, *, warm_start=None,
+                  with_potentials: bool = False) -> dict[str, np.ndarray]:
     """The Dataset's per-point variables at N points of a scenario (its feed temperature,
     approach and train), flat arrays over the points; :func:`thermo.point` uses the same.
     `secondary_guess`: first estimates of the secondary reformer's outlet [K]
-    (:func:`thermo.train.train_balance`)."""
+    (:func:`thermo.train.train_balance`). `warm_start` (N, E): element potentials to start
+    the primary's equilibrium from (nearby solved points, NaN rows none; the outlet is the
+    same to the solver's tolerance). With `with_potentials` the primary's converged
+    potentials come back under :data:`PRIMARY_POTENTIALS` (not a Dataset variable: the
+    caller pops it)."""
     tr = train_balance(scenario.train, n_in, T, P, scenario.feed.inlet_temperature,
-                       scenario.approach, row=row, secondary_guess=secondary_guess)
+                       scenario.approach, row=row, secondary_guess=secondary_guess,
+                       warm_start=warm_start)
     bal = tr.primary
     out = {k: getattr(bal, k) for k in _SCALARS + _PER_SPECIES if k != "product_flow"}
+    if with_potentials:
+        out[PRIMARY_POTENTIALS] = bal.element_potentials
     h2 = bal.outlet_flow[:, GAS_SPECIES.index("H2")]
     with np.errstate(divide="ignore", invalid="ignore"):
         out["duty_per_h2"] = np.where(h2 > 0, bal.duty / h2, np.nan)
@@ -219,6 +230,8 @@ def train_results(scenario: Scenario, n_in, T, P, row: int = 1,
     return out
 
 
+#: Key of the primary's element potentials in :func:`train_results` (on request only).
+PRIMARY_POTENTIALS = "_primary_element_potentials"
 #: Prefix of the carbon check's per-point parts in chunk results (not Dataset variables).
 _CARBON_LOCAL = "_carbon_"
 
@@ -341,15 +354,17 @@ def sweep(
         results = []
         done = 0
         for a, b in chunks:
-            results.append(solve_chunk(scenario, a, b))
+            results.append(solve_chunk(scenario, a, b, True))
             done += b - a
             if progress is not None:
                 progress(done, n)
     from thermo.edges import with_edges
 
+    # The grid's element potentials start the exact edges' first points (thermo.edges).
+    potentials = np.concatenate([r.pop(PRIMARY_POTENTIALS) for r in results])
     # assemble() already holds this scenario's grid mask: only the exact intervals remain
     # (apply_limits would copy the Dataset and compute the same mask again).
-    return with_edges(scenario, assemble(scenario, results))
+    return with_edges(scenario, assemble(scenario, results), node_potentials=potentials)
 
 
 def _solve_distributed(scenario, chunks, workers, scheduler, progress, n):
@@ -363,7 +378,7 @@ def _solve_distributed(scenario, chunks, workers, scheduler, progress, n):
                                host="127.0.0.1", dashboard_address=None)
         client = Client(cluster)
     try:
-        futures = [client.submit(solve_chunk, scenario, a, b, pure=False) for a, b in chunks]
+        futures = [client.submit(solve_chunk, scenario, a, b, True, pure=False) for a, b in chunks]
         index = {f.key: i for i, f in enumerate(futures)}
         results: list = [None] * len(futures)
         done = 0

@@ -285,6 +285,7 @@ def train_balance(
     *,
     row: int = 1,
     secondary_guess=None,
+    warm_start=None,
 ) -> TrainResult:
     """Carry N points' feed through the train's stages.
 
@@ -309,6 +310,9 @@ def train_balance(
     secondary_guess : array_like (N,), optional
         First estimates of the secondary reformer's outlet temperature [K] (NaN where none;
         the primary's temperature then). Used instead of the passes along rows.
+    warm_start : array_like (N, E), optional
+        Element potentials to start the primary's equilibrium from (equilibrate's
+        `warm_start`; NaN rows start from the basis guesses).
 
     Returns
     -------
@@ -337,7 +341,8 @@ def train_balance(
         # feed) so that its own numbers stay finite; the point is flagged below.
         primary_in = np.where(ok_pre[:, None], n_pre, feed)
         reheat = enthalpy_flow(primary_in, T_feed) - enthalpy_flow(primary_in, T_safe)
-    bal = reformer_balance(primary_in, T, P, T_feed, approach, row=row, hydrocarbon_carbon=hc)
+    bal = reformer_balance(primary_in, T, P, T_feed, approach, row=row, hydrocarbon_carbon=hc,
+                           warm_start=warm_start)
     stages.append(StageResult("primary_reformer", primary_in, no_flow, T_feed, T,
                               bal.equilibrium_temperature, bal.outlet_flow, bal.carbon_deposit,
                               reheat, bal.duty, bal.inlet_enthalpy, bal.outlet_enthalpy,
