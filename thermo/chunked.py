@@ -29,7 +29,7 @@ import xarray as xr
 
 from thermo.scenario import Scenario
 from thermo.scenario_data import Axis
-from thermo.sweep import sweep, window_axes
+from thermo.sweep import dask_client, sweep, window_axes
 
 #: Points per block (about 150 MB of results in flight per block).
 BLOCK_POINTS = 250_000
@@ -176,16 +176,9 @@ def sweep_to_netcdf(
 def _distributed(scenario, spans, writer, workers, scheduler, progress, n) -> None:
     """Blocks on dask.distributed: at most one more block submitted than there are worker
     threads, so finished blocks never pile up on the workers."""
-    from dask.distributed import Client, LocalCluster, as_completed
+    from dask.distributed import as_completed
 
-    cluster = None
-    if scheduler is not None:
-        client = Client(scheduler, timeout="20s")
-    else:
-        cluster = LocalCluster(n_workers=int(workers), threads_per_worker=1, processes=True,
-                               host="127.0.0.1", dashboard_address=None)
-        client = Client(cluster)
-    try:
+    with dask_client(workers, scheduler) as client:
         slots = max(1, sum(client.nthreads().values())) + 1
         todo = list(enumerate(spans))
         which = {}
@@ -209,10 +202,6 @@ def _distributed(scenario, spans, writer, workers, scheduler, progress, n) -> No
             del ds
             if progress is not None:
                 progress(writer.done, n)
-    finally:
-        client.close()
-        if cluster is not None:
-            cluster.close()
 
 
 class _Writer:

@@ -14,6 +14,7 @@ the data sources and the software version.
 
 from __future__ import annotations
 
+import contextlib
 import dataclasses
 import math
 import threading
@@ -367,8 +368,11 @@ def sweep(
     return with_edges(scenario, assemble(scenario, results), node_potentials=potentials)
 
 
-def _solve_distributed(scenario, chunks, workers, scheduler, progress, n):
-    from dask.distributed import Client, LocalCluster, as_completed
+@contextlib.contextmanager
+def dask_client(workers: int | None, scheduler: str | None):
+    """A dask.distributed client: of the cluster at `scheduler` (20 s to connect), or of
+    `workers` local worker processes on loopback (one thread each), closed on exit."""
+    from dask.distributed import Client, LocalCluster
 
     cluster = None
     if scheduler is not None:
@@ -378,6 +382,17 @@ def _solve_distributed(scenario, chunks, workers, scheduler, progress, n):
                                host="127.0.0.1", dashboard_address=None)
         client = Client(cluster)
     try:
+        yield client
+    finally:
+        client.close()
+        if cluster is not None:
+            cluster.close()
+
+
+def _solve_distributed(scenario, chunks, workers, scheduler, progress, n):
+    from dask.distributed import as_completed
+
+    with dask_client(workers, scheduler) as client:
         futures = [client.submit(solve_chunk, scenario, a, b, True, pure=False) for a, b in chunks]
         index = {f.key: i for i, f in enumerate(futures)}
         results: list = [None] * len(futures)
@@ -389,10 +404,6 @@ def _solve_distributed(scenario, chunks, workers, scheduler, progress, n):
             if progress is not None:
                 progress(done, n)
         return results
-    finally:
-        client.close()
-        if cluster is not None:
-            cluster.close()
 
 
 def assemble(scenario: Scenario, results: list[dict[str, np.ndarray]]) -> xr.Dataset:
