@@ -73,6 +73,8 @@ def _candidate_bases() -> tuple[np.ndarray, np.ndarray]:
 
 
 _CANDIDATES, _CANDIDATE_SIZES = _candidate_bases()
+#: The formula matrix as the kernel takes it (a writable copy: see `_writable`).
+_A = np.array(formula_matrix())
 
 
 @numba.njit(cache=True)
@@ -703,30 +705,44 @@ def equilibrate(
     n = max(T.shape[0], P.shape[0], b.shape[0])
     T = np.broadcast_to(T, (n,))
     P = np.broadcast_to(P, (n,))
-    b = np.ascontiguousarray(np.broadcast_to(b, (n, len(ELEMENTS))))
+    b = np.broadcast_to(b, (n, len(ELEMENTS)))
     if np.any(~np.isfinite(P)) or np.any(P <= 0):
         raise ValueError("pressure must be finite and above 0 Pa")
     if np.any(~np.isfinite(b)) or np.any(b < 0) or np.any(b.sum(axis=1) <= 0):
         raise ValueError("element abundances must be finite, not negative, and not all zero")
-    C = np.ascontiguousarray((gas_table(T, "g_RT") + np.log(P / P_REF)).T)
-    MU = np.ascontiguousarray(graphite_mu_RT(T, P))
     if warm_start is None:
-        lam0 = np.zeros((n, len(ELEMENTS)))
-        use = False
+        lam0, use = np.zeros((n, len(ELEMENTS))), False
     else:
-        lam0 = np.ascontiguousarray(np.broadcast_to(warm_start, (n, len(ELEMENTS))), float)
-        use = True
-    A = np.ascontiguousarray(formula_matrix())
+        lam0, use = np.broadcast_to(warm_start, (n, len(ELEMENTS))), True
+    solver = _solve_batch if _use_compiled(n) else _interpreted()["_solve_batch"]
+    return _run_kernel(solver, T, P, b, allow_carbon, lam0, use, row)
+
+
+def _writable(a) -> np.ndarray:
+    """`a` as a writable C-contiguous float64 array (copied only if it is not one already).
+
+    Every array the kernel receives goes through here: numba compiles one specialisation per
+    array type, and a read-only view (``np.broadcast_to``, the cached formula matrix) is a
+    different type from a writable array. One type per argument means one compiled kernel,
+    the one :func:`build_kernel` puts in the cache (tests/thermo/test_kernel_signature.py).
+    """
+    return np.require(a, dtype=np.float64, requirements=("C", "W"))
+
+
+def _run_kernel(solver, T, P, b, allow_carbon, lam0, use, row) -> EquilibriumResult:
+    """Run `solver` (the compiled `_solve_batch` or its interpreted twin) on N points."""
+    n = b.shape[0]
+    C = _writable((gas_table(T, "g_RT") + np.log(P / P_REF)).T)
+    MU = _writable(graphite_mu_RT(T, P))
     n_out = np.empty((n, len(GAS_SPECIES)))
     lam_out = np.empty((n, len(ELEMENTS)))
     carbon = np.empty(n)
     lnac = np.empty(n)
     conv = np.empty(n, dtype=np.bool_)
     iters = np.empty(n, dtype=np.int64)
-    solver = _solve_batch if _use_compiled(n) else _interpreted()["_solve_batch"]
-    solver(A, C, b, MU, bool(allow_carbon), lam0, use, max(1, int(row)), _CANDIDATES,
-           _CANDIDATE_SIZES, TOLERANCE, MAX_ITERATIONS, n_out, lam_out, carbon, lnac, conv,
-           iters)
+    solver(_A, C, _writable(b), MU, bool(allow_carbon), _writable(lam0), bool(use),
+           max(1, int(row)), _CANDIDATES, _CANDIDATE_SIZES, float(TOLERANCE),
+           int(MAX_ITERATIONS), n_out, lam_out, carbon, lnac, conv, iters)
     return EquilibriumResult(n_out, carbon, lnac, lam_out, conv, iters)
 
 
@@ -814,17 +830,11 @@ def build_in_progress() -> bool:
 
 
 def build_kernel() -> None:
-    """Compile (or load) the kernel now: one small solve through the compiled path."""
-    b = np.array([[1.0, 4.0, 1.0, 0.0, 0.0]])
-    T = np.array([1000.0])
-    P = np.array([P_REF])
-    C = np.ascontiguousarray((gas_table(T, "g_RT")).T)
-    MU = np.ascontiguousarray(graphite_mu_RT(T, P))
-    S, E = len(GAS_SPECIES), len(ELEMENTS)
-    _solve_batch(np.ascontiguousarray(formula_matrix()), C, b, MU, True, np.zeros((1, E)),
-                 False, 1, _CANDIDATES, _CANDIDATE_SIZES, TOLERANCE, MAX_ITERATIONS,
-                 np.empty((1, S)), np.empty((1, E)), np.empty(1), np.empty(1),
-                 np.empty(1, dtype=np.bool_), np.empty(1, dtype=np.int64))
+    """Compile (or load) the kernel now: one small solve through the compiled path, with
+    the argument types every :func:`equilibrate` call uses (one specialisation)."""
+    _run_kernel(_solve_batch, np.array([1000.0]), np.array([P_REF]),
+                np.array([[1.0, 4.0, 1.0, 0.0, 0.0]]), True, np.zeros((1, len(ELEMENTS))),
+                False, 1)
 
 
 def kernel_is_cached() -> bool:
