@@ -747,9 +747,11 @@ def _run_kernel(solver, T, P, b, allow_carbon, lam0, use, row) -> EquilibriumRes
 
 
 #: Largest call solved by the interpreted kernel when the compiled one is neither loaded nor
-#: cached (a single point, an adiabatic stage's steps): a few milliseconds per point instead
-#: of waiting for the compiler.
-INTERPRETED_POINTS = 64
+#: cached: a few milliseconds per point instead of waiting for the compiler (about 16 s on
+#: one core). `explorer point` sends calls of up to 76 points (the carbon path along the
+#: tube, the stages' steps): at 64 its first run compiled and took 12.5 s, at 1000 it took
+#: 3.4 s with the same output (fresh venv, empty numba cache, 2026-12-03, load 1.4).
+INTERPRETED_POINTS = 1000
 
 #: Largest call solved by the interpreted kernel while a background build runs (about
 #: 1-3 ms per point on one core: a demo window of 5,746 points in 10-20 s); a larger one

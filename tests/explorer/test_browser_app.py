@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import json
+
 import pytest
 
 import thermo
@@ -57,10 +59,16 @@ def test_slice_click_and_balance_equal_the_core(page, server, artifacts):
     page.on("pageerror", lambda e: errors.append(str(e)))
     _ready(page, url)
     # Move the steam-to-carbon slider one step (3 -> 4) with the keyboard, as a user can.
+    before = page.evaluate(MAP_STATE)[1]
     handle = page.locator(".noUi-handle >> visible=true").first
     handle.focus()
     handle.press("ArrowRight")
     page.get_by_text("Steam-to-carbon: 4").first.wait_for(timeout=10000)
+    # The label changes in the browser at once; Panel applies the slider's value on the server
+    # after a 50 ms debounce, while a map click is handled at once: a click sooner than that
+    # lands on the old slice (seen on a fresh machine, 2026-12-03). Wait for the new slice.
+    page.wait_for_function(f"() => ({MAP_STATE})()[1] !== {json.dumps(before)}",
+                           timeout=30000)
     _click(page, 900.0, 30.0)
     page.get_by_text("900.0 degC, 30.000 bar abs, S/C 4").wait_for(timeout=10000)
     expected = thermo.point(sc, temperature="900 degC", pressure="30 bar", steam_to_carbon=4.0)
