@@ -17,6 +17,7 @@ from __future__ import annotations
 import contextlib
 import dataclasses
 import math
+import os
 import threading
 import tomllib
 from collections import OrderedDict
@@ -368,10 +369,23 @@ def sweep(
     return with_edges(scenario, assemble(scenario, results), node_potentials=potentials)
 
 
+def worker_threads(workers: int, cores: int | None = None) -> int:
+    """Solver threads for each of `workers` local worker processes: an equal share of the
+    `cores` (this machine's, by default), at least one."""
+    cores = cores if cores is not None else (os.cpu_count() or 1)
+    return max(1, cores // max(1, workers))
+
+
 @contextlib.contextmanager
 def dask_client(workers: int | None, scheduler: str | None):
     """A dask.distributed client: of the cluster at `scheduler` (20 s to connect), or of
-    `workers` local worker processes on loopback (one thread each), closed on exit."""
+    `workers` local worker processes on loopback, closed on exit.
+
+    Each local worker runs one dask task at a time, and its solver (numba's thread pool)
+    gets an equal share of this machine's cores, :func:`worker_threads`: with the default
+    of all cores in every worker, two workers on two cores ran 0.84-0.88x as fast as one
+    (2026-12-03, tests/benchmarks/bench_scale.py).
+    """
     from dask.distributed import Client, LocalCluster
 
     cluster = None
@@ -379,7 +393,8 @@ def dask_client(workers: int | None, scheduler: str | None):
         client = Client(scheduler, timeout="20s")
     else:
         cluster = LocalCluster(n_workers=int(workers), threads_per_worker=1, processes=True,
-                               host="127.0.0.1", dashboard_address=None)
+                               host="127.0.0.1", dashboard_address=None,
+                               env={"NUMBA_NUM_THREADS": str(worker_threads(int(workers)))})
         client = Client(cluster)
     try:
         yield client

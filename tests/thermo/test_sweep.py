@@ -558,3 +558,27 @@ def test_sweep_on_an_existing_cluster(sc, ds):
 
     d = _run_with_timeout(run, DASK_TIMEOUT_S)
     _assert_same_numbers(d, ds)
+
+
+def _numba_threads() -> int:
+    import numba
+
+    return numba.get_num_threads()
+
+
+def test_local_workers_share_the_cores_between_their_solvers():
+    """Each of 2 local workers runs numba with half of this machine's cores (at least one),
+    not all of them: two workers on two cores each with two threads ran slower than one."""
+    pytest.importorskip("dask.distributed")
+    from thermo.sweep import dask_client, worker_threads
+
+    assert worker_threads(2, cores=2) == 1 and worker_threads(1, cores=2) == 2
+    assert worker_threads(3, cores=2) == 1 and worker_threads(2, cores=16) == 8
+
+    def run():
+        with dask_client(2, None) as client:
+            return client.run(_numba_threads)
+
+    threads = _run_with_timeout(run, DASK_TIMEOUT_S)
+    assert len(threads) == 2
+    assert set(threads.values()) == {worker_threads(2)}
