@@ -14,11 +14,8 @@ from typing import TYPE_CHECKING
 import numpy as np
 import xarray as xr
 
-from thermo.edges import (
-    active_limits,
-    evaluate,
-    exclusion,
-)
+from thermo.edges import evaluate
+from thermo.limit_quantities import active_limits, exclusion
 from thermo.plant import GJ_PER_1000NM3_FROM_J_PER_MOL
 from thermo.scenario import Scenario
 from thermo.sweep import (

@@ -22,12 +22,14 @@ from thermo.best import (
 from thermo.edges import (
     EDGE_TOLERANCE_K,
     EDGE_TOLERANCE_SC,
-    LIMITS,
     SENSITIVITY_STEPS,
+    evaluate,
+)
+from thermo.limit_quantities import (
+    LIMITS,
     Limit,
     active_limits,
     carbon_quantity,
-    evaluate,
 )
 from thermo.scenario import Scenario
 
