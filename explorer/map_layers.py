@@ -13,6 +13,7 @@ import xarray as xr
 
 from explorer import display
 from explorer.display import DEFAULT
+from explorer.map_geometry import _paths, _polys, x_display, y_display
 
 #: Map orientations: x is always outlet temperature.
 from explorer.map_variables import (
@@ -42,33 +43,9 @@ def slice_fields(ds: xr.Dataset, mode: str, fixed: dict[str, int]) -> xr.Dataset
     return out.transpose(mode, "temperature", ...)
 
 
-def x_display(values, units: str = DEFAULT):
-    """Temperatures [K] on the maps' x axis, in display units."""
-    return display.to_display(values, "temperature", units)
-
-
-def y_display(mode: str, values, units: str = DEFAULT):
-    """Values of the y axis [SI] in display units (pressure converted, ratios as they are)."""
-    return display.to_display(values, "pressure", units) if mode == "pressure" else values
-
-
 def _rounded(a: np.ndarray, decimals: int | None) -> list:
     """A 1-D array as a list of floats, rounded by numpy to `decimals` if given."""
     return (a if decimals is None else np.round(a, decimals)).tolist()
-
-
-def _polys(points, offsets, decimals: int | None = None):
-    """contourpy OuterOffset polygons to Bokeh multi_polygons nesting (x and y), rounded
-    to `decimals` if given."""
-    xs, ys = [], []
-    for pts, off in zip(points, offsets, strict=True):
-        if decimals is not None:
-            pts = np.round(pts, decimals)
-        rings_x = [pts[off[k]:off[k + 1], 0].tolist() for k in range(len(off) - 1)]
-        rings_y = [pts[off[k]:off[k + 1], 1].tolist() for k in range(len(off) - 1)]
-        xs.append(rings_x)
-        ys.append(rings_y)
-    return xs, ys
 
 
 def _fmt(value: float, digits: int) -> str:
@@ -135,10 +112,6 @@ def reference_carbon_layers(s: xr.Dataset) -> dict[str, str]:
         else:
             out["carbon_graphite"] = "carbon_verdict_ln_activity_graphite"
     return out
-
-
-def _paths(paths) -> dict:
-    return {"xs": [p[:, 0].tolist() for p in paths], "ys": [p[:, 1].tolist() for p in paths]}
 
 
 def variable_layers(s: xr.Dataset, var: Variable, mode: str, levels: np.ndarray,
