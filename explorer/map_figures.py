@@ -24,9 +24,6 @@ from bokeh.plotting import figure
 
 from explorer import display
 from explorer.display import DEFAULT
-from explorer.map_layers import (
-    MARKER_LAYERS,
-)
 
 #: Map orientations: x is always outlet temperature.
 from explorer.map_variables import (
@@ -46,6 +43,7 @@ from explorer.map_variables import (
     Variable,
     _band_colours,
 )
+from explorer.map_window import MARKER_LAYERS
 
 #: Map heights in the page [px]: both maps on the first screen at 1366 x 768; taller when
 #: presenting.

@@ -1,6 +1,6 @@
 """The maps' shared geometry: a slice's axes in display units and contourpy's output in
-Bokeh's nesting, used by both the per-variable layers and the window layers of
-explorer.map_layers.
+Bokeh's nesting, used by the per-variable layers (explorer.map_layers) and by what every map of
+a slice shares (explorer.map_window).
 """
 
 from __future__ import annotations

@@ -15,8 +15,9 @@ Colour levels are fixed over the whole Dataset for each variable, not per slice,
 colour means one value on every slice.
 
 The work lives in three modules, re-exported here: :mod:`explorer.map_variables` (what each
-map shows and its levels), :mod:`explorer.map_layers` (a slice as plain layers) and
-:mod:`explorer.map_figures` (the Bokeh figure).
+map shows and its levels), :mod:`explorer.map_layers` (a slice as plain layers; what every map
+of a slice shares is in :mod:`explorer.map_window`, the shared axes and contour geometry in
+:mod:`explorer.map_geometry`) and :mod:`explorer.map_figures` (the Bokeh figure).
 """
 
 from __future__ import annotations
