@@ -24,8 +24,6 @@ from bokeh.plotting import figure
 
 from explorer import display
 from explorer.display import DEFAULT
-
-#: Map orientations: x is always outlet temperature.
 from explorer.map_variables import (
     AXIS_PT,
     BEST_COLOUR,

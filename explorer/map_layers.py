@@ -21,8 +21,6 @@ from explorer.map_geometry import (  # noqa: F401 - re-exported
     x_display,
     y_display,
 )
-
-#: Map orientations: x is always outlet temperature.
 from explorer.map_variables import (
     CARBON_LINES,
     CHANGE_PALETTE,

@@ -273,7 +273,7 @@ def window_layers(s: xr.Dataset, mode: str, limits, markers: dict | None = None,
     and design points (:func:`marker_layers`).
 
     The feasible edge and the hatching come from the exact feasible intervals of each row
-    (:func:`exact_window_field`) when the Dataset holds them, otherwise from the grid
+    (:func:`exact_window_polygons`) when the Dataset holds them, otherwise from the grid
     values."""
     x = x_display(s["temperature"].values, units)
     y = y_display(mode, s[mode].values, units)
