@@ -274,7 +274,8 @@ def adiabatic_equilibrium(gas_flow, inlet_enthalpy, pressure, approach=0.0,
         return outlet_enthalpy(eq.moles, eq.carbon, T, P[idx]) - H_in[idx], eq
 
     def slope(T, idx, eq):
-        return equilibrium_heat_capacity(eq.moles, eq.carbon, T, T - dT[idx], P[idx])
+        return equilibrium_heat_capacity(eq.moles, eq.carbon, T, T - dT[idx], P[idx],
+                                         potentials=True)
 
     T = np.full(N, np.nan)
     warm = np.zeros_like(b_el)
@@ -312,7 +313,7 @@ def adiabatic_equilibrium(gas_flow, inlet_enthalpy, pressure, approach=0.0,
     return np.where(ok, Tf, np.nan), eq, ok
 
 
-def equilibrium_heat_capacity(moles, carbon, T, T_eq, P) -> np.ndarray:
+def equilibrium_heat_capacity(moles, carbon, T, T_eq, P, potentials: bool = False):
     r"""d H_out / d T of gas (and graphite) kept at equilibrium at fixed P and elements [W K-1].
 
     The outlet is the equilibrium at T_eq = T - approach (the approach fixed) and its
@@ -334,6 +335,14 @@ def equilibrium_heat_capacity(moles, carbon, T, T_eq, P) -> np.ndarray:
         Graphite [mol s-1].
     T, T_eq, P : ndarray (N,)
         Enthalpy temperature, equilibrium temperature [K], pressure [Pa].
+    potentials : bool
+        Also return d lambda_e / d T (N, E) [K-1], the element potentials' rate of change
+        along the same path (0 for elements absent from a point): the start of the next
+        equilibrium solve at a nearby temperature.
+
+    Returns
+    -------
+    dH/dT (N,) [W K-1], or (dH/dT, d lambda/dT) with `potentials`.
     """
     n = np.asarray(moles, dtype=float)
     N, S = n.shape
@@ -381,8 +390,9 @@ def equilibrium_heat_capacity(moles, carbon, T, T_eq, P) -> np.ndarray:
     cp_T = gas_table(T, "cp_R").T * R
     h_gr_T = h_RT(T, GRAPHITE) * R * T + gr.molar_volume * (P - gr.standard_pressure)
     cp_gr = cp_R(T, GRAPHITE) * R
-    return (np.einsum("ns,ns->n", n, cp_T) + np.einsum("ns,ns->n", h_T, dn)
-            + np.asarray(carbon) * cp_gr + h_gr_T * y[:, E + 1])
+    dH = (np.einsum("ns,ns->n", n, cp_T) + np.einsum("ns,ns->n", h_T, dn)
+          + np.asarray(carbon) * cp_gr + h_gr_T * y[:, E + 1])
+    return (dH, y[:, :E]) if potentials else dH
 
 
 def _newton(residual, slope, T0, lo, hi, tol, T, warm, warm_first, steps: int = 12,
@@ -390,9 +400,13 @@ def _newton(residual, slope, T0, lo, hi, tol, T, warm, warm_first, steps: int = 
     """Steps on the enthalpy balance from T0: Newton with the equilibrium heat capacity
     (:func:`equilibrium_heat_capacity`) first, then secant steps (each point's last two
     residuals; Newton again where the secant slope is not positive). A step no longer than
-    `accept_step` [K] is the point's answer without a solve at its end. Fills T and warm and
-    returns the settled points (the others are left to the bracketed solve) and those of them
-    settled by such a step."""
+    `accept_step` [K] is the point's answer without a solve at its end. Each solve after a
+    step starts from the element potentials carried along the step at the rate its slope
+    gives (the heat capacity's d lambda/dT for a Newton step, the last two solves' for a
+    secant step), and so does the final solve after a short step (through `warm`). Fills T
+    and warm and returns the settled points (the others are left to the bracketed solve) and
+    those of them settled by such a step. `slope(T, idx, eq)` returns (dH/dT, d lambda/dT)
+    at the points `idx`."""
     N = T0.size
     idx = np.arange(N)
     f, eq = residual(T0, idx, warm if warm_first else None)
@@ -400,6 +414,7 @@ def _newton(residual, slope, T0, lo, hi, tol, T, warm, warm_first, steps: int = 
     b = T0.copy()
     prev_T = np.full(N, np.nan)
     prev_f = np.full(N, np.nan)
+    prev_lam = np.full_like(warm, np.nan)
     done = np.zeros(N, dtype=bool)
     stepped = np.zeros(N, dtype=bool)
     active = np.isfinite(f) & eq.converged
@@ -413,14 +428,22 @@ def _newton(residual, slope, T0, lo, hi, tol, T, warm, warm_first, steps: int = 
         sub = np.flatnonzero(active)
         at = idx[sub]
         with np.errstate(invalid="ignore", divide="ignore"):
-            d = (f[sub] - prev_f[at]) / (b[at] - prev_T[at])
+            run = b[at] - prev_T[at]
+            d = (f[sub] - prev_f[at]) / run
+            dlam = (warm[at] - prev_lam[at]) / run[:, None]
             newton = ~(np.isfinite(d) & (d > 0))
             if newton.any():
-                d[newton] = slope(b[at[newton]], at[newton], _subset(eq, sub[newton]))
+                d[newton], dlam[newton] = slope(b[at[newton]], at[newton],
+                                                _subset(eq, sub[newton]))
             new = np.clip(b[at] - f[sub] / d, lo[at], hi[at])
         ok = np.isfinite(new) & (d > 0) & (new != b[at])
         short = ok & (np.abs(new - b[at]) <= accept_step)
-        prev_T[at], prev_f[at] = b[at], f[sub]
+        prev_T[at], prev_f[at], prev_lam[at] = b[at], f[sub], warm[at]
+        # The next solve starts from the potentials carried along the step; where that is
+        # not finite, from the last solve's (an element absent from a point stays NaN,
+        # which the solver reads as absent).
+        carried = warm[at] + dlam * (new - b[at])[:, None]
+        warm[at] = np.where(np.isfinite(carried) & ok[:, None], carried, warm[at])
         acc = at[short]
         T[acc] = b[acc] = new[short]
         done[acc] = stepped[acc] = True
