@@ -39,6 +39,26 @@ FIND_PIXEL = """([name, x, y]) => {
 }"""
 
 
+def click_data_point(page, name: str, x: float, y: float, quiet_ms: float = 400.0,
+                     timeout_s: float = 30.0) -> None:
+    """Click data point (x, y) of the Bokeh figure `name` once the figure has stopped moving
+    on the page: its pixel position the same for `quiet_ms` (content that arrives later,
+    such as a best point or a comparison table, lengthens the page above a map, and a click
+    computed before that shift lands elsewhere; seen on a loaded machine)."""
+    deadline = time.monotonic() + timeout_s
+    last, since = None, time.monotonic()
+    while True:
+        pos = page.evaluate(FIND_PIXEL, [name, float(x), float(y)])
+        now = time.monotonic()
+        if pos != last:
+            last, since = pos, now
+        elif now - since >= quiet_ms / 1000.0 or now > deadline:
+            break
+        page.wait_for_timeout(50)
+    assert last is not None, f"figure {name!r} is not on the page"
+    page.mouse.click(last["x"], last["y"])
+
+
 def table_cells(html: str) -> list[list[str]]:
     """Rows of cell texts of every table in an HTML fragment (tags stripped)."""
     rows = []

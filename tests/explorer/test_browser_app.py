@@ -10,6 +10,7 @@ import thermo
 from explorer.tables import balance_html
 from tests.explorer.helpers import (
     FIND_PIXEL,
+    click_data_point,
     open_scenario_form,
     served_app,
     small_scenario,
@@ -37,8 +38,7 @@ def _ready(page, url):
 
 
 def _click(page, x, y):
-    pos = page.evaluate(FIND_PIXEL, ["map-0", x, y])
-    page.mouse.click(pos["x"], pos["y"])
+    click_data_point(page, "map-0", x, y)
 
 
 def _balance_rows(page):
@@ -143,8 +143,7 @@ def test_comparison_maps_and_click_show_both_points(page, artifacts):
         page.locator('[data-role="best-point"]').first.wait_for(timeout=60000)
         page.wait_for_function(f"() => ({FIND_PIXEL})(['cmp-2', 800, 30]) !== null",
                                timeout=30000)
-        pos = page.evaluate(FIND_PIXEL, ["cmp-2", 800.0, 30.0])
-        page.mouse.click(pos["x"], pos["y"])
+        click_data_point(page, "cmp-2", 800.0, 30.0)
         page.get_by_text("Base and proposal at 800.0 degC, 30.000 bar abs").wait_for(
             timeout=15000)
         html = page.get_by_text("Base and proposal at 800.0 degC").evaluate(

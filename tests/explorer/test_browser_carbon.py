@@ -11,7 +11,7 @@ from pathlib import Path
 import pytest
 
 import thermo
-from tests.explorer.helpers import FIND_PIXEL, offline, served_app
+from tests.explorer.helpers import FIND_PIXEL, click_data_point, offline, served_app
 
 pytestmark = pytest.mark.usefixtures("chromium_path")
 
@@ -66,8 +66,7 @@ def _wait_map(page):
 
 
 def _click(page):
-    pos = page.evaluate(FIND_PIXEL, ["map-0", 800.0, 6.0])
-    page.mouse.click(pos["x"], pos["y"])
+    click_data_point(page, "map-0", 800.0, 6.0)
 
 
 def test_app_shows_the_path_only_carbon_point_infeasible(page, case):

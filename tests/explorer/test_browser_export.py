@@ -12,7 +12,13 @@ import pytest
 
 import thermo
 from explorer.tables import balance_html
-from tests.explorer.helpers import FIND_PIXEL, offline, small_scenario, table_cells
+from tests.explorer.helpers import (
+    FIND_PIXEL,
+    click_data_point,
+    offline,
+    small_scenario,
+    table_cells,
+)
 
 pytestmark = pytest.mark.usefixtures("chromium_path")
 
@@ -53,8 +59,7 @@ def _model_text(page, name):
 
 
 def _click(page, name, x, y):
-    pos = page.evaluate(FIND_PIXEL, [name, x, y])
-    page.mouse.click(pos["x"], pos["y"])
+    click_data_point(page, name, x, y)
 
 
 def _comparable(html):

@@ -16,7 +16,13 @@ import pytest
 
 import thermo
 from explorer.sheet import design_row_ranges
-from tests.explorer.helpers import FIND_PIXEL, open_scenario_form, served_app, small_scenario
+from tests.explorer.helpers import (
+    FIND_PIXEL,
+    click_data_point,
+    open_scenario_form,
+    served_app,
+    small_scenario,
+)
 
 pytestmark = pytest.mark.usefixtures("chromium_path")
 
@@ -75,8 +81,7 @@ def test_eight_sessions_without_cross_talk(browser, server):
         for pg, (t, p) in zip(pages, POINTS, strict=True):
             pg.wait_for_function(f"() => ({FIND_PIXEL})(['map-0', {t}, {p}]) !== null",
                                  timeout=30000)
-            pos = pg.evaluate(FIND_PIXEL, ["map-0", t, p])
-            pg.mouse.click(pos["x"], pos["y"])
+            click_data_point(pg, "map-0", t, p)
         for pg, duty, (t, p), (words, count) in zip(pages, DUTIES_MW, POINTS, expected,
                                                     strict=True):
             pg.get_by_text(f"{t:.1f} degC, {p:.3f} bar abs").wait_for(timeout=30000)

@@ -14,7 +14,7 @@ import pytest
 import thermo
 from explorer.limits_report import best_summary
 from explorer.tables import balance_html, plant_html
-from tests.explorer.helpers import FIND_PIXEL, offline, served_app, table_cells
+from tests.explorer.helpers import FIND_PIXEL, click_data_point, offline, served_app, table_cells
 
 pytestmark = pytest.mark.usefixtures("chromium_path")
 
@@ -44,8 +44,7 @@ def _title(page, name):
 
 
 def _click(page, name, x, y):
-    pos = page.evaluate(FIND_PIXEL, [name, x, y])
-    page.mouse.click(pos["x"], pos["y"])
+    click_data_point(page, name, x, y)
 
 
 def test_app_shows_the_specific_energy_map_and_the_plant_table(page, artifacts):
