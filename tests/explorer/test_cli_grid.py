@@ -181,3 +181,62 @@ def test_three_bad_fields_give_three_lines_and_status_2(tmp_path, capsys):
                          ("design_point.pressure", "'22 barr'"),
                          ("feed.steam_to_carbon", "'three'")):
         assert any(line.startswith(f"explorer: error: {field} = {typed}") for line in lines)
+
+
+def test_grid_on_a_cluster_started_as_the_readme_says(capsys, tmp_path, scenario_file):
+    """The README's "grid on a real cluster": a scheduler (`dask scheduler`) and a worker
+    (`dask worker tcp://HOST:PORT`) started as their own processes, in another folder, on
+    loopback; `explorer grid --scheduler` gives the file an in-process grid gives (every
+    variable equal; only the file's creation time differs), written on the client's side."""
+    distributed = pytest.importorskip("distributed")
+    import json
+    import os
+    import shutil
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    dask_cli = shutil.which("dask", path=str(Path(sys.executable).parent)) or shutil.which("dask")
+    assert dask_cli, "the dask command of the dask extra is missing"
+    where = tmp_path / "cluster"
+    where.mkdir()
+    info = where / "scheduler.json"
+    log = (where / "cluster.log").open("wb")
+    procs = [subprocess.Popen([dask_cli, "scheduler", "--host", "127.0.0.1", "--port", "0",
+                               "--no-dashboard", "--scheduler-file", str(info)],
+                              cwd=where, stdout=log, stderr=subprocess.STDOUT)]
+    try:
+        deadline = time.monotonic() + 60
+        while not info.is_file() and time.monotonic() < deadline:
+            time.sleep(0.2)
+        address = json.loads(info.read_text())["address"]
+        assert address.startswith("tcp://127.0.0.1:"), address
+        procs.append(subprocess.Popen([dask_cli, "worker", address, "--nthreads", "1",
+                                       "--no-dashboard"], cwd=where, stdout=log,
+                                      stderr=subprocess.STDOUT, env=dict(os.environ)))
+        remote, local = tmp_path / "remote.nc", tmp_path / "local.nc"
+        with distributed.Client(address, timeout=30) as client:
+            client.wait_for_workers(1, timeout=60)
+            moves = client.run_on_scheduler(lambda dask_scheduler:
+                                            dask_scheduler.transition_counter)
+            code, out, err = run(capsys, "grid", scenario_file, "-o", remote,
+                                 "--scheduler", address)
+            assert code == 0, err
+            # The cluster did the work: its scheduler moved tasks through their states.
+            assert client.run_on_scheduler(lambda dask_scheduler:
+                                           dask_scheduler.transition_counter) > moves
+        code, out, err = run(capsys, "grid", scenario_file, "-o", local)
+        assert code == 0, err
+    finally:
+        for p in reversed(procs):
+            p.terminate()
+        for p in reversed(procs):
+            p.wait(timeout=30)
+        log.close()
+    a, b = io.load(remote), io.load(local)
+    assert sorted(a.data_vars) == sorted(b.data_vars)
+    for v in a.data_vars:
+        assert a[v].equals(b[v]), v
+    assert {k: v for k, v in a.attrs.items() if k != "created"} == \
+        {k: v for k, v in b.attrs.items() if k != "created"}
+    assert not any(where.glob("*.nc"))  # the file is written by the client, not the worker
