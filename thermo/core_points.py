@@ -100,9 +100,9 @@ def evaluate_warm(scenario: Scenario, temperature, pressure, steam_to_carbon=Non
                 full.ln_activity[own] = part.ln_activity
                 full.temperature[own] = part.temperature
         res.update(carbon.finish(local, path, T, scenario.carbon))
+    res["converged"] = np.asarray(res["converged"], dtype=bool)
     data = {k: ("point", v) for k, v in res.items() if np.ndim(v) == 1}
     ds = xr.Dataset(data, coords={"temperature": ("point", T), "pressure": ("point", P)})
-    ds["converged"] = ds["converged"].astype(bool)
     ds.attrs["hydrocarbon_carbon_mol_per_s"] = scenario.feed.carbon_flow()
     return ds, lam
 

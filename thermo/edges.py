@@ -29,6 +29,7 @@ Every quantity is SI: K, Pa, W, mol per mol.
 
 from __future__ import annotations
 
+from bisect import bisect_left
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -280,6 +281,7 @@ def feasible_intervals(scenario: Scenario, ds: xr.Dataset,
     for (name, r, _i), e in edge_of.items():
         edges[name][r].append(e)
     intervals: list[list[tuple[float, float]]] = []
+    T_list = T.tolist()  # the loop below is per cut: plain floats, bisect (no numpy scalars)
     for r in range(R):
         if T.size == 1:
             intervals.append([(T[0], T[0])] if all(ok[n][r, 0] for n in names) else [])
@@ -290,7 +292,7 @@ def feasible_intervals(scenario: Scenario, ds: xr.Dataset,
             if b <= a:
                 continue
             m = 0.5 * (a + b)
-            i = int(np.clip(np.searchsorted(T, m) - 1, 0, T.size - 2))
+            i = min(max(bisect_left(T_list, m) - 1, 0), T.size - 2)  # the step holding m
             good = True
             for n in names:
                 e = edge_of.get((n, r, i))
@@ -345,18 +347,21 @@ def with_edges(scenario: Scenario, ds: xr.Dataset,
     shape = re.shape + (M,)
     out = ds.drop_vars([v for v in ("feasible_t_low", "feasible_t_high", "feasible_intervals",
                                     "feasible_grid_warning", "interval") if v in ds])
-    out["feasible_t_low"] = (dims, low.reshape(shape), {
-        "units": "K", "long_name": "lowest temperature of a feasible interval of the row "
-                                   f"(exact to {tolerance:g} K; NaN: no such interval)"})
-    out["feasible_t_high"] = (dims, high.reshape(shape), {
-        "units": "K", "long_name": "highest temperature of a feasible interval of the row "
-                                   f"(exact to {tolerance:g} K; NaN: no such interval)"})
-    out["feasible_intervals"] = (re.row_dims, np.array([len(v) for v in re.intervals])
-                                 .reshape(re.shape), {
-        "units": "1", "long_name": "number of feasible temperature intervals of the row"})
-    out["feasible_grid_warning"] = (re.row_dims, re.grid_warning.reshape(re.shape), {
-        "units": "1", "long_name": "a limit may be crossed twice inside one temperature step "
-                                   "of this row (quadratic through three nodes)"})
+    # One assign (one merge with the Dataset's many variables, not one per variable).
+    out = out.assign({
+        "feasible_t_low": (dims, low.reshape(shape), {
+            "units": "K", "long_name": "lowest temperature of a feasible interval of the row "
+                                       f"(exact to {tolerance:g} K; NaN: no such interval)"}),
+        "feasible_t_high": (dims, high.reshape(shape), {
+            "units": "K", "long_name": "highest temperature of a feasible interval of the row "
+                                       f"(exact to {tolerance:g} K; NaN: no such interval)"}),
+        "feasible_intervals": (re.row_dims, np.array([len(v) for v in re.intervals])
+                               .reshape(re.shape), {
+            "units": "1", "long_name": "number of feasible temperature intervals of the row"}),
+        "feasible_grid_warning": (re.row_dims, re.grid_warning.reshape(re.shape), {
+            "units": "1", "long_name": "a limit may be crossed twice inside one temperature "
+                                       "step of this row (quadratic through three nodes)"}),
+    })
     out.attrs = dict(ds.attrs, edge_tolerance_K=tolerance)
     return out
 
