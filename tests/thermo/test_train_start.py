@@ -1,10 +1,10 @@
 """Where the secondary reformer's energy balance starts does not change its outlet.
 
-The sweep solves the secondary reformer along rows in passes (every k-th point of a row from
-the primary's temperature, then at halved strides the others from the cubic through the
-outlets already found; thermo.train.row_passes) and the exact edges start it from the line
-between a bracket's outlets; thermo.point starts every point from
-the primary's temperature. Checked here: the started outlets equal the unstarted ones to
+The sweep solves the secondary reformer along rows in passes (a row's first point from the
+primary's temperature, its middle and last from that outlet, then at halved strides the
+others from the cubic through the outlets already found; thermo.train.row_passes) and the
+exact edges start it from the line between a bracket's outlets; thermo.point starts every
+point from the primary's temperature. Checked here: the started outlets equal the unstarted ones to
 5e-7 K, and Cantera's HP equilibrium (https://cantera.org, a general-purpose reference
 library, tests only; same GRI-Mech 3.0 species data, tests/thermo/cantera_ref.py) to 1e-4 K.
 
@@ -48,7 +48,7 @@ def test_row_weights_reproduce_cubics():
     less than its number of nodes exactly (Lagrange interpolation on up to four anchors: a
     cubic, or a parabola on a row with three)."""
     for row in (6, 7, 17, 20):
-        anchors = row_passes(row)[0]
+        anchors = np.sort(np.concatenate(row_passes(row)[:-1]))  # all but the last pass's
         cols, W = _row_weights(row, anchors)
         np.testing.assert_allclose(W.sum(axis=1), 1.0, rtol=1e-13)
         j = np.arange(row, dtype=float)
@@ -58,14 +58,14 @@ def test_row_weights_reproduce_cubics():
 
 @pytest.mark.parametrize("oxidant, ratio", [("air", 0.25), ("oxygen", 0.5)])
 def test_passes_along_rows_give_the_single_pass_outlets(full, oxidant, ratio):
-    """Rows solved in passes (row > 1; three on rows of 11) give the secondary outlet
+    """Rows solved in passes (row > 1; five on rows of 11) give the secondary outlet
     temperatures, flows and the train's H2 product of the single pass from the primary's
     temperature (row = 1): to SAME_OUTLET_K, 1e-8 relative (the Dataset's grid-equals-point
     contract is 1e-9 on the temperatures) and 1e-9 relative."""
     sec = SecondaryReformer(oxidant, ratio, 823.15, 5.0)
     train = Train(secondary_reformer=sec, high_temperature_shift=full.train.high_temperature_shift)
     row = 11
-    assert len(row_passes(row)) == 3
+    assert [list(p) for p in row_passes(row)] == [[0], [5, 10], [4, 8], [2, 6], [1, 3, 7, 9]]
     feed, T, P = _rows(full, row)
     one = train_balance(train, feed, T, P, full.feed.inlet_temperature, full.approach, row=1)
     two = train_balance(train, feed, T, P, full.feed.inlet_temperature, full.approach, row=row)
@@ -80,11 +80,12 @@ def test_passes_along_rows_give_the_single_pass_outlets(full, oxidant, ratio):
 
 
 def test_started_outlets_match_cantera_hp_equilibrium(full):
-    """Points of a row started from the cubic through their neighbours (not anchors) have
+    """Points of a row started from the cubic through their neighbours (the last pass's) have
     Cantera's HP outlet temperature (1e-4 K) and mole fractions (1e-8)."""
     sec = SecondaryReformer("air", 0.3, 823.15, 0.0)
-    row = 7  # anchors 0, 2, 4, 6; columns 1, 3, 5 start from the cubic
-    assert [list(p) for p in row_passes(row)] == [[0, 2, 4, 6], [1, 3, 5]]
+    row = 7  # 0 from the primary, 3 and 6 from its outlet, 2 and 4 from the parabola, then
+    # 1 and 5 from the cubic through 0, 2, 3, 4 and 2, 3, 4, 6
+    assert [list(p) for p in row_passes(row)] == [[0], [3, 6], [2, 4], [1, 5]]
     feed, T, P = _rows(full, row, temperatures=(1103.15,), P=30e5)
     r = train_balance(Train(secondary_reformer=sec), feed, T, P, full.feed.inlet_temperature,
                       0.0, row=row)
