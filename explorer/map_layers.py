@@ -1,9 +1,7 @@
 """One slice of a sweep as plain map layers in display units: the variable's bands, labelled
 lines and node values, joined with what every map of the slice shares (explorer.map_window:
 carbon boundaries, the infeasible region and its edge, markers, grid nodes) into one map's
-layers (split from explorer.maps).
-
-The names of explorer.map_geometry and explorer.map_window stay importable from here.
+layers (split from explorer.maps, which keeps every name of the three importable).
 """
 
 from __future__ import annotations
@@ -15,12 +13,7 @@ import numpy as np
 import xarray as xr
 
 from explorer.display import DEFAULT
-from explorer.map_geometry import (  # noqa: F401 - re-exported
-    _paths,
-    _polys,
-    x_display,
-    y_display,
-)
+from explorer.map_geometry import _polys, x_display, y_display
 from explorer.map_variables import (
     CARBON_LINES,
     CHANGE_PALETTE,
@@ -31,25 +24,7 @@ from explorer.map_variables import (
     _band_colours,
     variable_levels,
 )
-from explorer.map_window import (  # noqa: F401 - re-exported
-    AXIS_WORDS,
-    MARKER_LAYERS,
-    _axis_value,
-    _match,
-    _with_side_ticks,
-    broken_limits,
-    carbon_forms,
-    carbon_margin,
-    carbon_words,
-    design_coordinates,
-    exact_window_polygons,
-    infeasibility,
-    marker_layers,
-    outlet_carbon_margin,
-    reference_carbon_layers,
-    scenario_markers,
-    window_layers,
-)
+from explorer.map_window import MARKER_LAYERS, window_layers
 
 
 def slice_fields(ds: xr.Dataset, mode: str, fixed: dict[str, int]) -> xr.Dataset:
