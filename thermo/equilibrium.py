@@ -55,6 +55,9 @@ MAX_ITERATIONS = 200
 TRACE_LIMIT = 1e-200
 #: Largest change of any element potential in one Newton step [-] (a factor e^20 in x).
 MAX_STEP = 20.0
+#: Largest last Newton step of the shift equation [-]: the mole fractions are then taken to
+#: first order in it (see `_shift`); its square times a few atoms is below 1e-16.
+SHIFT_STEP = 1e-9
 #: Mole fraction given to each basis species of an initial guess [-].
 BASIS_FLOOR = 0.2
 #: Species tried as members of an initial basis (the ones that can be major at equilibrium).
@@ -78,8 +81,16 @@ _A = np.array(formula_matrix())
 
 
 @numba.njit(cache=True)
-def _shift(z, m, active, t):
-    """Solve ln(sum_j exp(z_j + t m_j)) = 0 for t by Newton's method (convex, increasing)."""
+def _shift(z, m, active, t, x):
+    """Solve ln(sum_j exp(z_j + t m_j)) = 0 for t by Newton's method (convex, increasing).
+
+    Fills `x` with exp(z_j + t m_j) at the root. Newton stops once a step is below
+    SHIFT_STEP; the mole fractions are then taken from that step's exponentials e_j to first
+    order in the step dt: x_j = (e_j / s0) (1 + dt (m_j - mbar)), with s0 = sum e_j and mbar
+    the e-weighted mean of m. The neglected term, dt^2 (m_j - mbar)^2 / 2, is below 1e-16 of
+    x_j (m_j is at most a few atoms), as is the next Newton step (quadratic convergence), so
+    no second pass of exponentials is needed.
+    """
     S = z.shape[0]
     for _ in range(200):
         zmax = -np.inf
@@ -93,13 +104,19 @@ def _shift(z, m, active, t):
         for j in range(S):
             if active[j]:
                 e = math.exp(z[j] + t * m[j] - zmax)
+                x[j] = e
                 s0 += e
                 s1 += m[j] * e
+            else:
+                x[j] = 0.0
         phi = zmax + math.log(s0)
-        dt = -phi / (s1 / s0)
+        mbar = s1 / s0
+        dt = -phi / mbar
         t += dt
-        if abs(dt) <= 1e-15 * (1.0 + abs(t)):
+        if abs(dt) <= SHIFT_STEP or abs(dt) <= 1e-15 * (1.0 + abs(t)):
             break
+    for j in range(S):
+        x[j] = x[j] / s0 * (1.0 + dt * (m[j] - mbar))
     return t
 
 
@@ -134,14 +151,10 @@ def _evaluate(A, c, b, free, active, lam, t0, x, z, m):
             z[j] = acc
         else:
             z[j] = -np.inf
-    t = _shift(z, m, active, t0)
+    t = _shift(z, m, active, t0, x)
     q = 0.0
     for j in range(S):
-        if active[j]:
-            x[j] = math.exp(z[j] + t * m[j])
-            q += m[j] * x[j]
-        else:
-            x[j] = 0.0
+        q += m[j] * x[j]
     N = Bf / q
     D = t * Bf
     for e in range(E):
@@ -594,6 +607,7 @@ def _solve_batch(A, C, B, MU, allow_carbon, LAM0, use_lam0, row, cand, cand_size
         M = np.empty((E, E))
         free = np.empty(E, dtype=np.bool_)
         active = np.empty(S, dtype=np.bool_)
+        start_lam = np.empty(E)
         for rr in range(blk * nrows // nblock, (blk + 1) * nrows // nblock):
             start = rr * row
             stop = min(start + row, P)
@@ -607,8 +621,21 @@ def _solve_batch(A, C, B, MU, allow_carbon, LAM0, use_lam0, row, cand, cand_size
                         if (B[p, e] > 0.0) != (B[p - 1, e] > 0.0):
                             chained = False
                 if chained:
+                    # Two converged predecessors of the same phase assemblage: start from
+                    # the straight line through their potentials (the row's step is
+                    # taken as even), else from the predecessor's potentials.
+                    for e in range(E):
+                        start_lam[e] = lam_out[p - 1, e]
+                    if (p > start + 1 and conv_out[p - 2]
+                            and (carbon_out[p - 1] > 0.0) == (carbon_out[p - 2] > 0.0)):
+                        for e in range(E):
+                            if (B[p, e] > 0.0) != (B[p - 2, e] > 0.0):
+                                break
+                        else:
+                            for e in range(E):
+                                start_lam[e] = 2.0 * lam_out[p - 1, e] - lam_out[p - 2, e]
                     conv, it, carbon, lnac = _solve_point(
-                        A, C[p], B[p], MU[p], allow_carbon, lam_out[p - 1], chained, cand,
+                        A, C[p], B[p], MU[p], allow_carbon, start_lam, chained, cand,
                         cand_size, tol, max_iter, n_out[p], lam_out[p], work, H, M, free,
                         active, carbon_out[p - 1] > 0.0)
                 else:
