@@ -7,6 +7,9 @@ Public API::
     pt = thermo.point(sc, temperature="850 degC", pressure="25 bar", steam_to_carbon=3.0)
     pt.to_dict()
     ds = thermo.sweep(sc)                           # xarray.Dataset over the window
+
+Importing ``thermo`` sets NumPy's BLAS to one thread for the process unless the environment
+chooses it (``OPENBLAS_NUM_THREADS`` and the like): see :mod:`thermo.threads`.
 """
 
 from __future__ import annotations
@@ -18,6 +21,11 @@ from thermo.edges import best_point, margins
 from thermo.errors import InputError
 from thermo.scenario import Scenario, load_scenario, parse_scenario
 from thermo.sweep import sweep
+from thermo.threads import limit_blas_threads
+
+# One BLAS thread for the process: BLAS's idle threads would spin on the kernel's cores
+# (thermo/threads.py; a user's own setting in the environment is kept).
+limit_blas_threads()
 
 __all__ = [
     "InputError",
