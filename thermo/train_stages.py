@@ -16,8 +16,8 @@ from thermo.balances import (
     outlet_enthalpy,
     per_point,
 )
-from thermo.constants import R
-from thermo.equilibrium import equilibrate
+from thermo.constants import ELEMENTS, R
+from thermo.equilibrium import EquilibriumResult, equilibrate
 from thermo.reactions import SHIFT, delta_g_RT
 from thermo.scenario import STAGE_NAMES
 from thermo.species import GAS_SPECIES, GRAPHITE, cp_R, formula_matrix, gas_table, h_RT, record
@@ -283,19 +283,28 @@ def adiabatic_equilibrium(gas_flow, inlet_enthalpy, pressure, approach=0.0,
         warm[:] = warm_start
     done = np.zeros(N, dtype=bool)
     stepped = np.zeros(N, dtype=bool)
+    # The solve at each point's answer, kept where the iterations ended on one (`solved`):
+    # the final state is then not solved again.
+    final = _empty_result(N, gas_flow=n)
+    solved = np.zeros(N, dtype=bool)
     if guess is not None:
         done, stepped = _newton(residual, slope, np.clip(per_point(guess, N), lo, hi), lo, hi,
                                 tol, T, warm, warm_start is not None,
                                 accept_step=ACCEPT_STEP_K if accept_step is None
-                                else accept_step)
+                                else accept_step, final=final, solved=solved)
     rest = np.flatnonzero(~done)
     ok = done.copy()
     if rest.size:
         ok[rest] = _illinois(residual, rest, lo[rest], hi[rest], tol[rest], T, warm,
-                             max_iterations)
-    # Final state at the found temperatures (warm-started: a few iterations).
+                             max_iterations, final=final, solved=solved)
+    # Final state at the found temperatures: kept from the solve there, or solved now
+    # (warm-started: a few iterations) after a short accepted step or a failure.
     Tf = np.where(ok, T, 0.5 * (lo + hi))
-    eq = equilibrate(Tf - dT, P, b_el, warm_start=warm)
+    eq = final
+    need = np.flatnonzero(~(ok & solved))
+    if need.size:
+        _put(eq, need, equilibrate(Tf[need] - dT[need], P[need], b_el[need],
+                                   warm_start=warm[need]))
     resid = outlet_enthalpy(eq.moles, eq.carbon, Tf, P) - H_in
     good = eq.converged & (np.abs(resid) <= 100.0 * tol)
     again = np.flatnonzero(stepped & ok & ~good)
@@ -396,7 +405,7 @@ def equilibrium_heat_capacity(moles, carbon, T, T_eq, P, potentials: bool = Fals
 
 
 def _newton(residual, slope, T0, lo, hi, tol, T, warm, warm_first, steps: int = 12,
-            accept_step: float = 0.0):
+            accept_step: float = 0.0, final=None, solved=None):
     """Steps on the enthalpy balance from T0: Newton with the equilibrium heat capacity
     (:func:`equilibrium_heat_capacity`) first, then secant steps (each point's last two
     residuals; Newton again where the secant slope is not positive). A step no longer than
@@ -406,7 +415,9 @@ def _newton(residual, slope, T0, lo, hi, tol, T, warm, warm_first, steps: int = 
     secant step), and so does the final solve after a short step (through `warm`). Fills T
     and warm and returns the settled points (the others are left to the bracketed solve) and
     those of them settled by such a step. `slope(T, idx, eq)` returns (dH/dT, d lambda/dT)
-    at the points `idx`."""
+    at the points `idx`. Given `final` (an EquilibriumResult of all points) and `solved`,
+    the solve at each point settled on a residual is written into `final` and the point
+    marked in `solved`."""
     N = T0.size
     idx = np.arange(N)
     f, eq = residual(T0, idx, warm if warm_first else None)
@@ -422,6 +433,9 @@ def _newton(residual, slope, T0, lo, hi, tol, T, warm, warm_first, steps: int = 
         settled = active & (np.abs(f) <= tol[idx])
         T[idx[settled]] = b[idx[settled]]
         done[idx[settled]] = True
+        if final is not None and settled.any():
+            _put(final, idx[settled], _subset(eq, np.flatnonzero(settled)))
+            solved[idx[settled]] = True
         active &= ~settled
         if k == steps or not active.any():
             break
@@ -457,6 +471,16 @@ def _newton(residual, slope, T0, lo, hi, tol, T, warm, warm_first, steps: int = 
     return done, stepped
 
 
+def _empty_result(N: int, gas_flow) -> EquilibriumResult:
+    """An EquilibriumResult of N points to be filled by :func:`_put` (not converged)."""
+    S = np.asarray(gas_flow).shape[1]
+    return EquilibriumResult(moles=np.full((N, S), np.nan), carbon=np.full(N, np.nan),
+                             ln_carbon_activity=np.full(N, np.nan),
+                             element_potentials=np.full((N, len(ELEMENTS)), np.nan),
+                             converged=np.zeros(N, dtype=bool),
+                             iterations=np.zeros(N, dtype=np.int64))
+
+
 def _put(eq, k, sub) -> None:
     """Write the EquilibriumResult `sub` into `eq` at the points `k` (in place)."""
     for name in ("moles", "carbon", "ln_carbon_activity", "element_potentials", "converged",
@@ -472,11 +496,16 @@ def _subset(eq, k):
                                converged=eq.converged[k], iterations=eq.iterations[k])
 
 
-def _illinois(residual, idx, lo, hi, tol, T, warm, max_iterations) -> np.ndarray:
+def _illinois(residual, idx, lo, hi, tol, T, warm, max_iterations, final=None,
+              solved=None) -> np.ndarray:
     """Bracketed Illinois regula falsi on the points `idx`; fills T and warm there and
-    returns their success flags."""
+    returns their success flags. Given `final` and `solved` (see :func:`_newton`), the
+    solve at each point's last iterate (its answer) is written into `final`."""
     f_lo, _ = residual(lo, idx)
     f_hi, eq_hi = residual(hi, idx)
+    if final is not None:
+        _put(final, idx, eq_hi)
+        solved[idx] = True
     ok = (f_lo <= 0) & (f_hi >= 0)  # H_out rises with T
     m = idx.size
     a, fa, b, fb = lo.copy(), f_lo, hi.copy(), f_hi
@@ -497,6 +526,8 @@ def _illinois(residual, idx, lo, hi, tol, T, warm, max_iterations) -> np.ndarray
         c = np.where(bad, 0.5 * (ak + bk), c)
         fc, eq = residual(c, idx[k], w[k])
         w[k] = eq.element_potentials
+        if final is not None:
+            _put(final, idx[k], eq)
         # Keep the bracket [a, b] with fa <= 0 <= fb (a is the cold end).
         neg = fc < 0
         a[k] = np.where(neg, c, ak)
