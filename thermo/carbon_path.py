@@ -33,8 +33,11 @@ REFINE_XTOL = 2e-3
 REFINE_GAIN = 1e-10
 #: Iteration cap of the refinement.
 REFINE_ITERATIONS = 40
-#: Gas-only solves of fewer points than this run on one thread [-].
-SMALL_BATCH = 4096
+#: Gas-only solves of fewer points than this run on one thread [-]. 4096 until BLAS ran on
+#: one thread (thermo/threads.py); since then two threads win from a few hundred points
+#: (sweep medians, 2026-12-04, idle 2-core machine: 40 x 20 x 20 window 112 ms at 4096, 110 at
+#: 512, 105 at 128 and 106 at 32; demo 52.6, 52.9, 47.1, 47.2 ms).
+SMALL_BATCH = 128
 #: Binding criterion codes (``carbon_binding``: value = index), CF-style flag meanings.
 BINDING = ("outlet_equilibrium", "path_equilibrium", "real_gas", "higher_hydrocarbons",
            "other_stage")
