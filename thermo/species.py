@@ -184,15 +184,32 @@ def _coefficient_table() -> tuple:
     return (names, {n: i for i, n in enumerate(names)}) + arrays
 
 
+#: Temperatures evaluated per slice by :func:`_evaluate`: its (records x slice) temporaries
+#: then stay in the processor's cache. 11 records at 16,000 temperatures took 12.8 ms in one
+#: piece and 3-4 ms in slices of 1,024 (2026-12-04); the numbers are the same either way
+#: (every element's arithmetic is its own).
+EVALUATE_SLICE = 1024
+
+
 def _evaluate(T: np.ndarray, rows, only: str | None = None) -> dict[str, np.ndarray]:
     """cp/R, h/RT, s/R and g/RT (or `only` that one) of the records `rows` at 1-D
     temperatures T, each (k, T.size).
 
     The same arithmetic, operation for operation, as the formulas in the docstrings of
-    :func:`cp_R`, :func:`h_RT` and :func:`s_R` (low range at T <= t_mid).
+    :func:`cp_R`, :func:`h_RT` and :func:`s_R` (low range at T <= t_mid). Long arrays are
+    evaluated in slices of EVALUATE_SLICE temperatures.
     """
-    _, _, low, high, t_mid, _, _, s_shift = _coefficient_table()
     rows = np.asarray(rows, dtype=np.intp)
+    if T.size > EVALUATE_SLICE:
+        parts = [_evaluate_slice(T[i:i + EVALUATE_SLICE], rows, only)
+                 for i in range(0, T.size, EVALUATE_SLICE)]
+        return {k: np.concatenate([p[k] for p in parts], axis=1) for k in parts[0]}
+    return _evaluate_slice(T, rows, only)
+
+
+def _evaluate_slice(T: np.ndarray, rows: np.ndarray, only: str | None) -> dict[str, np.ndarray]:
+    """:func:`_evaluate` on one slice of temperatures."""
+    _, _, low, high, t_mid, _, _, s_shift = _coefficient_table()
     upper = T[None, :] > t_mid[rows, None]  # (k, n): high range
     # One contiguous (k, n) array per coefficient: the arithmetic below then runs on
     # contiguous memory (several times faster than on strided views of a (k, n, 7) gather).
