@@ -228,38 +228,46 @@ def _evaluate_slice(T: np.ndarray, rows: np.ndarray, only: str | None) -> dict[s
     return out
 
 
-def _distinct(flat: np.ndarray):
-    """(inverse index or None, values of every record) for a long 1-D temperature array.
+def _distinct(flat: np.ndarray, what: str):
+    """(inverse index or None, values of every record) for a long 1-D temperature array,
+    the values holding at least the NASA function `what`.
 
     An array that repeats its values (a window's grid) is evaluated once per distinct
     temperature (values over those, and the inverse index back to the array); any other
-    (an adiabatic stage's iterates) once for all records and functions (inverse None). Both
-    are kept in small caches keyed by the array's bytes, so every variable of a sweep chunk,
-    and every function a solver step needs, shares one evaluation.
+    (an adiabatic stage's iterates) once for all records (inverse None). Both are kept in
+    small caches keyed by the array's bytes, so every variable of a sweep chunk, and every
+    function a solver step needs, shares one evaluation; each function is evaluated the first
+    time it is asked for at that array (g/RT brings h/RT and s/R along), so a solver step that
+    needs only g/RT at one temperature and h/RT at another skips the other functions.
     """
     key = flat.tobytes()
+    hit = None
     with _cache_lock:
         for store in (_cache, _cache_all):
             hit = store.get(key)
             if hit is not None:
                 store.move_to_end(key)
-                return hit
-    names = _coefficient_table()[0]
-    rows = np.arange(len(names))
-    # Cheap test first: a grid's temperature axis repeats in long runs, so a prefix of a
-    # repeating array repeats too; an array of all-distinct values skips the sort.
-    entry = None
-    if np.unique(flat[:DEDUPE_MIN]).size <= DEDUPE_MIN // 2:
-        Tu, inv = np.unique(flat, return_inverse=True)
-        if Tu.size * 4 <= flat.size:
-            entry, store, size = (inv.reshape(-1), _evaluate(Tu, rows)), _cache, _CACHE_SIZE
-    if entry is None:
-        entry, store, size = (None, _evaluate(flat, rows)), _cache_all, _CACHE_ALL_SIZE
-    with _cache_lock:
-        store[key] = entry
-        while len(store) > size:
-            store.popitem(last=False)
-    return entry
+                break
+    if hit is None:
+        # Cheap test first: a grid's temperature axis repeats in long runs, so a prefix of a
+        # repeating array repeats too; an array of all-distinct values skips the sort.
+        entry = None
+        if np.unique(flat[:DEDUPE_MIN]).size <= DEDUPE_MIN // 2:
+            Tu, inv = np.unique(flat, return_inverse=True)
+            if Tu.size * 4 <= flat.size:
+                entry, store, size = (inv.reshape(-1), {}, Tu), _cache, _CACHE_SIZE
+        if entry is None:
+            entry, store, size = (None, {}, flat.copy()), _cache_all, _CACHE_ALL_SIZE
+        with _cache_lock:
+            store[key] = entry
+            while len(store) > size:
+                store.popitem(last=False)
+        hit = entry
+    inv, vals, at = hit
+    if what not in vals:
+        rows = np.arange(len(_coefficient_table()[0]))
+        vals.update(_evaluate(at, rows, what))
+    return inv, vals
 
 
 def nasa_values(T, names: tuple[str, ...], what: str) -> np.ndarray:
@@ -284,7 +292,7 @@ def nasa_values(T, names: tuple[str, ...], what: str) -> np.ndarray:
                 record(n)._coeffs(T)  # raises with the usual message
     shape = (len(rows),) + T.shape
     if flat.size >= DEDUPE_MIN:
-        inv, vals = _distinct(flat)
+        inv, vals = _distinct(flat, what)
         if inv is None:
             return vals[what][rows].reshape(shape)
         # np.take keeps C order (as the direct evaluation): sums over species downstream
