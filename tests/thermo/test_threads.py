@@ -26,9 +26,11 @@ def blas_threads():  # not thermo's own helper: importing it would import thermo
 threadpool_limits(limits=2, user_api="blas")   # a BLAS that runs two threads before import
 before = blas_threads()
 import thermo
+from thermo.threads import blas_threads as thermo_blas_threads  # the helper DEVELOPERS names
 after = blas_threads()
+assert thermo_blas_threads() == after
 seen = []
-t = threading.Thread(target=lambda: seen.append(blas_threads()))
+t = threading.Thread(target=lambda: seen.append(thermo_blas_threads()))
 t.start(); t.join()
 print(json.dumps({"before": before, "after": after, "thread": seen[0]}))
 """
