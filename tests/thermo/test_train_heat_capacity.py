@@ -55,7 +55,7 @@ def test_compiled_heat_capacity_equals_the_numpy_path():
     # largest term), with and without graphite, with elements absent (no N, Ar in the plain
     # feed) and present (air), over a range of temperatures. It is also checked against
     # the finite difference above through the long call.
-    import thermo.train_stages as ts
+    import thermo.heat_capacity as ts
 
     feed = _feeds()
     reps = -(-ts.HEAT_CAPACITY_KERNEL_MIN // feed.shape[0])
